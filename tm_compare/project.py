@@ -1,0 +1,125 @@
+"""A project folder: everything one study produces, with a manifest.
+
+Layout (each stage owns one sub-folder; all writes are atomic)::
+
+    PROJECT/
+      manifest.json     settings, corpus fingerprint, package versions
+      corpus.parquet    the corpus after intake
+      prepared/         prepared corpora, one folder per settings fingerprint
+      fits/             one file per fitted model
+      scores/           score tables of the sweep
+      comparison/       comparison tables
+      labels.sqlite     the default label store
+      report/           report and exports
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import json
+import os
+import platform
+from importlib import metadata
+from pathlib import Path
+from typing import Any
+
+from ._atomic import atomic_write_json
+from .errors import ProjectError
+
+MANIFEST = "manifest.json"
+FORMAT = "tm_compare project"
+FORMAT_VERSION = 1
+_VERSIONED = ("tm_compare", "numpy", "scipy", "pandas", "gensim", "scikit-learn", "altair")
+
+
+def package_versions() -> dict[str, str]:
+    """Versions of Python and the packages whose changes can change results."""
+    versions = {"python": platform.python_version()}
+    for name in _VERSIONED:
+        try:
+            versions[name] = metadata.version(name)
+        except metadata.PackageNotFoundError:
+            versions[name] = "not installed"
+    return versions
+
+
+class Project:
+    """A study's folder. Use :meth:`create` for a new one and :meth:`open` for an existing one."""
+
+    def __init__(self, path: str | os.PathLike):
+        self.path = Path(path)
+
+    def __repr__(self) -> str:
+        return f"Project({str(self.path)!r})"
+
+    def __fspath__(self) -> str:
+        return str(self.path)
+
+    @classmethod
+    def create(cls, path: str | os.PathLike) -> Project:
+        """Create the folder and its manifest, or open it if it is already a project."""
+        project = cls(path)
+        if (project.path / MANIFEST).exists():
+            return cls.open(path)
+        if project.path.exists() and not project.path.is_dir():
+            raise ProjectError(
+                f"Cannot create a project at {str(project.path)!r}: it is a file. "
+                "Choose a folder path that does not exist yet or is a folder."
+            )
+        project.path.mkdir(parents=True, exist_ok=True)
+        now = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
+        atomic_write_json(
+            project.path / MANIFEST,
+            {"format": FORMAT, "format_version": FORMAT_VERSION, "created": now,
+             "package_versions": package_versions(), "settings": {}},
+        )
+        return project
+
+    @classmethod
+    def open(cls, path: str | os.PathLike) -> Project:
+        """Open an existing project, checking its manifest."""
+        project = cls(path)
+        manifest_path = project.path / MANIFEST
+        if not manifest_path.exists():
+            raise ProjectError(
+                f"{str(project.path)!r} is not a tm_compare project (no {MANIFEST}). "
+                "Create one with `tm-compare prepare ... --project DIR` or Project.create(DIR)."
+            )
+        manifest = project.manifest
+        if manifest.get("format") != FORMAT:
+            raise ProjectError(f"{str(manifest_path)!r} is not a tm_compare manifest.")
+        if int(manifest.get("format_version", 0)) > FORMAT_VERSION:
+            raise ProjectError(
+                f"The project {str(project.path)!r} was written by a newer tm_compare "
+                f"(format {manifest['format_version']}, this version reads up to {FORMAT_VERSION}). "
+                "Upgrade tm_compare to open it."
+            )
+        return project
+
+    @property
+    def manifest(self) -> dict[str, Any]:
+        """The manifest as a dict (read fresh from disk)."""
+        path = self.path / MANIFEST
+        try:
+            return json.loads(path.read_text(encoding="utf-8"))
+        except (OSError, json.JSONDecodeError) as exc:
+            raise ProjectError(f"Cannot read the project manifest {str(path)!r}: {exc}") from exc
+
+    def update_manifest(self, **entries: Any) -> dict[str, Any]:
+        """Merge ``entries`` into the manifest (dicts merge one level deep) and save it atomically."""
+        manifest = self.manifest
+        for key, value in entries.items():
+            if isinstance(value, dict) and isinstance(manifest.get(key), dict):
+                manifest[key] = {**manifest[key], **value}
+            else:
+                manifest[key] = value
+        manifest["package_versions"] = package_versions()
+        manifest["updated"] = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
+        atomic_write_json(self.path / MANIFEST, manifest)
+        return manifest
+
+    def folder(self, name: str) -> Path:
+        """The sub-folder ``name``, created if missing."""
+        sub = self.path / name
+        sub.mkdir(parents=True, exist_ok=True)
+        return sub
