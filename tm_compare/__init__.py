@@ -31,16 +31,19 @@ _EXPORTS = {
     "prevalence": "comparison",
     "differences": "comparison",
     "influence": "comparison",
+    "cap_effect": "comparison",
     "term_rankings": "terms",
     "source_wording": "terms",
     "representative_documents": "documents",
     "align_topics": "alignment",
     "lineage": "alignment",
+    "similarity_matrix": "alignment",
     "LabelStore": "labels",
     "agreement": "agreement",
     "SweepView": "widgets",
     "TopicView": "widgets",
     "write_report": "report",
+    "run_demo": "pipeline",
 }
 
 __all__ = sorted(_EXPORTS) + ["errors", "demo", "__version__", "load_ipython_extension"]

@@ -14,6 +14,11 @@ from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
+# mkstemp creates files readable by the owner only; a project folder is shared
+# with collaborators, so finished files get the usual permissions instead.
+_UMASK = os.umask(0o022)
+os.umask(_UMASK)
+
 
 @contextlib.contextmanager
 def atomic_path(target: str | os.PathLike) -> Iterator[Path]:
@@ -27,6 +32,7 @@ def atomic_path(target: str | os.PathLike) -> Iterator[Path]:
     os.close(fd)
     tmp_path = Path(tmp)
     try:
+        os.chmod(tmp_path, 0o666 & ~_UMASK)
         yield tmp_path
         with open(tmp_path, "rb+") as fh:
             os.fsync(fh.fileno())

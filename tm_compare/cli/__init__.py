@@ -17,7 +17,7 @@ import traceback
 from ..errors import TmCompareError
 
 # Order here is the order in ``tm-compare --help``.
-COMMANDS = ("demo", "prepare")
+COMMANDS = ("demo", "prepare", "sweep", "compare", "labels")
 
 
 def build_parser() -> argparse.ArgumentParser:

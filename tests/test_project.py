@@ -1,0 +1,146 @@
+"""The project folder: manifest, saved corpus, version checks, failed saves."""
+
+from __future__ import annotations
+
+import errno
+import json
+from importlib import metadata
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from tm_compare import Corpus, Project
+from tm_compare.errors import CorruptArtifactError, ProjectError
+from tm_compare.project import CORPUS_FILE, CORPUS_REPORT, FORMAT_VERSION, MANIFEST
+
+FIXTURE = Path(__file__).resolve().parents[1] / "fixtures" / "intake" / "quillhaven_articles.csv"
+COLUMNS = dict(
+    text="body",
+    source="stream",
+    id="article_id",
+    weight="visits",
+    group="reader",
+    url="link",
+    date="published",
+    title="headline",
+)
+
+
+@pytest.fixture
+def corpus() -> Corpus:
+    return Corpus.read(FIXTURE, **COLUMNS)
+
+
+def test_create_writes_a_manifest(tmp_path):
+    project = Project.create(tmp_path / "study")
+    manifest = project.manifest
+    assert manifest["format"] == "tm_compare project"
+    assert manifest["format_version"] == FORMAT_VERSION
+    # Versions come from the installed distributions (importlib.metadata is the reference).
+    assert manifest["package_versions"]["pandas"] == metadata.version("pandas")
+    assert manifest["package_versions"]["gensim"] == metadata.version("gensim")
+    assert Project.create(tmp_path / "study").manifest["created"] == manifest["created"]  # reopens
+
+
+def test_saved_corpus_reloads_identically(tmp_path, corpus):
+    project = Project.create(tmp_path / "study")
+    project.save_corpus(corpus)
+    again = Project.open(tmp_path / "study").load_corpus()
+    pd.testing.assert_frame_equal(again.frame, corpus.frame)
+    assert again.fingerprint == corpus.fingerprint
+    assert again.report.to_dict() == corpus.report.to_dict()
+    assert str(again.report) == str(corpus.report)
+    assert again.settings == json.loads(json.dumps(corpus.settings))
+    manifest = project.manifest
+    assert manifest["corpus"]["fingerprint"] == corpus.fingerprint
+    assert manifest["corpus"]["documents"] == 5 and manifest["corpus"]["input_rows"] == 8
+    assert manifest["settings"]["intake"]["columns"]["text"] == "body"
+    assert (project.path / CORPUS_REPORT).exists()
+    stamp = (project.path / CORPUS_FILE).stat().st_mtime_ns
+    project.save_corpus(again)  # the same content again: nothing is rewritten
+    assert (project.path / CORPUS_FILE).stat().st_mtime_ns == stamp
+
+
+def test_newer_format_version_is_refused(tmp_path):
+    project = Project.create(tmp_path / "study")
+    manifest = project.manifest
+    manifest["format_version"] = FORMAT_VERSION + 1
+    (project.path / MANIFEST).write_text(json.dumps(manifest))
+    with pytest.raises(ProjectError) as info:
+        Project.open(project.path)
+    msg = str(info.value)
+    assert f"was written by a newer tm_compare (format {FORMAT_VERSION + 1}" in msg
+    assert f"this version reads up to {FORMAT_VERSION}" in msg
+    assert "Upgrade tm_compare to open it." in msg
+    manifest["format_version"] = "2.0"
+    (project.path / MANIFEST).write_text(json.dumps(manifest))
+    with pytest.raises(ProjectError, match=r"has format_version '2.0'; a whole number up to"):
+        Project.open(project.path)
+    (project.path / MANIFEST).write_text(json.dumps({"format": "something else"}))
+    with pytest.raises(ProjectError, match=r"is not a tm_compare manifest"):
+        Project.open(project.path)
+
+
+def test_not_a_project_and_broken_manifest(tmp_path):
+    with pytest.raises(ProjectError, match=r"is not a tm_compare project \(no manifest.json\)"):
+        Project.open(tmp_path)
+    (tmp_path / MANIFEST).write_text("{half a manifest")
+    with pytest.raises(ProjectError, match=r"Cannot read the project manifest"):
+        Project.open(tmp_path)
+    afile = tmp_path / "afile"
+    afile.write_text("x")
+    with pytest.raises(ProjectError, match=r"it is a file"):
+        Project.create(afile)
+
+
+def test_load_without_a_saved_corpus(tmp_path):
+    with pytest.raises(
+        ProjectError, match=r"holds no saved corpus. Save one with project.save_corpus"
+    ):
+        Project.create(tmp_path).load_corpus()
+
+
+def test_truncated_corpus_file_is_refused(tmp_path, corpus):
+    project = Project.create(tmp_path)
+    path = project.save_corpus(corpus)
+    path.write_bytes(path.read_bytes()[:100])
+    with pytest.raises(CorruptArtifactError, match=r"cannot be read: .*Save the corpus again"):
+        project.load_corpus()
+
+
+def test_swapped_corpus_file_is_refused(tmp_path, corpus):
+    project = Project.create(tmp_path)
+    project.save_corpus(corpus)
+    other = Corpus.from_frame(pd.DataFrame({"text": ["Pier reopens"], "source": ["archive"]}))
+    other.frame.to_parquet(tmp_path / CORPUS_FILE, index=False)  # written behind the project's back
+    with pytest.raises(CorruptArtifactError, match=r"does not match the manifest"):
+        project.load_corpus()
+
+
+def test_failed_save_keeps_the_previous_corpus(tmp_path, corpus, monkeypatch):
+    project = Project.create(tmp_path)
+    project.save_corpus(corpus)
+    before = sorted(p.name for p in tmp_path.iterdir())
+    smaller = Corpus.from_frame(corpus.frame.iloc[:2])
+
+    def disk_full(self, path, *args, **kwargs):
+        Path(path).write_bytes(b"PAR1 partial")
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(pd.DataFrame, "to_parquet", disk_full)
+    with pytest.raises(OSError, match="No space left"):
+        project.save_corpus(smaller)
+    monkeypatch.undo()
+    assert sorted(p.name for p in tmp_path.iterdir()) == before  # no temporary file left
+    assert project.load_corpus().fingerprint == corpus.fingerprint
+
+
+def test_unstorable_extra_column_is_a_clear_error(tmp_path):
+    df = pd.DataFrame({"text": ["a", "b"], "source": "s", "extra": [1, "two"]})
+    project = Project.create(tmp_path)
+    with pytest.raises(
+        ProjectError, match=r"Cannot save the corpus to .*corpus.parquet.*astype\(str\)"
+    ):
+        project.save_corpus(Corpus.from_frame(df))
+    assert not (tmp_path / CORPUS_FILE).exists()

@@ -1,0 +1,319 @@
+"""Coherence against gensim's CoherenceModel; stability, diversity and recommend by hand."""
+
+from __future__ import annotations
+
+import itertools
+import os
+import warnings
+
+import gensim
+import numpy as np
+import pandas as pd
+import pytest
+from gensim.corpora import Dictionary
+from gensim.models import CoherenceModel, LdaModel
+from gensim.utils import simple_preprocess
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from tm_compare.errors import InputError, SettingsError
+from tm_compare.scores import (
+    CoherenceScorer,
+    average_jaccard,
+    coherence,
+    diversity,
+    match_topics,
+    recommend,
+    stability,
+)
+
+GENSIM_NAMES = {"npmi": "c_npmi", "c_v": "c_v", "uci": "c_uci", "umass": "u_mass"}
+
+
+def gensim_per_topic(topics, texts, dictionary, measure, topn=10):
+    """Reference: gensim 4 CoherenceModel(...).get_coherence_per_topic(), one process."""
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        model = CoherenceModel(
+            topics=topics,
+            texts=texts,
+            dictionary=dictionary,
+            coherence=GENSIM_NAMES[measure],
+            topn=topn,
+            processes=1,
+        )
+        return np.array(model.get_coherence_per_topic(), dtype=float)
+
+
+@pytest.fixture(scope="module")
+def lee():
+    # Lee, Pincombe & Welsh 2005 news corpus, shipped with gensim's test data.
+    path = os.path.join(os.path.dirname(gensim.__file__), "test", "test_data", "lee_background.cor")
+    with open(path, encoding="utf-8") as handle:
+        texts = [simple_preprocess(line) for line in handle]
+    return texts, Dictionary(texts)
+
+
+def _lda_top_words(texts, dictionary, k, topn=10):
+    bow = [dictionary.doc2bow(t) for t in texts]
+    lda = LdaModel(bow, id2word=dictionary, num_topics=k, passes=1, random_state=k, eval_every=None)
+    return [
+        [dictionary[int(i)] for i in np.argsort(-row, kind="stable")[:topn]]
+        for row in lda.get_topics()
+    ]
+
+
+@pytest.mark.slow
+def test_equals_gensim_on_lee_corpus_for_several_models(lee):
+    # Reference: gensim CoherenceModel per model, all four measures, gensim's default
+    # windows (c_v 110, c_uci/c_npmi 10), on lee_background.cor. Models: two quick
+    # LDA fits (k = 3, 6) and one of vocabulary samples mixed with words the
+    # dictionary lacks (dropped before taking the top 10, as gensim does).
+    texts, dictionary = lee
+    rng = np.random.default_rng(7)
+    vocab = sorted(dictionary.token2id)
+    sampled = [
+        list(rng.choice(vocab, 8, replace=False)) + ["qzxnotaword", "vvmissing"] for _ in range(4)
+    ]
+    models = [_lda_top_words(texts, dictionary, 3), _lda_top_words(texts, dictionary, 6), sampled]
+    scorer = CoherenceScorer(texts, dictionary).fit(models)
+    # Per-topic values do not depend on the other topics scored alongside, so one
+    # gensim run over all models' topics gives every model's reference values.
+    everything = [t for m in models for t in m]
+    for measure in GENSIM_NAMES:
+        expected = gensim_per_topic(everything, texts, dictionary, measure)
+        got = np.concatenate([scorer.score(m)[measure] for m in models])
+        np.testing.assert_allclose(got, expected, rtol=0, atol=1e-9)
+
+
+def test_held_out_reference_texts_and_truncation_equal_gensim(lee):
+    # Reference: gensim CoherenceModel with a dictionary from all texts and a held-out
+    # part (40 documents) as reference texts: topic words that never occur there have
+    # zero counts (UMass 0 for their pairs, NPMI/UCI infinite, C_V NaN in gensim).
+    # Topics of 12 words with missing words in later topics check gensim's order:
+    # drop words outside the dictionary first, then keep the top 10.
+    texts, dictionary = lee
+    held_out = texts[-40:]
+    seen = sorted({w for t in held_out for w in t})
+    unseen = sorted(set(dictionary.token2id) - set(seen))
+    rng = np.random.default_rng(11)
+    topics = [list(rng.choice(seen, 12, replace=False))]
+    topics += [
+        list(rng.choice(seen, 9, replace=False)) + ["notinthedictionary", *rng.choice(unseen, 2)]
+        for _ in range(3)
+    ]
+    scorer = CoherenceScorer(held_out, dictionary).fit([topics])
+    for measure in GENSIM_NAMES:
+        expected = gensim_per_topic(topics, held_out, dictionary, measure)
+        got = scorer.score(topics)[measure]
+        np.testing.assert_allclose(got, expected, rtol=0, atol=1e-9, equal_nan=True)
+    assert np.isinf(scorer.score(topics)["npmi"][1:]).all()  # gensim has no guard here
+
+
+words = st.sampled_from("abcdefgh")
+texts_strategy = st.lists(
+    st.lists(st.sampled_from("abcdefghxy"), max_size=16), min_size=2, max_size=7
+)
+topics_strategy = st.lists(
+    st.lists(words | st.just("oov"), min_size=3, max_size=5), min_size=1, max_size=3
+)
+
+
+@settings(max_examples=40, deadline=None, database=None)
+@given(
+    texts=texts_strategy,
+    topics=topics_strategy,
+    windows=st.tuples(st.integers(1, 6), st.integers(2, 12)),
+)
+def test_adversarial_small_corpora_equal_gensim(texts, topics, windows):
+    # Reference: gensim CoherenceModel. Corpora with repeated words inside windows,
+    # texts shorter than the window and empty texts; "x" and "y" are outside the
+    # dictionary but take positions; "oov" in topics is dropped; topics may repeat a
+    # word; dictionary words absent from the texts have zero counts.
+    dictionary = Dictionary([list("abcdefgh")])
+    topics = [t for t in topics if any(w != "oov" for w in t)]
+    if not topics:
+        return
+    small, large = windows
+    sizes = {"npmi": small, "uci": small, "c_v": large}
+    scorer = CoherenceScorer(texts, dictionary, topn=4, window_sizes=sizes).fit([topics])
+    got = scorer.score(topics)
+    for measure, name in GENSIM_NAMES.items():
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)
+            ref = CoherenceModel(
+                topics=topics,
+                texts=texts,
+                dictionary=dictionary,
+                coherence=name,
+                topn=4,
+                window_size=sizes.get(measure),
+                processes=1,
+            ).get_coherence_per_topic()
+        np.testing.assert_allclose(
+            got[measure], np.array(ref, dtype=float), rtol=0, atol=1e-9, equal_nan=True
+        )
+
+
+def test_topic_without_known_words_is_nan():
+    # gensim raises ValueError for such a topic (it cannot map it to ids); a sweep
+    # must not stop, so it gets NaN.
+    texts, dictionary = [list("abcab"), list("bca")], Dictionary([list("abc")])
+    topics = [["a", "b", "c"], ["p", "q"]]
+    with pytest.raises(ValueError):
+        CoherenceModel(
+            topics=topics, texts=texts, dictionary=dictionary, coherence="c_npmi", processes=1
+        )
+    result = CoherenceScorer(texts, dictionary).fit([topics]).score(topics)
+    for values in result.values():
+        assert np.isfinite(values[0]) and np.isnan(values[1])
+
+
+def test_convenience_equals_scorer(lee):
+    texts, dictionary = lee
+    texts = texts[:60]
+    topics = [["said", "government", "people", "minister"], ["fire", "sydney", "new", "area"]]
+    scorer = CoherenceScorer(texts, dictionary, window_sizes={"c_v": 50}).fit([topics])
+    for measure in GENSIM_NAMES:
+        window = 50 if measure == "c_v" else None
+        alone = coherence(texts, topics, measure, dictionary=dictionary, window_size=window)
+        np.testing.assert_array_equal(alone, scorer.score(topics)[measure])
+    # NPMI is the default measure; gensim's name is accepted as an alias.
+    np.testing.assert_array_equal(
+        coherence(texts, topics, dictionary=dictionary), scorer.score(topics)["npmi"]
+    )
+    np.testing.assert_array_equal(
+        coherence(texts, topics, "c_npmi", dictionary=dictionary), scorer.score(topics)["npmi"]
+    )
+
+
+def test_scorer_refuses_bad_input():
+    texts = [list("abcab")]
+    with pytest.raises(SettingsError, match="'measures'"):
+        CoherenceScorer(texts, measures=("nmpi",)).fit([[["a", "b"]]])
+    with pytest.raises(SettingsError, match="'topn'"):
+        CoherenceScorer(texts, topn=0).fit([[["a", "b"]]])
+    with pytest.raises(SettingsError, match="'window_sizes'"):
+        CoherenceScorer(texts, window_sizes={"npmi": 0}).fit([[["a", "b"]]])
+    with pytest.raises(SettingsError, match="'models_top_words'"):
+        CoherenceScorer(texts).fit([["a", "b"]])
+    with pytest.raises(InputError, match="before fit"):
+        CoherenceScorer(texts).score([["a", "b"]])
+    scorer = CoherenceScorer(texts).fit([[["a", "b"]]])
+    with pytest.raises(SettingsError, match="passed to fit"):
+        scorer.score([["a", "c"]])
+
+
+def test_average_jaccard_by_hand():
+    # By hand from the definition (Greene, O'Callaghan & Cunningham 2014, eq. 1):
+    # depth 1: {x} vs {y} -> 0; depth 2: {x,y} vs {y,x} -> 1; depth 3: {x,y,z} vs
+    # {y,x,w} -> 2/4. AJ = (0 + 1 + 0.5) / 3 = 0.5.
+    assert average_jaccard(["x", "y", "z"], ["y", "x", "w"]) == pytest.approx(0.5)
+    # The paper's own example (recalled from memory): album music best award win vs
+    # sport best win medal award -> 0, 0, 1/5, 1/7, 3/7, AJ = 0.154.
+    a = ["album", "music", "best", "award", "win"]
+    b = ["sport", "best", "win", "medal", "award"]
+    assert average_jaccard(a, b) == pytest.approx((0.2 + 1 / 7 + 3 / 7) / 5)
+    assert round(average_jaccard(a, b), 3) == 0.154
+    with pytest.raises(SettingsError, match="'depth'"):
+        average_jaccard(a, b, depth=6)
+
+
+def test_match_topics_is_the_best_one_to_one_matching():
+    # Reference: exhaustive search over all one-to-one matchings.
+    rng = np.random.default_rng(5)
+    vocab = [f"w{i}" for i in range(12)]
+    a = [list(rng.choice(vocab, 5, replace=False)) for _ in range(4)]
+    b = [list(rng.choice(vocab, 5, replace=False)) for _ in range(4)]
+    pairs, scores = match_topics(a, b, depth=5)
+    best = max(
+        sum(average_jaccard(a[i], b[j], 5) for i, j in enumerate(perm))
+        for perm in itertools.permutations(range(4))
+    )
+    assert scores.sum() == pytest.approx(best)
+    assert sorted(pairs[:, 1].tolist()) == [0, 1, 2, 3]
+
+
+def test_stability_by_hand():
+    # Seeds 0 and 2 identical; seed 1 differs. Depth 2, by hand:
+    # AJ(T0=[a,b], U0=[c,e]) = 0; AJ(T0, U1=[b,a]) = (0 + 1)/2 = 0.5;
+    # AJ(T1=[c,d], U0) = (1 + 1/3)/2 = 2/3; AJ(T1, U1) = 0.
+    # Best matching T0-U1, T1-U0: pair (0, 1) = (0.5 + 2/3)/2 = 7/12; pair (0, 2) = 1;
+    # pair (1, 2) = 7/12. Per fit: seed 0 = (7/12 + 1)/2 = 19/24, seed 1 = 7/12.
+    # Per topic: seed 0 T0 = (0.5 + 1)/2 = 0.75, T1 = (2/3 + 1)/2 = 5/6; seed 1 U0 = 2/3, U1 = 0.5.
+    run = [["a", "b"], ["c", "d"]]
+    by_seed = {0: run, 1: [["c", "e"], ["b", "a"]], 2: run}
+    per_fit, per_topic, per_pair = stability(by_seed, depth=2)
+    assert per_pair["stability"].tolist() == pytest.approx([7 / 12, 1.0, 7 / 12])
+    assert per_pair[["seed_a", "seed_b"]].values.tolist() == [[0, 1], [0, 2], [1, 2]]
+    assert per_fit.set_index("seed")["stability"].to_dict() == pytest.approx(
+        {0: 19 / 24, 1: 7 / 12, 2: 19 / 24}
+    )
+    topic = per_topic.set_index(["seed", "topic"])["stability"]
+    assert topic[(0, 0)] == pytest.approx(0.75)
+    assert topic[(0, 1)] == pytest.approx(5 / 6)
+    assert topic[(1, 0)] == pytest.approx(2 / 3)
+    assert topic[(1, 1)] == pytest.approx(0.5)
+    one = stability({0: run})
+    assert one[0]["stability"].isna().all() and one[2].empty
+
+
+def test_diversity_by_hand():
+    # Dieng, Ruiz & Blei 2020: unique words / all words among the topics' top 25.
+    # By hand: {a, b, c, d, e} over 6 words = 5/6.
+    assert diversity([["a", "b", "c"], ["a", "d", "e"]]) == pytest.approx(5 / 6)
+    # Only the top `topn` count: top 2 -> {a, b, d} over 4.
+    assert diversity([["a", "b", "c"], ["a", "d", "e"]], topn=2) == pytest.approx(3 / 4)
+    # 40 topics of 25 distinct words each, no overlap -> 1.
+    assert diversity([[f"t{i}w{j}" for j in range(30)] for i in range(40)]) == 1.0
+
+
+@pytest.fixture
+def crafted():
+    # Stability falls with k; NPMI rises. Best stability 0.80 at k = 5 with standard
+    # error sd(0.78, 0.80, 0.82)/sqrt(3) = 0.02/sqrt(3) = 0.01155; k = 10 has mean 0.79
+    # (within), k = 15 has 0.60 (not). Among k = 5 and 10, NPMI is highest at 10 (0.075),
+    # where seed 1 has the best NPMI (0.08).
+    return pd.DataFrame(
+        {
+            "k": [5, 5, 5, 10, 10, 10, 15, 15, 15],
+            "seed": [0, 1, 2] * 3,
+            "npmi": [0.05, 0.06, 0.04, 0.07, 0.08, 0.075, 0.09, 0.085, 0.095],
+            "stability": [0.78, 0.80, 0.82, 0.78, 0.79, 0.80, 0.55, 0.60, 0.65],
+        }
+    )
+
+
+def test_recommend_one_standard_error_rule(crafted):
+    # Rule: highest mean NPMI among k whose mean stability is within one standard error
+    # of the best (a one-standard-error rule, common practice in model selection).
+    rec = recommend(crafted)
+    assert (rec.k, rec.seed) == (10, 1)
+    assert rec.rule == (
+        "k = 10: highest mean NPMI (0.075) among k whose mean stability (0.79) is within one "
+        "standard error (0.0115) of the best (0.8 at k = 5); seed 1 has the highest NPMI at that k"
+    )
+    assert str(rec) == rec.rule
+    assert rec.table.loc[rec.table["chosen"], "k"].tolist() == [10]
+    assert rec.table["candidate"].tolist() == [True, True, False]
+
+
+def test_recommend_says_what_is_missing(crafted):
+    no_stability = recommend(crafted.drop(columns="stability"))
+    assert no_stability.k == 15 and no_stability.seed == 2
+    assert (
+        "stability did not enter the choice: the scores have no 'stability' column"
+        in no_stability.rule
+    )
+    single_seed = recommend(crafted.assign(stability=np.nan))
+    assert "a single seed per k gives none" in single_seed.rule
+    no_npmi = recommend(crafted.assign(npmi=np.nan))
+    assert no_npmi.k == 5 and no_npmi.rule.startswith("k = 5: highest mean stability (0.8)")
+    assert "NPMI did not enter the choice" in no_npmi.rule
+    gaps = crafted.copy()
+    gaps.loc[8, "npmi"] = np.inf
+    assert "1 of 9 fits without a finite NPMI were left out" in recommend(gaps).rule
+    with pytest.raises(InputError, match="'npmi' or 'stability'"):
+        recommend(crafted.drop(columns=["npmi", "stability"]))
+    with pytest.raises(SettingsError, match="'scores'"):
+        recommend(crafted.drop(columns="k"))

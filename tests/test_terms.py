@@ -1,0 +1,139 @@
+"""Term rankings and source wording (tm_compare.terms), against hand-computed cases."""
+
+from types import SimpleNamespace
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from tm_compare.errors import ComparisonError, SettingsError
+from tm_compare.terms import log_odds_with_prior, source_wording, term_rankings
+
+PHI = np.array([[0.4, 0.3, 0.2, 0.1], [0.6, 0.1, 0.1, 0.2]])
+FIT = SimpleNamespace(
+    k=2,
+    topic_term=PHI,
+    vocab=["w0", "w1", "w2", "w3"],
+    doc_topic=np.array([[0.5, 0.5], [0.5, 0.5]]),
+)
+
+
+def scores(method, **kwargs):
+    table = term_rankings(FIT, method, topn=4, **kwargs)
+    return table.pivot(index="topic", columns="term_id", values="score").to_numpy(), table
+
+
+def test_probability_order_with_ties_by_term_id():
+    table = term_rankings(FIT, topn=3)
+    assert table[table.topic == 1].term.tolist() == ["w0", "w3", "w1"]  # 0.6, 0.2, 0.1 (tie: id)
+    assert table["rank"].tolist() == [1, 2, 3, 1, 2, 3]
+
+
+def test_lift_and_relevance_by_hand():
+    # p_w from the model: mean topic share (0.5, 0.5) -> p = (0.5, 0.2, 0.15, 0.15), by hand.
+    lift, _ = scores("lift")
+    np.testing.assert_allclose(
+        lift[0], [0.4 / 0.5, 0.3 / 0.2, 0.2 / 0.15, 0.1 / 0.15]
+    )  # Taddy 2012
+    rel, table = scores("relevance", lam=0.6)
+    # Sievert & Shirley 2014: 0.6 log phi + 0.4 log lift, for topic 0, term w1 by hand.
+    assert rel[0, 1] == pytest.approx(0.6 * np.log(0.3) + 0.4 * np.log(1.5))
+    assert (table.parameter == 0.6).all()
+    # lam = 1 is the probability order, lam = 0 the lift order (Sievert & Shirley 2014, sec. 3.1).
+    for lam, method in ((1.0, "probability"), (0.0, "lift")):
+        a = term_rankings(FIT, "relevance", lam=lam, topn=4).term.tolist()
+        assert a == term_rankings(FIT, method, topn=4).term.tolist()
+
+
+def test_frex_by_hand():
+    # Bischof & Airoldi 2012 as in stm's calcfrex: 1 / (w / ECDF(excl) + (1 - w) / ECDF(freq)).
+    # Topic 0: exclusivity (0.4, 0.75, 0.667, 0.333) ranks (2, 4, 3, 1)/4; frequency ranks
+    # (4, 3, 2, 1)/4. Topic 1: frequency ranks (4, 1.5, 1.5, 3)/4 (tie averaged); exclusivity
+    # (0.6, 0.25, 0.333, 0.667) ranks (3, 1, 2, 4)/4. Hand-computed:
+    frex, table = scores("frex", frex_weight=0.5)
+    np.testing.assert_allclose(
+        frex[0], [1 / 1.5, 1 / (0.5 + 0.5 / 0.75), 1 / (0.5 / 0.75 + 1), 0.25]
+    )
+    np.testing.assert_allclose(
+        frex[1], [1 / (0.5 / 0.75 + 0.5), 0.3, 1 / (1 + 0.5 / 0.375), 1 / (0.5 + 0.5 / 0.75)]
+    )
+    assert table[table.topic == 0].term.tolist() == ["w1", "w0", "w2", "w3"]
+    # All weight on frequency gives ECDF(phi), i.e. probability order.
+    freq_only, _ = scores("frex", frex_weight=0.0)
+    np.testing.assert_allclose(freq_only[0], [1, 0.75, 0.5, 0.25])
+
+
+def test_empirical_term_share_from_prepared():
+    prepared = SimpleNamespace(bow=[[(0, 3), (1, 1)], [(2, 4), (3, 2)]])  # counts 3, 1, 4, 2
+    lift, _ = scores("lift", prepared=prepared)
+    np.testing.assert_allclose(lift[1], PHI[1] / (np.array([3, 1, 4, 2]) / 10))  # by hand
+
+
+def test_bad_parameters():
+    with pytest.raises(SettingsError, match="'method'"):
+        term_rankings(FIT, "salience")
+    with pytest.raises(SettingsError, match="'lam'"):
+        term_rankings(FIT, "relevance", lam=1.5)
+    broken = SimpleNamespace(k=3, topic_term=PHI, vocab=FIT.vocab)
+    with pytest.raises(ComparisonError, match="k=3"):
+        term_rankings(broken)
+
+
+def wording_case(theta=1.0):
+    """Source a: counts (10, 5, 0); source b: (2, 8, 4); topic 0 share ``theta`` everywhere."""
+    bow = [[(0, 10), (1, 5)], [(0, 2), (1, 8), (2, 4)]]
+    fit = SimpleNamespace(
+        k=2,
+        topic_term=np.full((2, 3), 1 / 3),
+        vocab=["tax", "levy", "toll"],
+        doc_topic=np.array([[theta, 1 - theta], [theta, 1 - theta]]),
+    )
+    prepared = SimpleNamespace(
+        bow=bow,
+        sources=np.array(["a", "b"]),
+        weights=np.array([1.0, 3.0]),
+        meta=pd.DataFrame({"id": ["x", "y"]}),
+    )
+    return fit, prepared
+
+
+def test_log_odds_with_informative_prior_by_hand():
+    fit, prepared = wording_case()
+    table = source_wording(fit, prepared, 0, against="each")
+    a = table[table.source == "a"].set_index("term")
+    # Monroe, Colaresi & Quinn 2008, eqs. 16-22, by hand: prior a_w = y_w = (12, 13, 4),
+    # a_0 = 29, n_a = 15, n_b = 14. For "tax":
+    # delta = log(22 / (15 + 29 - 22)) - log(14 / (14 + 29 - 14)) = 0 - log(14 / 29)
+    # var = 1 / 22 + 1 / 14
+    delta = -np.log(14 / 29)
+    se = np.sqrt(1 / 22 + 1 / 14)
+    assert a.loc["tax", "log_odds"] == pytest.approx(delta)
+    assert a.loc["tax", "z"] == pytest.approx(delta / se)
+    assert a.index[0] == "tax" and a.loc["tax", "rank"] == 1
+    # "toll" (0 in a, 4 in b): log(4 / 40) - log(8 / 35)
+    assert a.loc["toll", "log_odds"] == pytest.approx(np.log(4 / 40) - np.log(8 / 35))
+    b = table[table.source == "b"].set_index("term")
+    assert b.loc["tax", "log_odds"] == pytest.approx(-delta)  # antisymmetric by definition
+    assert table.prior_strength.iloc[0] == pytest.approx(29)
+
+
+def test_counts_are_topic_weighted_and_optionally_exposure_weighted():
+    fit, prepared = wording_case(theta=0.25)
+    table = source_wording(fit, prepared, 0, against="rest", weighting="exposure")
+    b = table[table.source == "b"].set_index("term")
+    # Document y has weight 3 and topic share 0.25: its "levy" count 8 becomes 8 * 0.25 * 3.
+    assert b.loc["levy", "count_source"] == pytest.approx(6.0)
+    assert b.loc["levy", "count_other"] == pytest.approx(5 * 0.25 * 1)
+    y_i, y_j = np.array([0.5 * 3, 6.0, 3.0]), np.array([2.5, 1.25, 0.0])
+    expected, _ = log_odds_with_prior(y_i, y_j, y_i + y_j)
+    np.testing.assert_allclose(b.loc[["tax", "levy", "toll"], "log_odds"], expected)
+
+
+def test_wording_needs_two_sources_and_a_valid_topic():
+    fit, prepared = wording_case()
+    with pytest.raises(SettingsError, match="'topic'"):
+        source_wording(fit, prepared, 5)
+    with pytest.raises(ComparisonError, match="at least two sources"):
+        source_wording(fit, prepared, 0, sources=["a"])
+    with pytest.raises(ComparisonError, match="'c'"):
+        source_wording(fit, prepared, 0, sources=["a", "c"])

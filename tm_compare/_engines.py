@@ -1,0 +1,177 @@
+"""LDA engines behind :class:`tm_compare.fits.Fit`: gensim and scikit-learn.
+
+Both engines fit online variational Bayes LDA (Hoffman, Blei & Bach 2010,
+"Online learning for latent Dirichlet allocation") on the training rows of a
+document-term count matrix and give back the same normalised outputs:
+
+- ``topic_term``: the variational topic-word parameters (lambda) scaled so
+  each row sums to 1, i.e. the posterior mean of each topic's word
+  distribution;
+- ``gamma``: the variational Dirichlet parameters of every document (training
+  and held-out), inferred with the final topics;
+- ``word_bound``: the engine's own per-word variational lower bound on the
+  log likelihood of the held-out documents, natural log, with the
+  document-level part scaled to the size of the training corpus (the
+  engines' evaluation convention: gensim's ``log_perplexity(chunk,
+  total_docs=N)`` as its training loop calls it, scikit-learn's
+  ``perplexity(X, sub_sampling=True)`` with ``total_samples=N``). The scaling
+  spreads the topic-level Dirichlet terms of the bound over a training
+  corpus' worth of words instead of over the few held-out ones.
+
+Fit settings use gensim's names; scikit-learn receives the same values under
+its own names (``passes`` -> ``max_iter``, ``iterations`` ->
+``max_doc_update_iter``, ``chunksize`` -> ``batch_size``, ``decay`` ->
+``learning_decay``, ``offset`` -> ``learning_offset``, ``gamma_threshold`` ->
+``mean_change_tol``) so both run the same algorithm with the same schedule.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from importlib import metadata
+
+import numpy as np
+import scipy.sparse as sp
+
+ENGINES = ("gensim", "sklearn")
+
+# gensim's defaults except ``passes``: one pass of online LDA makes a single
+# update on corpora smaller than ``chunksize``, which rarely converges.
+DEFAULT_SETTINGS = {
+    "passes": 10,
+    "iterations": 50,
+    "chunksize": 2000,
+    "alpha": "symmetric",
+    "eta": "symmetric",
+    "decay": 0.5,
+    "offset": 1.0,
+    "gamma_threshold": 0.001,
+}
+
+
+@dataclasses.dataclass
+class EngineResult:
+    topic_term: np.ndarray  # k x V, rows sum to 1
+    gamma: np.ndarray  # D x k variational Dirichlet parameters
+    word_bound: float  # per-word natural-log bound on the held-out documents (nan if none)
+    version: str
+
+
+def engine_version(engine: str) -> str:
+    return metadata.version("scikit-learn" if engine == "sklearn" else "gensim")
+
+
+def prior(value, k: int) -> float:
+    """A symmetric Dirichlet prior: ``"symmetric"`` means 1/k (both engines' default)."""
+    return 1.0 / k if value == "symmetric" else float(value)
+
+
+class RowStream:
+    """Rows of a CSR matrix as gensim bag-of-words lists, built one at a time.
+
+    Keeps memory flat: the matrix (possibly memory-mapped) is the only copy.
+    """
+
+    def __init__(self, matrix: sp.csr_matrix, rows: np.ndarray):
+        self.matrix = matrix
+        self.rows = rows
+
+    def __len__(self) -> int:
+        return len(self.rows)
+
+    def __iter__(self):
+        indptr, indices, data = self.matrix.indptr, self.matrix.indices, self.matrix.data
+        for r in self.rows:
+            s, e = indptr[r], indptr[r + 1]
+            yield list(zip(indices[s:e].tolist(), data[s:e].tolist(), strict=True))
+
+
+def run(
+    engine: str,
+    matrix: sp.csr_matrix,
+    heldout: np.ndarray,
+    k: int,
+    seed: int,
+    settings: dict,
+    vocab: list[str],
+) -> EngineResult:
+    """Fit one LDA model on the rows of ``matrix`` not marked ``heldout``."""
+    fitter = _gensim if engine == "gensim" else _sklearn
+    train = np.flatnonzero(~heldout)
+    held = np.flatnonzero(heldout)
+    topic_term, gamma, word_bound = fitter(
+        matrix, train, held, k, seed, {**DEFAULT_SETTINGS, **settings}, vocab
+    )
+    topic_term = np.asarray(topic_term, dtype=np.float64)
+    topic_term /= topic_term.sum(axis=1, keepdims=True)
+    return EngineResult(
+        topic_term, np.asarray(gamma, dtype=np.float64), float(word_bound), engine_version(engine)
+    )
+
+
+def _gensim(matrix, train, held, k, seed, s, vocab):
+    from gensim.models import LdaModel
+
+    model = LdaModel(
+        corpus=RowStream(matrix, train),
+        id2word=dict(enumerate(vocab)),
+        num_topics=k,
+        chunksize=s["chunksize"],
+        passes=s["passes"],
+        iterations=s["iterations"],
+        alpha=prior(s["alpha"], k),
+        eta=prior(s["eta"], k),
+        decay=s["decay"],
+        offset=s["offset"],
+        gamma_threshold=s["gamma_threshold"],
+        eval_every=None,
+        random_state=seed,
+        dtype=np.float64,
+    )
+    # Chunk by chunk, so only one chunk of documents is ever held as Python lists.
+    n_docs, size = matrix.shape[0], s["chunksize"]
+    gamma = np.concatenate(
+        [
+            model.inference(list(RowStream(matrix, np.arange(start, min(start + size, n_docs)))))[0]
+            for start in range(0, n_docs, size)
+        ]
+    )
+    word_bound = np.nan
+    if len(held) and matrix[held].sum() > 0:
+        # log_perplexity(chunk, total_docs) without its fresh random inference: bound() is given
+        # the gamma inferred above, each as a 1 x k row as inference([doc]) returns it.
+        ratio = len(train) / len(held)
+        bound = model.bound(
+            RowStream(matrix, held), gamma=gamma[held][:, None, :], subsample_ratio=ratio
+        )
+        word_bound = bound / (ratio * matrix[held].sum())
+    return model.get_topics(), gamma, word_bound
+
+
+def _sklearn(matrix, train, held, k, seed, s, vocab):
+    from sklearn.decomposition import LatentDirichletAllocation
+
+    lda = LatentDirichletAllocation(
+        n_components=k,
+        doc_topic_prior=prior(s["alpha"], k),
+        topic_word_prior=prior(s["eta"], k),
+        learning_method="online",
+        learning_decay=s["decay"],
+        learning_offset=s["offset"],
+        max_iter=s["passes"],
+        batch_size=s["chunksize"],
+        total_samples=len(train),
+        max_doc_update_iter=s["iterations"],
+        mean_change_tol=s["gamma_threshold"],
+        evaluate_every=-1,
+        n_jobs=1,
+        random_state=seed,
+    )
+    x = matrix.astype(np.float64)
+    lda.fit(x[train])
+    # transform(normalize=False) is the E-step's gamma: the variational Dirichlet parameters.
+    gamma = lda.transform(x, normalize=False)
+    word_bound = np.nan
+    if len(held) and x[held].sum() > 0:
+        word_bound = -np.log(lda.perplexity(x[held], sub_sampling=True))
+    return lda.components_, gamma, word_bound

@@ -1,0 +1,228 @@
+"""Charts of a sweep and of one model: tidy DataFrame in, Altair chart out, nothing displayed.
+
+Every chart takes small, already aggregated tables (one row per fit, per topic and source, or per
+term), never one row per document. Clicks reach Python through named selections:
+
+- ``fit_pick`` (fields ``k``, ``seed``) on :func:`sweep_chart`, whose fit on show is the variable
+  parameter ``picked`` (``"k:seed"``);
+- ``topic_pick`` (field ``topic``) on :func:`source_chart` and :func:`terms_chart`.
+
+The topic on show is a variable parameter named ``focus``: a widget changes it without rebuilding
+the chart (``chart_widget.params.focus = 3``).
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import altair as alt
+import pandas as pd
+
+#: Our palette: a deep teal and a brick red for two sources, then further sources.
+PALETTE = ["#1b6f80", "#b5523b", "#6b8e23", "#8a5fa8", "#c28f1c", "#4f5d75"]
+INK = "#2b2d31"
+FAINT = "#c9ccd1"
+ACCENT = "#e0a526"
+
+FIT_PICK = "fit_pick"
+TOPIC_PICK = "topic_pick"
+FOCUS = "focus"
+PICKED = "picked"
+
+
+def fit_key(k: int, seed: int) -> str:
+    """The ``"k:seed"`` key of one fit, as the ``picked`` parameter of :func:`sweep_chart` holds it."""
+    return f"{int(k)}:{int(seed)}"
+
+
+def _focus_param(focus: int | None) -> alt.Parameter:
+    return alt.param(name=FOCUS, value=-1 if focus is None else int(focus))
+
+
+def _source_scale(sources: list[str]) -> alt.Scale:
+    return alt.Scale(domain=list(sources), range=PALETTE[: max(1, len(sources))])
+
+
+def sweep_chart(
+    scores: pd.DataFrame,
+    *,
+    title: str,
+    recommended_k: int | None = None,
+    rule: str | None = None,
+    picked: tuple[int, int] | None = None,
+    width: int = 460,
+    height: int = 240,
+) -> alt.LayerChart:
+    """Score against k: one dot per seed, the mean over seeds as a line, the seed range as a band.
+
+    Parameters
+    ----------
+    scores : DataFrame
+        One row per fit with columns ``k``, ``seed`` and ``value`` (the chosen measure).
+    title : str
+        Name of the measure, shown on the y axis.
+    recommended_k, rule : optional
+        The recommended k, marked with a vertical rule and the rule in words as the subtitle.
+    picked : (k, seed), optional
+        The fit on show, drawn in the accent colour; a variable parameter named ``picked``
+        (``"k:seed"``) so a widget can move it in place.
+    """
+    data = scores[["k", "seed", "value"]].dropna(subset=["value"]).copy()
+    data["k"] = data["k"].astype(int)
+    data["seed"] = data["seed"].astype(int)
+    pick = alt.selection_point(name=FIT_PICK, fields=["k", "seed"], on="click")
+    x = alt.X("k:Q", title="number of topics (k)", scale=alt.Scale(zero=False),
+              axis=alt.Axis(tickMinStep=1, format="d"))
+    base = alt.Chart(data)
+    band = base.mark_area(opacity=0.18, color=PALETTE[0]).encode(
+        x=x, y=alt.Y("min(value):Q", title=title, scale=alt.Scale(zero=False)), y2="max(value):Q"
+    )
+    line = base.mark_line(color=PALETTE[0], strokeWidth=2).encode(x=x, y="mean(value):Q")
+    picked_param = alt.param(name=PICKED, value=fit_key(*picked) if picked else "")
+    is_picked = f"datum.k + ':' + datum.seed == {PICKED}"
+    dots = base.mark_point(filled=True, cursor="pointer").encode(
+        x=x,
+        y="value:Q",
+        color=alt.condition(is_picked, alt.value(PALETTE[1]), alt.value(INK)),
+        opacity=alt.condition(is_picked, alt.value(1.0), alt.value(0.55)),
+        size=alt.condition(is_picked, alt.value(140), alt.value(60)),
+        tooltip=[alt.Tooltip("k:Q"), alt.Tooltip("seed:Q"), alt.Tooltip("value:Q", title=title, format=".4f")],
+    ).add_params(pick, picked_param)
+    layers = [band, line, dots]
+    if recommended_k is not None:
+        mark = pd.DataFrame({"k": [int(recommended_k)], "note": [f"suggested k = {int(recommended_k)}"]})
+        layers.append(alt.Chart(mark).mark_rule(color=ACCENT, strokeWidth=2, strokeDash=[5, 3]).encode(x="k:Q"))
+        layers.append(
+            alt.Chart(mark).mark_text(align="left", dx=5, dy=-4, color=INK, fontWeight="bold")
+            .encode(x="k:Q", y=alt.value(8), text="note:N")
+        )
+    subtitle = rule or ""
+    return alt.layer(*layers).properties(
+        width=width, height=height,
+        title=alt.Title(f"{title} against k (dots: seeds; band: range over seeds)",
+                        subtitle=_wrap(subtitle), anchor="start", fontSize=13),
+    )
+
+
+def _wrap(text: str, width: int = 90) -> list[str]:
+    import textwrap
+
+    return textwrap.wrap(text, width) if text else []
+
+
+def source_chart(
+    prevalence: pd.DataFrame,
+    difference: pd.DataFrame,
+    *,
+    focus: int | None = None,
+    contrast: str = "difference",
+    note: str = "",
+    row_height: int = 16,
+) -> alt.HConcatChart:
+    """Each topic's prevalence per source, and the difference between sources, topics in one order.
+
+    Parameters
+    ----------
+    prevalence : DataFrame
+        Columns ``topic`` (int), ``name`` (topic caption), ``source``, ``estimate``, ``lower``,
+        ``upper``: one row per topic and source.
+    difference : DataFrame
+        Columns ``topic``, ``name``, ``estimate``, ``lower``, ``upper``, ``clear`` (bool: the
+        difference stands, e.g. its adjusted p-value is below the false discovery rate); its row
+        order is the order of the topics on both panels.
+    focus : int, optional
+        The topic drawn in full colour; the others are faded.
+    contrast : str
+        Axis title of the right-hand panel (which sources are compared).
+    """
+    order = difference["name"].tolist()
+    sources = sorted(prevalence["source"].unique().tolist())
+    height = max(120, row_height * len(order))
+    pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
+    focus_param = _focus_param(focus)
+    faded = alt.condition(f"datum.topic == {FOCUS} || {FOCUS} < 0", alt.value(1.0), alt.value(0.35))
+    y = alt.Y("name:N", sort=order, title=None, axis=alt.Axis(labelLimit=260))
+    y_bare = alt.Y("name:N", sort=order, axis=None)
+    offset = alt.YOffset("source:N", scale=alt.Scale(domain=sources))
+    colour = alt.Color("source:N", scale=_source_scale(sources), legend=alt.Legend(orient="top", title=None))
+    tip = [alt.Tooltip("name:N", title="topic"), alt.Tooltip("source:N"),
+           alt.Tooltip("estimate:Q", format=".3f"), alt.Tooltip("lower:Q", format=".3f"),
+           alt.Tooltip("upper:Q", format=".3f")]
+    base = alt.Chart(prevalence)
+    left = alt.layer(
+        base.mark_rule(strokeWidth=2).encode(
+            x=alt.X("lower:Q", title="share of the source (interval)"), x2="upper:Q", y=y,
+            yOffset=offset, color=colour, opacity=faded),
+        base.mark_point(filled=True, size=45, cursor="pointer").encode(
+            x="estimate:Q", y=y, yOffset=offset, color=colour, opacity=faded, tooltip=tip),
+    ).add_params(pick).properties(width=300, height=height, title="How much each source carries each topic")
+    diff_base = alt.Chart(difference)
+    diff_colour = alt.condition("datum.clear", alt.value(PALETTE[1]), alt.value(INK))
+    right = alt.layer(
+        alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
+        diff_base.mark_rule(strokeWidth=2).encode(
+            x=alt.X("lower:Q", title=contrast), x2="upper:Q", y=y_bare, color=diff_colour, opacity=faded),
+        diff_base.mark_point(filled=True, size=55, shape="diamond", cursor="pointer").encode(
+            x="estimate:Q", y=y_bare, color=diff_colour, opacity=faded,
+            tooltip=[alt.Tooltip("name:N", title="topic"), alt.Tooltip("estimate:Q", format="+.3f"),
+                     alt.Tooltip("lower:Q", format="+.3f"), alt.Tooltip("upper:Q", format="+.3f")]),
+    ).add_params(pick).properties(width=230, height=height, title="Difference (red: clear)")
+    with warnings.catch_warnings():
+        # One click selection shared by both panels is what we want; Altair merges it and warns.
+        warnings.filterwarnings("ignore", message="Automatically deduplicated selection")
+        chart = alt.hconcat(left, right, spacing=8)
+    return chart.add_params(focus_param).properties(
+        title=alt.Title("Sources side by side", subtitle=_wrap(note, 110), anchor="start", fontSize=14)
+    )
+
+
+def terms_chart(terms: pd.DataFrame, *, focus: int | None = None, title: str = "score") -> alt.Chart:
+    """Top terms of the topic in focus as bars; holds every topic's terms so focus can change in place.
+
+    Parameters
+    ----------
+    terms : DataFrame
+        Columns ``topic``, ``term``, ``score``, ``rank`` (1 = first): the top terms of every topic.
+    title : str
+        Name of the ranking, shown on the x axis.
+    """
+    pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
+    return (
+        alt.Chart(terms)
+        .transform_filter(f"datum.topic == {FOCUS}")
+        .mark_bar(color=PALETTE[0], cursor="pointer")
+        .encode(
+            x=alt.X("score:Q", title=title),
+            y=alt.Y("term:N", sort=alt.EncodingSortField("rank", order="ascending"), title=None),
+            tooltip=[alt.Tooltip("term:N"), alt.Tooltip("score:Q", format=".4g"), alt.Tooltip("rank:Q")],
+        )
+        .add_params(pick, _focus_param(focus))
+        .properties(width=240, height=alt.Step(15), title=alt.Title("Terms of the topic", anchor="start"))
+    )
+
+
+def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Chart:
+    """Terms the topic's documents use more in one source than the other, as diverging bars.
+
+    Parameters
+    ----------
+    wording : DataFrame
+        Columns ``term`` and ``score`` (positive: used more in ``sources[0]``; negative: more in
+        ``sources[1]``), a handful of terms per side.
+    sources : (str, str)
+        The two sources compared, for the colours and the axis title.
+    """
+    data = wording[["term", "score"]].copy()
+    data["leans"] = [sources[0] if s > 0 else sources[1] for s in data["score"]]
+    return (
+        alt.Chart(data)
+        .mark_bar()
+        .encode(
+            x=alt.X("score:Q", title=f"<- more in {sources[1]}   |   more in {sources[0]} ->"),
+            y=alt.Y("term:N", sort=alt.EncodingSortField("score", order="descending"), title=None),
+            color=alt.Color("leans:N", scale=_source_scale(list(sources)), legend=None),
+            tooltip=[alt.Tooltip("term:N"), alt.Tooltip("score:Q", format="+.2f"), alt.Tooltip("leans:N", title="more in")],
+        )
+        .properties(width=240, height=alt.Step(15),
+                    title=alt.Title("How each source words it", anchor="start"))
+    )

@@ -1,0 +1,139 @@
+"""``tm-compare labels PROJECT list|export|import|agreement``: a thin layer over LabelStore."""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import pandas as pd
+
+from ..errors import LabelStoreError
+
+ACTIONS = ("list", "export", "import", "agreement")
+
+
+def register(subparsers) -> None:
+    parser = subparsers.add_parser(
+        "labels",
+        help="list, export, import topic labels and report coder agreement",
+        description=(
+            "Work with a project's topic labels. The store is PROJECT/labels.sqlite unless "
+            "--store gives another (e.g. a PostgreSQL URL). Pick the model by its fingerprint "
+            "(--model) or by --k and --seed of the project's sweep."
+        ),
+    )
+    parser.add_argument("project", metavar="PROJECT", help="project folder")
+    parser.add_argument("action", choices=ACTIONS, help="what to do")
+    parser.add_argument(
+        "file", nargs="?", metavar="FILE", help="label file to import (import only)"
+    )
+    parser.add_argument("--model", metavar="FINGERPRINT", help="fingerprint of the fitted model")
+    parser.add_argument("--k", type=int, help="number of topics of the model in the sweep")
+    parser.add_argument("--seed", type=int, help="seed of the model in the sweep")
+    parser.add_argument(
+        "--format",
+        choices=("csv", "json"),
+        help="output format (default: a table, or JSON for export)",
+    )
+    parser.add_argument("--out", metavar="FILE", help="write to FILE instead of the screen")
+    parser.add_argument(
+        "--store", metavar="URL", help="label store URL or path (default: PROJECT/labels.sqlite)"
+    )
+    parser.add_argument("--analyst", help="read as this analyst (matters during blind rounds)")
+    parser.add_argument(
+        "--history",
+        action="store_true",
+        help="list/export every version, not just the current labels",
+    )
+    parser.set_defaults(func=run)
+
+
+def _model(args):
+    """The model fingerprint and, when the sweep is available, its top words."""
+    if args.model and (args.k is not None or args.seed is not None):
+        msg = "Give either --model FINGERPRINT or --k K --seed S, not both."
+        raise LabelStoreError(msg)
+    if args.model:
+        return args.model, None
+    if args.k is None or args.seed is None:
+        msg = "Name the model: --model FINGERPRINT, or --k K --seed S of the project's sweep."
+        raise LabelStoreError(msg)
+    try:
+        from ..sweep import Sweep
+    except ImportError:
+        msg = "This installation cannot read sweeps; name the model with --model FINGERPRINT."
+        raise LabelStoreError(msg) from None
+    fit = Sweep.load(args.project).model(args.k, args.seed)
+    return fit.fingerprint, fit.top_words(10)
+
+
+def _printable(value):
+    # Labels are stored as given; on a terminal, control characters are shown escaped.
+    if not isinstance(value, str):
+        return value
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in value)
+
+
+def _emit(frame: pd.DataFrame, args) -> None:
+    if args.format == "json":
+        text = frame.to_json(orient="records", force_ascii=False, indent=2) + "\n"
+    elif args.format == "csv":
+        text = frame.to_csv(index=False)
+    else:
+        text = (
+            frame.map(_printable).to_string(index=False) + "\n" if len(frame) else "(no labels)\n"
+        )
+    _write(text, args.out)
+
+
+def _write(text: str, out) -> None:
+    if out:
+        from .._atomic import atomic_write_text
+
+        atomic_write_text(out, text)
+        print(f"Wrote {out}", file=sys.stderr)
+    else:
+        sys.stdout.write(text)
+
+
+def run(args) -> int:
+    from ..labels import LabelStore
+    from ..project import Project
+
+    location = args.store or Project.open(args.project)
+    if args.action == "import":
+        if not args.file:
+            msg = "import needs the label FILE to read: tm-compare labels PROJECT import FILE --model FINGERPRINT"
+            raise LabelStoreError(msg)
+        model, _ = _model(args)
+        with LabelStore(location, analyst=args.analyst) as store:
+            counts = store.import_labels(args.file, model=model)
+        print(
+            f"Imported {counts['added']} label rows, skipped {counts['skipped']} already present."
+        )
+        return 0
+    model, top_words = _model(args)
+    with LabelStore(location, analyst=args.analyst) as store:
+        if args.action == "list":
+            frame = store.history(model) if args.history else store.current(model)
+            shown = [
+                "topic",
+                "analyst",
+                "version",
+                "name",
+                "verdict",
+                "category",
+                "confidence",
+                "note",
+            ]
+            _emit(frame if args.format else frame[shown], args)
+        elif args.action == "agreement":
+            _emit(store.agreement(model), args)
+        else:
+            fmt = args.format or "json"
+            result = store.export(model, format=fmt, history=args.history, top_words=top_words)
+            text = (
+                json.dumps(result, ensure_ascii=False, indent=2) + "\n" if fmt == "json" else result
+            )
+            _write(text, args.out)
+    return 0

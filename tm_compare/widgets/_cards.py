@@ -1,0 +1,85 @@
+"""Documents and labels as HTML: every corpus or label string is escaped before any markup.
+
+Order matters for safety: raw text is split around term matches first, each piece is escaped
+with :func:`html.escape` (quotes too), and only then is emphasis markup put around the escaped
+matches. No string from a corpus or a label store reaches the page unescaped.
+"""
+
+from __future__ import annotations
+
+import html
+import re
+from collections.abc import Iterable
+
+import pandas as pd
+
+_BOX = (
+    "border:1px solid #dfe2e6;border-radius:6px;padding:6px 8px;margin:0 0 6px 0;"
+    "background:#fbfbfc;font-size:12px;line-height:1.4"
+)
+_MARK = "background:#fbe7c2;padding:0 1px;border-radius:2px"
+
+
+def esc(value) -> str:
+    """Escaped text of any value (missing values become an empty string)."""
+    if value is None or (isinstance(value, float) and value != value):
+        return ""
+    return html.escape(str(value), quote=True)
+
+
+def _term_pattern(terms: Iterable[str]) -> re.Pattern | None:
+    # A term matches as a whole word or as a word's start (stemmed vocabularies keep stems);
+    # a phrase token such as "city_council" also matches "city council" and "city-council".
+    parts = []
+    for term in sorted({t for t in terms if t}, key=len, reverse=True):
+        words = [re.escape(w) for w in re.split(r"[_\s]+", term) if w]
+        if words:
+            parts.append(r"[\s_-]+".join(words))
+    if not parts:
+        return None
+    return re.compile(r"\b(?:" + "|".join(parts) + r")\w*", re.IGNORECASE)
+
+
+def emphasise(text, terms: Iterable[str]) -> str:
+    """HTML of ``text`` with the given terms wrapped in ``<mark>``; the text itself is escaped."""
+    raw = "" if text is None else str(text)
+    pattern = _term_pattern(terms)
+    if pattern is None:
+        return esc(raw)
+    out, last = [], 0
+    for match in pattern.finditer(raw):
+        out.append(esc(raw[last : match.start()]))
+        out.append(f'<mark style="{_MARK}">{esc(match.group(0))}</mark>')
+        last = match.end()
+    out.append(esc(raw[last:]))
+    return "".join(out)
+
+
+def document_cards(docs: pd.DataFrame, terms: Iterable[str], *, heading: str) -> str:
+    """One column of representative documents as HTML.
+
+    ``docs`` has columns ``title``, ``outlet``, ``date``, ``exposure``, ``share`` and ``snippet``
+    (missing ones are left out of the card).
+    """
+    terms = list(terms)
+    cards = [f'<div style="font-weight:600;margin:0 0 6px 0">{esc(heading)}</div>']
+    if docs.empty:
+        cards.append('<div style="color:#6b7078">No document of this source leans on this topic.</div>')
+    for row in docs.to_dict("records"):
+        facts = []
+        if row.get("outlet") is not None:
+            facts.append(esc(row.get("outlet")))
+        date = row.get("date")
+        if date is not None and not pd.isna(date):
+            facts.append(esc(pd.Timestamp(date).date().isoformat()))
+        if row.get("exposure") is not None:
+            facts.append(f"exposure {float(row['exposure']):,.0f}")
+        if row.get("share") is not None:
+            facts.append(f"topic share {float(row['share']):.0%}")
+        cards.append(
+            f'<div class="tmc-doc" style="{_BOX}">'
+            f'<div style="font-weight:600">{emphasise(row.get("title") or "(no title)", terms)}</div>'
+            f'<div style="color:#5b6068;margin:1px 0 3px 0">{" · ".join(facts)}</div>'
+            f'<div class="tmc-snippet">{emphasise(row.get("snippet"), terms)}</div></div>'
+        )
+    return "".join(cards)
