@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+import shlex
 import shutil
 import socket
 import subprocess
@@ -31,7 +32,7 @@ def _free_port() -> int:
 def _as_postgres(args: list[str]) -> subprocess.CompletedProcess:
     # The server refuses to run as root; CI runs as root, so switch to the `postgres` user.
     if os.geteuid() == 0:
-        cmd = ["su", "postgres", "-s", "/bin/sh", "-c", subprocess.list2cmdline(args)]
+        cmd = ["su", "postgres", "-s", "/bin/sh", "-c", shlex.join(args)]
     else:
         cmd = args
     return subprocess.run(cmd, capture_output=True, text=True, timeout=120)
@@ -53,7 +54,21 @@ def postgres_server():
     data, log = root / "data", root / "server.log"
     if os.geteuid() == 0:
         shutil.chown(root, "postgres", "postgres")
-    init = _as_postgres([str(PG_BIN / "initdb"), "-D", str(data), "-A", "trust", "-U", "postgres"])
+    # --no-locale: a C locale always exists, whatever LANG the machine has; UTF8 stores any text.
+    init = _as_postgres(
+        [
+            str(PG_BIN / "initdb"),
+            "-D",
+            str(data),
+            "-A",
+            "trust",
+            "-U",
+            "postgres",
+            "--no-locale",
+            "-E",
+            "UTF8",
+        ]
+    )
     if init.returncode != 0:
         shutil.rmtree(root, ignore_errors=True)
         _missing_postgres(f"initdb failed: {init.stderr.strip()[-500:]}")

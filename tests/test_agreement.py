@@ -9,6 +9,7 @@ from statsmodels.stats.inter_rater import aggregate_raters, fleiss_kappa
 from tm_compare.agreement import (
     agreement_by_unit,
     agreement_summary,
+    agreement_table,
     krippendorff_alpha,
     percent_agreement,
 )
@@ -123,3 +124,13 @@ def test_perfect_agreement_is_one():
 def test_only_nominal_level():
     with pytest.raises(SettingsError, match="'level' parameter of krippendorff_alpha"):
         krippendorff_alpha(UNITS_BY_CODERS, level="interval")
+
+
+def test_agreement_table_lists_units_then_overall():
+    # Source for the overall value: Krippendorff (2011), alpha = 0.743 on the worked example.
+    table = agreement_table(UNITS_BY_CODERS)
+    assert table["scope"].tolist() == ["unit"] * 12 + ["overall"]
+    overall = table.iloc[-1]
+    assert overall["alpha"] == pytest.approx(0.743, abs=5e-4)
+    assert (overall["n_units"], overall["n_coders"]) == (11, 4)
+    assert table["n_units"].iloc[:12].sum() == 11  # one per pairable unit

@@ -27,16 +27,30 @@ pytestmark = [pytest.mark.browser, pytest.mark.slow]
 REPO = Path(__file__).resolve().parent.parent
 ARTIFACTS = REPO / ".artifacts"
 CHROMIUM = Path("/usr/bin/chromium")
-CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-                 "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+CHROMIUM_ARGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-quic",
+    "--no-first-run",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+]
 TOKEN = "tm-compare-browser-test"
 KERNEL_IDLE = "Python 3 (ipykernel) | Idle"
 LOCAL = re.compile(r"^(https?|wss?)://127\.0\.0\.1:\d+/|^blob:http://127\.0\.0\.1:\d+/|^data:")
 
 
 def _require_browser():
-    missing = [what for what, ok in (("Debian's chromium", CHROMIUM.exists()),
-                                     ("playwright", _importable("playwright"))) if not ok]
+    missing = [
+        what
+        for what, ok in (
+            ("Debian's chromium", CHROMIUM.exists()),
+            ("playwright", _importable("playwright")),
+        )
+        if not ok
+    ]
     if missing:
         reason = f"{' and '.join(missing)} not installed (apt-get install -y chromium; pip install playwright)"
         if os.environ.get("CI", "").lower() == "true":
@@ -64,17 +78,34 @@ def jupyter_lab(root: Path, state: Path):
     tracker.mkdir(parents=True)
     # Cells scrolled out of view stay in the page, so locators and screenshots reach them.
     (tracker / "tracker.jupyterlab-settings").write_text(json.dumps({"windowingMode": "none"}))
+    news = state / "settings" / "@jupyterlab" / "apputils-extension"
+    news.mkdir(parents=True)
+    (news / "notification.jupyterlab-settings").write_text(json.dumps({"fetchNews": "false"}))
     for sub in ("workspaces", "runtime", "config", "ipython"):
         (state / sub).mkdir()
-    cmd = [sys.executable, "-m", "jupyterlab", "--no-browser", "--ip=127.0.0.1", f"--port={port}",
-           "--ServerApp.port_retries=0", f"--IdentityProvider.token={TOKEN}",
-           f"--ServerApp.root_dir={root}", f"--LabServerApp.user_settings_dir={state / 'settings'}",
-           f"--LabServerApp.workspaces_dir={state / 'workspaces'}",
-           "--LabApp.check_for_updates_class=jupyterlab.NeverCheckForUpdate", "--LabApp.news_url="]
+    cmd = [
+        sys.executable,
+        "-m",
+        "jupyterlab",
+        "--no-browser",
+        "--ip=127.0.0.1",
+        f"--port={port}",
+        "--ServerApp.port_retries=0",
+        f"--IdentityProvider.token={TOKEN}",
+        f"--ServerApp.root_dir={root}",
+        f"--LabServerApp.user_settings_dir={state / 'settings'}",
+        f"--LabServerApp.workspaces_dir={state / 'workspaces'}",
+        "--LabApp.check_for_updates_class=jupyterlab.NeverCheckForUpdate",
+        "--LabApp.news_url=",
+    ]
     if os.geteuid() == 0:
         cmd.append("--allow-root")
-    env = {**os.environ, "JUPYTER_RUNTIME_DIR": str(state / "runtime"),
-           "JUPYTER_CONFIG_DIR": str(state / "config"), "IPYTHONDIR": str(state / "ipython")}
+    env = {
+        **os.environ,
+        "JUPYTER_RUNTIME_DIR": str(state / "runtime"),
+        "JUPYTER_CONFIG_DIR": str(state / "config"),
+        "IPYTHONDIR": str(state / "ipython"),
+    }
     with open(state / "lab.log", "wb") as log:
         proc = subprocess.Popen(cmd, stdout=log, stderr=subprocess.STDOUT, env=env, cwd=root)
         base = f"http://127.0.0.1:{port}"
@@ -86,7 +117,9 @@ def jupyter_lab(root: Path, state: Path):
                         break
                 except OSError:
                     if proc.poll() is not None or time.monotonic() > deadline:
-                        pytest.fail("JupyterLab did not start:\n" + (state / "lab.log").read_text()[-3000:])
+                        pytest.fail(
+                            "JupyterLab did not start:\n" + (state / "lab.log").read_text()[-3000:]
+                        )
                     time.sleep(0.5)
             yield base
         finally:
@@ -106,12 +139,35 @@ def run_all_cells(page, timeout_s: float = 420) -> None:
     deadline = time.monotonic() + timeout_s
     prompts: list[str] = []
     while time.monotonic() < deadline:
-        prompts = [p.strip() for p in page.locator(".jp-CodeCell .jp-InputPrompt").all_inner_texts()]
-        if prompts and all(re.fullmatch(r"\[\d+\]:", p) for p in prompts) and page.get_by_text(KERNEL_IDLE).count():
+        prompts = [
+            p.strip() for p in page.locator(".jp-CodeCell .jp-InputPrompt").all_inner_texts()
+        ]
+        if (
+            prompts
+            and all(re.fullmatch(r"\[\d+\]:", p) for p in prompts)
+            and page.get_by_text(KERNEL_IDLE).count()
+        ):
             return
+        errors = page.locator(
+            ".jp-OutputArea-output[data-mime-type='application/vnd.jupyter.stderr']"
+        )
+        if any("Error" in text for text in errors.all_inner_texts()):
+            pytest.fail(
+                "A cell failed in the browser:\n" + "\n".join(errors.all_inner_texts())[-3000:]
+            )
         time.sleep(0.5)
     page.screenshot(path=str(ARTIFACTS / "browser-timeout.png"))
     pytest.fail(f"The notebook did not finish running; prompts: {prompts}")
+
+
+def _screenshot(page, element, name: str) -> None:
+    """Screenshot one view whole: JupyterLab scrolls inside its own panel, so the page is made
+    tall enough for the view first (a full-page shot would miss what is scrolled away)."""
+    height = int(element.evaluate("e => e.getBoundingClientRect().height"))
+    page.set_viewport_size({"width": 1500, "height": max(1100, height + 400)})
+    element.scroll_into_view_if_needed()
+    element.screenshot(path=str(ARTIFACTS / name))
+    page.set_viewport_size({"width": 1500, "height": 1100})
 
 
 def _selected_topic(view) -> int:
@@ -149,34 +205,42 @@ def test_quickstart_in_jupyterlab(tmp_path):
             # Charts are drawn (offline SVG) in both views.
             sweep_view.locator(".vega-embed svg").first.wait_for(timeout=60_000)
             assert view.locator(".vega-embed svg").count() >= 3
-            sweep_view.screenshot(path=str(ARTIFACTS / "sweep-view.png"))
+            _screenshot(page, sweep_view, "sweep-view.png")
 
             # The hostile article is on show as text; nothing of it ran.
-            hostile = view.locator(".tmc-doc", has_text='<script>alert("title")</script>')
+            hostile = view.locator(".tmc-doc", has_text="<script>alert('title')</script>")
             hostile.first.wait_for(timeout=30_000)
             assert "<img src=x onerror=" in hostile.first.inner_text()
             assert view.locator("script").count() == 0
             assert view.locator("img[src='x']").count() == 0
-            view.screenshot(path=str(ARTIFACTS / "topic-view-hostile.png"))
+            _screenshot(page, view, "topic-view-hostile.png")
 
             # A click on another topic's mark in the sources chart moves every panel.
             before = _selected_topic(view)
             docs_before = view.locator(".tmc-doc").all_inner_texts()
             terms_before = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
-                "els => els.map(e => e.getAttribute('aria-label'))")
+                "els => els.map(e => e.getAttribute('aria-label'))"
+            )
             marks = view.locator(".tmc-sources path[aria-label*='name: ']")
             labels = marks.evaluate_all("els => els.map(e => e.getAttribute('aria-label'))")
-            target = next(i for i, a in enumerate(labels)
-                          if int(re.search(r"name: (\d+) ·", a).group(1)) != before)
+            target = next(
+                i
+                for i, a in enumerate(labels)
+                if int(re.search(r"name: (\d+) ·", a).group(1)) != before
+            )
             wanted = int(re.search(r"name: (\d+) ·", labels[target]).group(1))
             marks.nth(target).click(force=True)
             page.wait_for_function(
                 "([n]) => (document.querySelector('.tmc-topic-view .tmc-selected') || {}).innerText"
-                "?.includes('Reading topic ' + n + ' ')", arg=[wanted], timeout=30_000)
+                "?.includes('Reading topic ' + n + ' ')",
+                arg=[wanted],
+                timeout=30_000,
+            )
             page.wait_for_timeout(500)
             assert view.locator(".tmc-doc").all_inner_texts() != docs_before
             terms_after = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
-                "els => els.map(e => e.getAttribute('aria-label'))")
+                "els => els.map(e => e.getAttribute('aria-label'))"
+            )
             assert terms_after and terms_after != terms_before
 
             # A label saved through the form reaches the store.
@@ -186,13 +250,15 @@ def test_quickstart_in_jupyterlab(tmp_path):
             form.locator(".widget-textarea textarea").fill("saved from the browser test")
             form.locator("button", has_text="Save label").click()
             form.get_by_text("Saved as version").wait_for(timeout=30_000)
-            view.screenshot(path=str(ARTIFACTS / "topic-view.png"))
+            _screenshot(page, view, "topic-view.png")
         finally:
             browser.close()
 
     store = LabelStore(root / "quickstart-project")
     saved = store.history()
-    assert ((saved["name"] == name) & (saved["topic"] == wanted) & (saved["analyst"] == "analyst_a")).any()
+    assert (
+        (saved["name"] == name) & (saved["topic"] == wanted) & (saved["analyst"] == "analyst_a")
+    ).any()
     assert dialogs == []  # no alert() from the hostile markup ever ran
     foreign = [u for u in requests if not LOCAL.match(u)]
     assert foreign == []

@@ -25,13 +25,23 @@ def sweep_scores():
 def comparison_frames():
     names = {t: f"{t} · word{t}" for t in range(4)}
     prev = pd.DataFrame(
-        [(t, names[t], s, e, e - 0.01, e + 0.01)
-         for t, (a, b) in enumerate([(0.4, 0.2), (0.3, 0.3), (0.2, 0.3), (0.1, 0.2)])
-         for s, e in (("shared", a), ("visited", b))],
-        columns=["topic", "name", "source", "estimate", "lower", "upper"])
-    diff = pd.DataFrame({"topic": [0, 1, 3, 2], "name": [names[t] for t in (0, 1, 3, 2)],
-                         "estimate": [0.2, 0.0, -0.1, -0.1], "lower": [0.15, -0.05, -0.15, -0.16],
-                         "upper": [0.25, 0.05, -0.05, -0.04], "clear": [True, False, True, True]})
+        [
+            (t, names[t], s, e, e - 0.01, e + 0.01)
+            for t, (a, b) in enumerate([(0.4, 0.2), (0.3, 0.3), (0.2, 0.3), (0.1, 0.2)])
+            for s, e in (("shared", a), ("visited", b))
+        ],
+        columns=["topic", "name", "source", "estimate", "lower", "upper"],
+    )
+    diff = pd.DataFrame(
+        {
+            "topic": [0, 1, 3, 2],
+            "name": [names[t] for t in (0, 1, 3, 2)],
+            "estimate": [0.2, 0.0, -0.1, -0.1],
+            "lower": [0.15, -0.05, -0.15, -0.16],
+            "upper": [0.25, 0.05, -0.05, -0.04],
+            "clear": [True, False, True, True],
+        }
+    )
     return prev, diff
 
 
@@ -44,8 +54,13 @@ def _svg(chart) -> str:
 
 
 def test_sweep_chart_is_valid_and_marks_the_suggestion(sweep_scores):
-    chart = charts.sweep_chart(sweep_scores, title="NPMI", recommended_k=10,
-                               rule="highest mean NPMI <among> stable k", picked=(10, 1))
+    chart = charts.sweep_chart(
+        sweep_scores,
+        title="NPMI",
+        recommended_k=10,
+        rule="highest mean NPMI <among> stable k",
+        picked=(10, 1),
+    )
     spec = chart.to_dict()  # validates against the Vega-Lite schema (altair)
     params = _params(spec)
     assert params[charts.FIT_PICK]["select"]["fields"] == ["k", "seed"]
@@ -63,8 +78,14 @@ def test_sweep_chart_mean_line_is_the_mean_over_seeds(sweep_scores):
     line = next(layer for layer in spec["layer"] if layer["mark"]["type"] == "line")
     assert line["encoding"]["y"] == {"aggregate": "mean", "field": "value", "type": "quantitative"}
     band = next(layer for layer in spec["layer"] if layer["mark"]["type"] == "area")
-    assert band["encoding"]["y"]["aggregate"] == "min" and band["encoding"]["y2"]["aggregate"] == "max"
-    rows = spec["datasets"][spec["data"]["name"]] if "data" in spec else next(iter(spec["datasets"].values()))
+    assert (
+        band["encoding"]["y"]["aggregate"] == "min" and band["encoding"]["y2"]["aggregate"] == "max"
+    )
+    rows = (
+        spec["datasets"][spec["data"]["name"]]
+        if "data" in spec
+        else next(iter(spec["datasets"].values()))
+    )
     assert len(rows) == len(sweep_scores)  # one row per fit, never per document
 
 
@@ -85,8 +106,10 @@ def test_source_chart_orders_topics_by_difference_and_shares_one_click(compariso
 
 
 def test_terms_chart_filters_to_the_focus_topic():
-    terms = pd.DataFrame([(t, f"t{t}w{i}", 1 / (i + 1), i + 1) for t in range(3) for i in range(4)],
-                         columns=["topic", "term", "score", "rank"])
+    terms = pd.DataFrame(
+        [(t, f"t{t}w{i}", 1 / (i + 1), i + 1) for t in range(3) for i in range(4)],
+        columns=["topic", "term", "score", "rank"],
+    )
     chart = charts.terms_chart(terms, focus=2, title="probability")
     spec = chart.to_dict()
     assert spec["transform"] == [{"filter": f"datum.topic == {charts.FOCUS}"}]

@@ -474,10 +474,13 @@ def test_check_reports_tampered_version_order(ana):
 
 def test_check_reports_orphans_and_unknown_values(ana):
     ana.save(MODEL, 0, name="a")
+    ana.settle(MODEL, 0, name="a")
     _tamper(ana, "UPDATE labels SET round_id = 42, verdict = 'brilliant', category = 'Ghost'")
+    _tamper(ana, """UPDATE consensus SET sources = '["ghost-uid"]'""")
     problems = " | ".join(ana.check().problems)
     assert "refers to round 42, which does not exist" in problems
     assert "verdict 'brilliant'" in problems and "category 'Ghost', not in the codebook" in problems
+    assert "settled from labels ['ghost-uid'], which do not exist" in problems
 
 
 def test_project_store_is_an_sqlite_file_in_wal_mode(tmp_path):

@@ -13,7 +13,7 @@ import pytest
 from gensim.corpora import Dictionary
 from gensim.models import CoherenceModel, LdaModel
 from gensim.utils import simple_preprocess
-from hypothesis import given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from tm_compare.errors import InputError, SettingsError
@@ -132,8 +132,10 @@ def test_adversarial_small_corpora_equal_gensim(texts, topics, windows):
     # word; dictionary words absent from the texts have zero counts.
     dictionary = Dictionary([list("abcdefgh")])
     topics = [t for t in topics if any(w != "oov" for w in t)]
-    if not topics:
-        return
+    known = [[w for w in t if w != "oov"] for t in topics]
+    # gensim truncates every topic to topn only when its first topic is longer than
+    # topn (documented difference: we truncate each topic).
+    assume(topics and (len(known[0]) > 4 or all(len(k) <= 4 for k in known)))
     small, large = windows
     sizes = {"npmi": small, "uci": small, "c_v": large}
     scorer = CoherenceScorer(texts, dictionary, topn=4, window_sizes=sizes).fit([topics])
@@ -195,7 +197,7 @@ def test_scorer_refuses_bad_input():
         CoherenceScorer(texts, topn=0).fit([[["a", "b"]]])
     with pytest.raises(SettingsError, match="'window_sizes'"):
         CoherenceScorer(texts, window_sizes={"npmi": 0}).fit([[["a", "b"]]])
-    with pytest.raises(SettingsError, match="'models_top_words'"):
+    with pytest.raises(SettingsError, match=r"'models_top_words\[0\]'"):
         CoherenceScorer(texts).fit([["a", "b"]])
     with pytest.raises(InputError, match="before fit"):
         CoherenceScorer(texts).score([["a", "b"]])

@@ -170,6 +170,14 @@ def test_disk_full_mid_save_keeps_earlier_fits_and_leaves_no_half_file(
     assert len(resumed.scores) == 2
 
 
+def test_sklearn_engine_sweeps_like_gensim(small, tmp_path):
+    result = sweep(small, k=[3], seeds=2, engine="sklearn", project=tmp_path, **FAST)
+    assert result.scores["engine"].tolist() == ["sklearn", "sklearn"]
+    assert sorted(p.name[:11] for p in (tmp_path / "fits").glob("*.npz")) == ["sklearn-k3-"] * 2
+    alone = fit_lda(small, 3, seed=1, engine="sklearn", passes=1, chunksize=100)
+    np.testing.assert_array_equal(result.model(k=3, seed=1).topic_term, alone.topic_term)
+
+
 def test_progress_bar_counts_fits_done_of_total(small, capsys):
     sweep(small, k=[3], seeds=2, **{**FAST, "progress": True})
     err = capsys.readouterr().err

@@ -170,7 +170,7 @@ def count(
     lengths = index.lengths
     n_windows = np.ones_like(lengths) if window is None else np.maximum(1, lengths - window + 1)
     window_offsets = np.concatenate(([0], np.cumsum(n_windows)))
-    relevant = np.full(len(index.vocab) + 1, -1, dtype=np.int32)
+    relevant = np.full(len(index.vocab), -1, dtype=np.int32)
     present = word_ids >= 0
     relevant[word_ids[present]] = np.flatnonzero(present)
 
@@ -189,7 +189,7 @@ def count(
         for keys, overlap in pairs:
             if dense:
                 pair_total += np.bincount(keys, weights=overlap, minlength=len(pair_total))
-            else:
+            elif len(pair_keys):
                 slot = np.searchsorted(pair_keys, keys)
                 slot = np.minimum(slot, len(pair_keys) - 1)
                 hit = pair_keys[slot] == keys

@@ -27,8 +27,11 @@ def load(ipython) -> None:
 
 
 def _parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(prog="%tm_compare", exit_on_error=False,
-                                     description="Open the views of a tm_compare project.")
+    parser = argparse.ArgumentParser(
+        prog="%tm_compare",
+        exit_on_error=False,
+        description="Open the views of a tm_compare project.",
+    )
     parser.add_argument("project", help="project folder with a saved sweep")
     parser.add_argument("--k", type=int, help="open the model with this k")
     parser.add_argument("--seed", type=int, help="seed of that model")
@@ -47,8 +50,10 @@ def tm_compare_magic(line: str):
     try:
         args = _parser().parse_args(shlex.split(line))
     except (argparse.ArgumentError, SystemExit) as exc:
-        msg = (f"%tm_compare could not read {line!r}: {exc}. "
-               "Usage: %tm_compare PROJECT [--k K --seed S] [--analyst NAME].")
+        msg = (
+            f"%tm_compare could not read {line!r}: {exc}. "
+            "Usage: %tm_compare PROJECT [--k K --seed S] [--analyst NAME]."
+        )
         raise SettingsError(msg) from None
     project = Project.open(args.project)
     sweep = Sweep.load(project)
@@ -65,8 +70,11 @@ def _prepared_of(project, sweep):
     from .errors import ProjectError
     from .prepared import PreparedCorpus
 
-    folders = sorted((p for p in project.folder("prepared").iterdir() if p.is_dir()),
-                     key=lambda p: p.stat().st_mtime, reverse=True)
+    folders = sorted(
+        (p for p in project.folder("prepared").iterdir() if p.is_dir()),
+        key=lambda p: p.stat().st_mtime,
+        reverse=True,
+    )
     wanted = getattr(sweep, "corpus_fingerprint_", None)
     loaded = [PreparedCorpus.load(f) for f in folders]
     for prepared in loaded:
@@ -74,15 +82,19 @@ def _prepared_of(project, sweep):
             return prepared
     if loaded:
         return loaded[0]
-    msg = (f"The project {str(project.path)!r} holds no prepared corpus. "
-           "Run `tm-compare prepare ... --project DIR` or prepare(corpus, project=...) first.")
+    msg = (
+        f"The project {str(project.path)!r} holds no prepared corpus. "
+        "Run `tm-compare prepare ... --project DIR` or prepare(corpus, project=...) first."
+    )
     raise ProjectError(msg)
 
 
 def _table(frame: pd.DataFrame) -> str:
     head = "".join(f'<th style="{_CELL}">{esc(c)}</th>' for c in frame.columns)
-    rows = "".join("<tr>" + "".join(f'<td style="{_CELL}">{esc(v)}</td>' for v in row) + "</tr>"
-                   for row in frame.itertuples(index=False))
+    rows = "".join(
+        "<tr>" + "".join(f'<td style="{_CELL}">{esc(v)}</td>' for v in row) + "</tr>"
+        for row in frame.itertuples(index=False)
+    )
     return f'<table style="{_TABLE}"><tr>{head}</tr>{rows}</table>'
 
 
@@ -101,10 +113,12 @@ def sweep_html(sweep) -> str | None:
     except Exception as exc:  # a summary must never fail the cell
         advice = f"<p>No suggestion: {esc(exc)}</p>"
     seeds = sorted(scores["seed"].unique().tolist())
-    return (f"<div><b>Sweep</b>: {len(scores)} fits, k = {esc(sorted(scores['k'].unique().tolist()))}, "
-            f"seeds {esc(seeds)}, engine {esc(sweep.engine)}.{advice}"
-            f"<div style='font-size:12px;color:#6b7078'>Mean over seeds:</div>{_table(by_k)}"
-            "<div style='font-size:12px;color:#6b7078'>Open it with <code>tm_compare.SweepView(sweep)</code>.</div></div>")
+    return (
+        f"<div><b>Sweep</b>: {len(scores)} fits, k = {esc(sorted(scores['k'].unique().tolist()))}, "
+        f"seeds {esc(seeds)}, engine {esc(sweep.engine)}.{advice}"
+        f"<div style='font-size:12px;color:#6b7078'>Mean over seeds:</div>{_table(by_k)}"
+        "<div style='font-size:12px;color:#6b7078'>Open it with <code>tm_compare.SweepView(sweep)</code>.</div></div>"
+    )
 
 
 def fit_html(fit) -> str:
@@ -113,8 +127,10 @@ def fit_html(fit) -> str:
     topics = pd.DataFrame({"topic": range(len(words)), "top words": [" ".join(w) for w in words]})
     perplexity = getattr(fit, "perplexity", None)
     shown = "" if perplexity is None else f", held-out perplexity {perplexity:,.1f}"
-    return (f"<div><b>LDA fit</b>: k = {int(fit.k)}, seed {int(fit.seed)}, engine {esc(fit.engine)} "
-            f"{esc(fit.engine_version)}, {len(fit.doc_ids):,} documents, {len(fit.vocab):,} terms, "
-            f"{fit.fit_seconds:.1f} s{shown}.{_table(topics)}"
-            "<div style='font-size:12px;color:#6b7078'>Read it with "
-            "<code>tm_compare.TopicView(fit, prepared)</code>.</div></div>")
+    return (
+        f"<div><b>LDA fit</b>: k = {int(fit.k)}, seed {int(fit.seed)}, engine {esc(fit.engine)} "
+        f"{esc(fit.engine_version)}, {len(fit.doc_ids):,} documents, {len(fit.vocab):,} terms, "
+        f"{fit.fit_seconds:.1f} s{shown}.{_table(topics)}"
+        "<div style='font-size:12px;color:#6b7078'>Read it with "
+        "<code>tm_compare.TopicView(fit, prepared)</code>.</div></div>"
+    )

@@ -278,6 +278,7 @@ def translate(exc: Exception, url: URL, timeout: float) -> LabelStoreError:
 
 
 def _v1_to_v2(conn: sa.Connection) -> None:
+    """Version 2: categories from a codebook, coding rounds, and consensus labels."""
     metadata.create_all(conn, tables=[rounds, codebook, consensus])
     conn.execute(sa.text("ALTER TABLE labels ADD COLUMN category TEXT"))
     conn.execute(sa.text("ALTER TABLE labels ADD COLUMN round_id INTEGER REFERENCES rounds (id)"))
@@ -379,6 +380,16 @@ def integrity_problems(conn: sa.Connection, verdicts: list[str]) -> list[str]:
         f"labels: row {r.id} refers to round {r.round_id}, which does not exist"
         for r in orphan_rounds
     ]
+    uids = set(conn.execute(sa.select(labels.c.uid)).scalars())
+    for row in conn.execute(sa.select(consensus.c.id, consensus.c.sources)):
+        try:
+            missing = sorted(set(json.loads(row.sources)) - uids)
+        except (TypeError, ValueError):
+            missing = [f"unreadable list {row.sources!r}"]
+        if missing:
+            problems.append(
+                f"consensus: row {row.id} was settled from labels {missing}, which do not exist"
+            )
     known = set(conn.execute(sa.select(codebook.c.category)).scalars())
     for table in (labels, consensus):
         for row in conn.execute(

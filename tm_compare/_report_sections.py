@@ -33,6 +33,11 @@ def pval(value) -> str:
     return "< 0.001" if value < 0.001 else f"{value:.3g}"
 
 
+def interval(low, high) -> str:
+    """An interval of differences, e.g. '-0.040 to +0.137'."""
+    return f"{num(low, sign=True)} to {num(high, sign=True)}"
+
+
 def table(frame: pd.DataFrame, columns, *, key: str, caption: str = "") -> dict:
     """A table for the template: ``columns`` is a list of (column, header, format or None)."""
     rows = []
@@ -40,7 +45,9 @@ def table(frame: pd.DataFrame, columns, *, key: str, caption: str = "") -> dict:
         cells = []
         for column, _, fmt in columns:
             value = record[column] if isinstance(column, str) else column(record)
-            numeric = fmt is not None or isinstance(value, int | float) and not isinstance(value, bool)
+            numeric = (
+                fmt is not None or isinstance(value, int | float) and not isinstance(value, bool)
+            )
             cells.append({"text": fmt(value) if fmt else _text(value), "num": numeric})
         rows.append(cells)
     return {"key": key, "caption": caption, "headers": [h for _, h, _ in columns], "rows": rows}
@@ -82,9 +89,15 @@ def corpus_section(results) -> dict:
     else:
         meta = prepared.meta
         per_source = (
-            meta.groupby("source").agg(modelled=("id", "size"), exposure=("weight", "sum")).reset_index()
+            meta.groupby("source")
+            .agg(modelled=("id", "size"), exposure=("weight", "sum"))
+            .reset_index()
         )
-        columns = [("source", "source", None), ("modelled", "modelled", _int), ("exposure", "exposure", _int)]
+        columns = [
+            ("source", "source", None),
+            ("modelled", "modelled", _int),
+            ("exposure", "exposure", _int),
+        ]
     removals = results.tables["removals"]
     boiler = getattr(prepared, "boilerplate", None)
     return {
@@ -147,7 +160,9 @@ def sweep_section(results, made: dict) -> dict:
             if name in made
         ],
         "rule": results.recommendation.rule,
-        "table": table(rec, [c for c in cols if not isinstance(c[0], str) or c[0] in rec], key="sweep"),
+        "table": table(
+            rec, [c for c in cols if not isinstance(c[0], str) or c[0] in rec], key="sweep"
+        ),
         "n_fits": len(scores),
         "ks": ", ".join(map(str, sorted(scores["k"].unique()))),
         "seeds": ", ".join(map(str, sorted(scores["seed"].unique()))),
@@ -159,7 +174,9 @@ def topics_section(results) -> dict:
     t = results.tables
     terms = t["terms"]
     words = {
-        m: terms[(terms["method"] == m) & (terms["rank"] <= WORDS)].groupby("topic")["term"].agg(" ".join)
+        m: terms[(terms["method"] == m) & (terms["rank"] <= WORDS)]
+        .groupby("topic")["term"]
+        .agg(" ".join)
         for m in ("probability", "frex")
     }
     consensus = t["consensus"].set_index("topic") if len(t["consensus"]) else None
@@ -200,7 +217,7 @@ def comparison_section(results, made: dict) -> dict | None:
     first = diff.iloc[0]
     diff = diff.assign(caption=diff["topic"].map(results.captions))
     prev = t["prevalence"].assign(caption=t["prevalence"]["topic"].map(results.captions))
-    heavy = t["influence"]
+    heavy = t.get("influence")
     out = {
         "weighting": s["weighting"],
         "cluster": s["cluster"],
@@ -215,16 +232,13 @@ def comparison_section(results, made: dict) -> dict | None:
             diff,
             [
                 ("caption", "topic", None),
-                ("source", "source", None),
-                ("other", "compared with", None),
+                (lambda r: f"{r['source']} vs {r['other']}", "comparison", None),
                 ("prevalence", "prevalence", num),
-                ("prevalence_other", "prevalence (other)", num),
+                ("prevalence_other", "in the other", num),
                 ("difference", "difference", lambda v: num(v, sign=True)),
-                ("diff_ci_low", "interval from", lambda v: num(v, sign=True)),
-                ("diff_ci_high", "to", lambda v: num(v, sign=True)),
+                (lambda r: interval(r["diff_ci_low"], r["diff_ci_high"]), "interval", None),
                 ("ratio", "ratio", lambda v: num(v, 2)),
-                ("p_value", "p", pval),
-                ("p_adjusted", "p adjusted", pval),
+                ("p_adjusted", "adjusted p", pval),
                 ("significant", "stands", None),
             ],
             key="differences",
@@ -235,14 +249,15 @@ def comparison_section(results, made: dict) -> dict | None:
                 ("caption", "topic", None),
                 ("source", "source", None),
                 ("prevalence", "prevalence", num),
-                ("ci_low", "interval from", num),
-                ("ci_high", "to", num),
+                (lambda r: f"{num(r['ci_low'])} to {num(r['ci_high'])}", "interval", None),
                 ("n_documents", "documents", _int),
                 ("n_units", "clusters resampled", _int),
             ],
             key="prevalence",
         ),
-        "influence": table(
+        "influence": None
+        if heavy is None
+        else table(
             heavy,
             [
                 ("source", "source", None),
@@ -255,8 +270,15 @@ def comparison_section(results, made: dict) -> dict | None:
             ],
             key="influence",
         ),
-        "flagged": [
-            {"group": r.group, "source": r.source, "share": f"{r.share:.0%}", "threshold": f"{r.threshold:.0%}"}
+        "flagged": []
+        if heavy is None
+        else [
+            {
+                "group": r.group,
+                "source": r.source,
+                "share": f"{r.share:.0%}",
+                "threshold": f"{r.threshold:.0%}",
+            }
             for r in heavy[heavy["flagged"]].itertuples(index=False)
         ],
         "cap": None,
@@ -301,7 +323,9 @@ def documents_section(results) -> list[dict]:
                                         f"id {r['id']}",
                                         f"share {r['topic_share']:.2f}",
                                         f"exposure {_int(r['exposure'])}",
-                                        f"{r['n_collapsed']} near-copies folded in" if r["n_collapsed"] else "",
+                                        f"{r['n_collapsed']} near-copies folded in"
+                                        if r["n_collapsed"]
+                                        else "",
                                     )
                                     if x and x != "–"
                                 ),
@@ -329,7 +353,10 @@ def labels_section(results) -> dict:
     for who in analysts:
         rows[f"{who}_name"] = side[("name", who)].to_numpy()
         rows[f"{who}_verdict"] = side[("verdict", who)].to_numpy()
-        columns += [(f"{who}_name", f"{who}: name", None), (f"{who}_verdict", f"{who}: verdict", None)]
+        columns += [
+            (f"{who}_name", f"{who}: name", None),
+            (f"{who}_verdict", f"{who}: verdict", None),
+        ]
     overall = agree[agree["scope"] == "overall"]
     return {
         "empty": False,
@@ -349,8 +376,7 @@ def labels_section(results) -> dict:
             [
                 ("field", "field", None),
                 ("topic", "topic", None),
-                ("percent_agreement", "agreement", _pct),
-                ("alpha", "alpha (topic's share)", lambda v: num(v, 2)),
+                ("percent_agreement", "pairs agreeing", _pct),
                 ("n_coders", "analysts", _int),
             ],
             key="agreement",
@@ -374,10 +400,16 @@ def reproduce_section(results) -> dict:
     ]
     versions = package_versions()
     return {
-        "settings": table(pd.DataFrame(rows, columns=["what", "value"]),
-                          [("what", "", None), ("value", "", None)], key="settings"),
-        "versions": table(pd.DataFrame(sorted(versions.items()), columns=["package", "version"]),
-                          [("package", "package", None), ("version", "version", None)], key="versions"),
+        "settings": table(
+            pd.DataFrame(rows, columns=["what", "value"]),
+            [("what", "setting", None), ("value", "value", None)],
+            key="settings",
+        ),
+        "versions": table(
+            pd.DataFrame(sorted(versions.items()), columns=["package", "version"]),
+            [("package", "package", None), ("version", "version", None)],
+            key="versions",
+        ),
         "command": f"tm-compare report {results.project.path} --k {fit.k} --seed {fit.seed}",
     }
 

@@ -71,8 +71,12 @@ def sweep_chart(
     data["k"] = data["k"].astype(int)
     data["seed"] = data["seed"].astype(int)
     pick = alt.selection_point(name=FIT_PICK, fields=["k", "seed"], on="click")
-    x = alt.X("k:Q", title="number of topics (k)", scale=alt.Scale(zero=False),
-              axis=alt.Axis(tickMinStep=1, format="d"))
+    x = alt.X(
+        "k:Q",
+        title="number of topics (k)",
+        scale=alt.Scale(zero=False),
+        axis=alt.Axis(tickMinStep=1, format="d"),
+    )
     base = alt.Chart(data)
     band = base.mark_area(opacity=0.18, color=PALETTE[0]).encode(
         x=x, y=alt.Y("min(value):Q", title=title, scale=alt.Scale(zero=False)), y2="max(value):Q"
@@ -80,27 +84,47 @@ def sweep_chart(
     line = base.mark_line(color=PALETTE[0], strokeWidth=2).encode(x=x, y="mean(value):Q")
     picked_param = alt.param(name=PICKED, value=fit_key(*picked) if picked else "")
     is_picked = f"datum.k + ':' + datum.seed == {PICKED}"
-    dots = base.mark_point(filled=True, cursor="pointer").encode(
-        x=x,
-        y="value:Q",
-        color=alt.condition(is_picked, alt.value(PALETTE[1]), alt.value(INK)),
-        opacity=alt.condition(is_picked, alt.value(1.0), alt.value(0.55)),
-        size=alt.condition(is_picked, alt.value(140), alt.value(60)),
-        tooltip=[alt.Tooltip("k:Q"), alt.Tooltip("seed:Q"), alt.Tooltip("value:Q", title=title, format=".4f")],
-    ).add_params(pick, picked_param)
+    dots = (
+        base.mark_point(filled=True, cursor="pointer")
+        .encode(
+            x=x,
+            y="value:Q",
+            color=alt.condition(is_picked, alt.value(PALETTE[1]), alt.value(INK)),
+            opacity=alt.condition(is_picked, alt.value(1.0), alt.value(0.55)),
+            size=alt.condition(is_picked, alt.value(140), alt.value(60)),
+            tooltip=[
+                alt.Tooltip("k:Q"),
+                alt.Tooltip("seed:Q"),
+                alt.Tooltip("value:Q", title=title, format=".4f"),
+            ],
+        )
+        .add_params(pick, picked_param)
+    )
     layers = [band, line, dots]
     if recommended_k is not None:
-        mark = pd.DataFrame({"k": [int(recommended_k)], "note": [f"suggested k = {int(recommended_k)}"]})
-        layers.append(alt.Chart(mark).mark_rule(color=ACCENT, strokeWidth=2, strokeDash=[5, 3]).encode(x="k:Q"))
+        mark = pd.DataFrame(
+            {"k": [int(recommended_k)], "note": [f"suggested k = {int(recommended_k)}"]}
+        )
         layers.append(
-            alt.Chart(mark).mark_text(align="left", dx=5, dy=-4, color=INK, fontWeight="bold")
+            alt.Chart(mark)
+            .mark_rule(color=ACCENT, strokeWidth=2, strokeDash=[5, 3])
+            .encode(x="k:Q")
+        )
+        layers.append(
+            alt.Chart(mark)
+            .mark_text(align="left", dx=5, dy=-4, color=INK, fontWeight="bold")
             .encode(x="k:Q", y=alt.value(8), text="note:N")
         )
     subtitle = rule or ""
     return alt.layer(*layers).properties(
-        width=width, height=height,
-        title=alt.Title(f"{title} against k (dots: seeds; band: range over seeds)",
-                        subtitle=_wrap(subtitle), anchor="start", fontSize=13),
+        width=width,
+        height=height,
+        title=alt.Title(
+            f"{title} against k (dots: seeds; band: range over seeds)",
+            subtitle=_wrap(subtitle),
+            anchor="start",
+            fontSize=13,
+        ),
     )
 
 
@@ -144,39 +168,76 @@ def source_chart(
     y = alt.Y("name:N", sort=order, title=None, axis=alt.Axis(labelLimit=260))
     y_bare = alt.Y("name:N", sort=order, axis=None)
     offset = alt.YOffset("source:N", scale=alt.Scale(domain=sources))
-    colour = alt.Color("source:N", scale=_source_scale(sources), legend=alt.Legend(orient="top", title=None))
-    tip = [alt.Tooltip("name:N", title="topic"), alt.Tooltip("source:N"),
-           alt.Tooltip("estimate:Q", format=".3f"), alt.Tooltip("lower:Q", format=".3f"),
-           alt.Tooltip("upper:Q", format=".3f")]
+    colour = alt.Color(
+        "source:N", scale=_source_scale(sources), legend=alt.Legend(orient="top", title=None)
+    )
+    tip = [
+        alt.Tooltip("name:N", title="topic"),
+        alt.Tooltip("source:N"),
+        alt.Tooltip("estimate:Q", format=".3f"),
+        alt.Tooltip("lower:Q", format=".3f"),
+        alt.Tooltip("upper:Q", format=".3f"),
+    ]
     base = alt.Chart(prevalence)
-    left = alt.layer(
-        base.mark_rule(strokeWidth=2).encode(
-            x=alt.X("lower:Q", title="share of the source (interval)"), x2="upper:Q", y=y,
-            yOffset=offset, color=colour, opacity=faded),
-        base.mark_point(filled=True, size=45, cursor="pointer").encode(
-            x="estimate:Q", y=y, yOffset=offset, color=colour, opacity=faded, tooltip=tip),
-    ).add_params(pick).properties(width=300, height=height, title="How much each source carries each topic")
+    left = (
+        alt.layer(
+            base.mark_rule(strokeWidth=2).encode(
+                x=alt.X("lower:Q", title="share of the source (interval)"),
+                x2="upper:Q",
+                y=y,
+                yOffset=offset,
+                color=colour,
+                opacity=faded,
+            ),
+            base.mark_point(filled=True, size=45, cursor="pointer").encode(
+                x="estimate:Q", y=y, yOffset=offset, color=colour, opacity=faded, tooltip=tip
+            ),
+        )
+        .add_params(pick)
+        .properties(width=300, height=height, title="How much each source carries each topic")
+    )
     diff_base = alt.Chart(difference)
     diff_colour = alt.condition("datum.clear", alt.value(PALETTE[1]), alt.value(INK))
-    right = alt.layer(
-        alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
-        diff_base.mark_rule(strokeWidth=2).encode(
-            x=alt.X("lower:Q", title=contrast), x2="upper:Q", y=y_bare, color=diff_colour, opacity=faded),
-        diff_base.mark_point(filled=True, size=55, shape="diamond", cursor="pointer").encode(
-            x="estimate:Q", y=y_bare, color=diff_colour, opacity=faded,
-            tooltip=[alt.Tooltip("name:N", title="topic"), alt.Tooltip("estimate:Q", format="+.3f"),
-                     alt.Tooltip("lower:Q", format="+.3f"), alt.Tooltip("upper:Q", format="+.3f")]),
-    ).add_params(pick).properties(width=230, height=height, title="Difference (red: clear)")
+    right = (
+        alt.layer(
+            alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
+            diff_base.mark_rule(strokeWidth=2).encode(
+                x=alt.X("lower:Q", title=contrast),
+                x2="upper:Q",
+                y=y_bare,
+                color=diff_colour,
+                opacity=faded,
+            ),
+            diff_base.mark_point(filled=True, size=55, shape="diamond", cursor="pointer").encode(
+                x="estimate:Q",
+                y=y_bare,
+                color=diff_colour,
+                opacity=faded,
+                tooltip=[
+                    alt.Tooltip("name:N", title="topic"),
+                    alt.Tooltip("estimate:Q", format="+.3f"),
+                    alt.Tooltip("lower:Q", format="+.3f"),
+                    alt.Tooltip("upper:Q", format="+.3f"),
+                ],
+            ),
+        )
+        .add_params(pick)
+        .properties(width=230, height=height, title="Difference (red: clear)")
+    )
     with warnings.catch_warnings():
         # One click selection shared by both panels is what we want; Altair merges it and warns.
         warnings.filterwarnings("ignore", message="Automatically deduplicated selection")
         chart = alt.hconcat(left, right, spacing=8)
     return chart.add_params(focus_param).properties(
-        title=alt.Title("Sources side by side", subtitle=_wrap(note, 110), anchor="start", fontSize=14)
+        title=alt.Title(
+            "Topic prevalence by source", subtitle=_wrap(note, 110), anchor="start", fontSize=14
+        )
     )
 
 
-def terms_chart(terms: pd.DataFrame, *, focus: int | None = None, title: str = "score") -> alt.Chart:
+def terms_chart(
+    terms: pd.DataFrame, *, focus: int | None = None, title: str = "score"
+) -> alt.Chart:
     """Top terms of the topic in focus as bars; holds every topic's terms so focus can change in place.
 
     Parameters
@@ -194,10 +255,16 @@ def terms_chart(terms: pd.DataFrame, *, focus: int | None = None, title: str = "
         .encode(
             x=alt.X("score:Q", title=title),
             y=alt.Y("term:N", sort=alt.EncodingSortField("rank", order="ascending"), title=None),
-            tooltip=[alt.Tooltip("term:N"), alt.Tooltip("score:Q", format=".4g"), alt.Tooltip("rank:Q")],
+            tooltip=[
+                alt.Tooltip("term:N"),
+                alt.Tooltip("score:Q", format=".4g"),
+                alt.Tooltip("rank:Q"),
+            ],
         )
         .add_params(pick, _focus_param(focus))
-        .properties(width=240, height=alt.Step(15), title=alt.Title("Terms of the topic", anchor="start"))
+        .properties(
+            width=240, height=alt.Step(15), title=alt.Title("Terms of the topic", anchor="start")
+        )
     )
 
 
@@ -221,8 +288,15 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Cha
             x=alt.X("score:Q", title=f"<- more in {sources[1]}   |   more in {sources[0]} ->"),
             y=alt.Y("term:N", sort=alt.EncodingSortField("score", order="descending"), title=None),
             color=alt.Color("leans:N", scale=_source_scale(list(sources)), legend=None),
-            tooltip=[alt.Tooltip("term:N"), alt.Tooltip("score:Q", format="+.2f"), alt.Tooltip("leans:N", title="more in")],
+            tooltip=[
+                alt.Tooltip("term:N"),
+                alt.Tooltip("score:Q", format="+.2f"),
+                alt.Tooltip("leans:N", title="more in"),
+            ],
         )
-        .properties(width=240, height=alt.Step(15),
-                    title=alt.Title("How each source words it", anchor="start"))
+        .properties(
+            width=240,
+            height=alt.Step(15),
+            title=alt.Title("How each source words it", anchor="start"),
+        )
     )

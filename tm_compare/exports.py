@@ -86,8 +86,9 @@ class Results:
         if len(self.sources) > 1:
             tables = self.model_tables.comparison(s["weighting"], s["cluster"])
             t["prevalence"], t["differences"] = tables["prevalence"], tables["differences"]
-            t["influence"] = tables["influence"]
-            if s["cluster"] is not None and t["influence"]["flagged"].any():
+            if tables["influence"] is not None:  # None when documents are resampled
+                t["influence"] = tables["influence"]
+            if "influence" in t and t["influence"]["flagged"].any():
                 threshold = float(t["influence"]["threshold"].iloc[0])
                 t["cap_effect"] = cap_effect(
                     fit,
@@ -390,7 +391,9 @@ def undocumented(name: str, table: pd.DataFrame) -> list[str]:
     """Columns of ``table`` that :data:`COLUMNS` does not describe (``topic_N`` count as one)."""
     known = COLUMNS[name][1]
     return [
-        c for c in table.columns if c not in known and not (c.startswith("topic_") and name == "document_topics")
+        c
+        for c in table.columns
+        if c not in known and not (c.startswith("topic_") and name == "document_topics")
     ]
 
 
@@ -583,6 +586,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
     "labels": (
         "Each analyst's current label of each topic.",
         {
+            "id": "row number of this version in the store's history",
             "uid": "unique id of this label version",
             "model": "fingerprint of the model",
             "topic": "topic number",

@@ -158,17 +158,17 @@ class LabelStore:
         self._engine = _s.make_engine(self._url, self.timeout, read_only)
         wanted = None if verdicts is None else self._clean_verdicts(verdicts)
         with self._guard():
-            if read_only:
-                with self._engine.connect() as conn:
-                    version = _s.stored_version(conn)
-                if version is None:
-                    msg = f"No label store at {self.url}: the database is empty. Open it once without read_only=True to create it."
-                    raise LabelStoreError(msg)
+            with self._engine.connect() as conn:
+                version = _s.stored_version(conn)
+            if version is not None:
                 _s.refuse_newer(version, self.url)
-                if version < _s.SCHEMA_VERSION:
-                    msg = f"The label store {self.url} has schema version {version} and needs an upgrade to {_s.SCHEMA_VERSION}, which a read-only store cannot do. Open it once writable."
-                    raise LabelStoreError(msg)
-            else:
+            if read_only and version is None:
+                msg = f"No label store at {self.url}: the database is empty. Open it once without read_only=True to create it."
+                raise LabelStoreError(msg)
+            if read_only and version < _s.SCHEMA_VERSION:
+                msg = f"The label store {self.url} has schema version {version} and needs an upgrade to {_s.SCHEMA_VERSION}, which a read-only store cannot do. Open it once writable."
+                raise LabelStoreError(msg)
+            if version != _s.SCHEMA_VERSION:  # create or upgrade, under the write lock
                 settings = {"verdicts": json.dumps(list(wanted or DEFAULT_VERDICTS))}
                 with _s.write_transaction(self._engine) as conn:
                     _s.prepare_schema(conn, self.url, settings)
@@ -217,6 +217,7 @@ class LabelStore:
 
     @property
     def schema_version(self) -> int:
+        """The schema version recorded in the store."""
         with self._guard(), self._engine.connect() as conn:
             return _s.stored_version(conn)
 

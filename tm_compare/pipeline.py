@@ -185,20 +185,23 @@ def _influence_summary(results) -> str:
 def demo_labels(fit, topic_scores) -> dict[str, list[dict]]:
     """Labels two invented analysts give each topic, named from its top words.
 
-    Both name every topic from its top words, in their own way. ``analyst_a`` calls the
-    least coherent topic (NPMI) "mixed"; ``analyst_b`` calls the least stable topic "mixed"
-    and the second least coherent "noise": they agree on most verdicts, not all.
+    Both name every topic from its top words, in their own way, and both call the least
+    coherent topic (NPMI) "mixed"; ``analyst_b`` also calls the least stable of the other
+    topics "noise": they agree on most verdicts, not all.
     """
     words = fit.top_words(4)
-    order = topic_scores.sort_values("npmi", kind="stable")["topic"].tolist()
-    unstable = int(topic_scores.sort_values("stability", kind="stable")["topic"].iloc[0])
+    worst = int(topic_scores.sort_values("npmi", kind="stable")["topic"].iloc[0])
+    others = topic_scores[topic_scores["topic"] != worst]
+    unstable = int(others.sort_values(["stability", "npmi"], kind="stable")["topic"].iloc[0])
     verdicts = {
-        "analyst_a": {order[0]: "mixed"},
-        "analyst_b": {unstable: "mixed", order[1]: "noise"},
+        "analyst_a": {worst: "mixed"},
+        "analyst_b": {worst: "mixed", unstable: "noise"},
     }
     names = {
         "analyst_a": lambda w: " / ".join(w[:3]),
-        "analyst_b": lambda w: f"{w[0].replace('_', ' ')} and {w[1].replace('_', ' ')}".capitalize(),
+        "analyst_b": lambda w: (
+            f"{w[0].replace('_', ' ')} and {w[1].replace('_', ' ')}".capitalize()
+        ),
     }
     return {
         who: [
@@ -229,9 +232,7 @@ def attach_labels(run: DemoRun) -> str:
             for who, labels in demo_labels(fit, run.results.tables["topic_scores"]).items():
                 for label in labels:
                     mine = stores[who].label(fit, label["topic"])
-                    stores[who].save(
-                        fit, based_on=None if mine is None else mine.version, **label
-                    )
+                    stores[who].save(fit, based_on=None if mine is None else mine.version, **label)
             lead.close_round(fit)
             _settle(lead, fit)
         run.results.read_labels(lead)

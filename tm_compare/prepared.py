@@ -323,11 +323,11 @@ def _check_settings(corpus, settings: dict) -> dict:
             continue
         need(
             name,
-            not isinstance(value, str | bytes) and all(isinstance(w, str) for w in value),
+            isinstance(value, list | tuple | set | frozenset)
+            and all(isinstance(w, str) for w in value),
             "a list of strings" + (' or "english" or None' if name == "stop_words" else ""),
         )
         s[name] = sorted({normalise(w).strip() for w in value})
-    s["extra_stop_words"] = list(s["extra_stop_words"])
     by = s["boilerplate_by"]
     columns = [c for c in corpus.frame.columns if c != "text"]
     need(

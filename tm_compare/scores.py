@@ -155,7 +155,7 @@ class CoherenceScorer:
         if not hasattr(self, "counts_"):
             msg = "CoherenceScorer.score was called before fit(). Call fit(models_top_words) first."
             raise InputError(msg)
-        _check_models([top_words])
+        _check_topics(top_words, "CoherenceScorer.score", "top_words")
         topics = [_keep(t, self._vocab, self.topn) for t in top_words]
         unknown = sorted({w for t in topics for w in t} - self._position.keys())
         if unknown:
@@ -298,7 +298,7 @@ def stability(top_words_by_seed: Mapping, depth=10):
         for (i, j), value in zip(pairs, sims, strict=True):
             topic_scores[(sa, int(i))].append(value)
             topic_scores[(sb, int(j))].append(value)
-    per_pair = pd.DataFrame(pair_rows, columns=["seed_a", "seed_b", "stability"], dtype=object)
+    per_pair = pd.DataFrame(pair_rows, columns=["seed_a", "seed_b", "stability"])
     per_pair["stability"] = per_pair["stability"].astype(float)
     per_fit = pd.DataFrame(
         {
@@ -561,26 +561,24 @@ def _keep(topic, vocab, topn):
     return [w for w in topic if w in vocab][:topn]
 
 
+def _is_list(value) -> bool:
+    return isinstance(value, Sequence) and not isinstance(value, str)
+
+
+def _check_topics(top_words, owner, name, accepted=None, fix="Pass e.g. fit.top_words(10)."):
+    """Raise unless ``top_words`` is a non-empty list of word lists (one model)."""
+    if not (_is_list(top_words) and top_words and all(_is_list(t) for t in top_words)):
+        accepted = accepted or "a non-empty list (one per topic) of word lists"
+        raise param_error(owner, name, _short(top_words), accepted, fix)
+
+
 def _check_models(models_top_words):
-    ok = (
-        isinstance(models_top_words, Sequence)
-        and not isinstance(models_top_words, str)
-        and all(
-            isinstance(model, Sequence)
-            and not isinstance(model, str)
-            and len(model) > 0
-            and all(isinstance(t, Sequence) and not isinstance(t, str) for t in model)
-            for model in models_top_words
-        )
-    )
-    if not ok or not models_top_words:
-        raise param_error(
-            "CoherenceScorer",
-            "models_top_words",
-            _short(models_top_words),
-            "a non-empty list (one per model) of non-empty lists (one per topic) of word lists",
-            "For one model pass [top_words], e.g. [fit.top_words(10)].",
-        )
+    owner, fix = "CoherenceScorer.fit", "For one model pass [top_words]."
+    accepted = "a non-empty list (one per model) of non-empty lists (one per topic) of word lists"
+    if not (_is_list(models_top_words) and models_top_words):
+        raise param_error(owner, "models_top_words", _short(models_top_words), accepted, fix)
+    for i, model in enumerate(models_top_words):
+        _check_topics(model, owner, f"models_top_words[{i}]", fix=fix)
 
 
 def _short(value, limit=80):

@@ -128,6 +128,59 @@ class Sweep:
     # -- fitting -----------------------------------------------------------------------------
     def fit(self, prepared) -> Sweep:
         """Fit (or reload) every model of the grid on ``prepared``, then score them all."""
+        ks, seeds, measures, settings = self._checked_options()
+        data = TrainingData.from_prepared(prepared, self.holdout, self.holdout_seed, "sweep")
+        for k in ks:
+            check_k("sweep", k, data)
+        project = self.project
+        if project is not None and not isinstance(project, Project):
+            project = Project.create(project)
+        grid = [(k, seed) for k in ks for seed in seeds]
+        files = {}
+        if project is not None:
+            folder = project.folder("fits")
+            for k, seed in grid:
+                files[(k, seed)] = _fit_file(
+                    folder, data.corpus_fingerprint, self.engine, k, seed, settings
+                )
+        summaries, kept, todo = {}, {}, []
+        for key in grid:
+            fit = _load_finished(files[key]) if files else None
+            if fit is None:
+                todo.append(key)
+            else:
+                summaries[key], kept[key] = _summary(fit, self.topn), files[key]
+
+        from tqdm.auto import tqdm
+
+        bar = tqdm(
+            total=len(grid),
+            initial=len(kept),
+            desc=f"LDA fits ({self.engine})",
+            unit="fit",
+            disable=not self.progress,
+        )
+        try:
+            for fit in self._run(data, todo, settings):
+                key = (fit.k, fit.seed)
+                summaries[key] = _summary(fit, self.topn)
+                kept[key] = _save(fit, files[key]) if files else fit
+                bar.update(1)
+        finally:
+            bar.close()
+
+        self.fits = FitShelf({key: kept[key] for key in grid})
+        self.scores, self.topic_scores = _score(
+            {key: summaries[key] for key in grid}, prepared, measures, self.topn, self.engine
+        )
+        self.settings_ = settings
+        self.corpus_fingerprint_ = data.corpus_fingerprint
+        if project is not None:
+            self._save_tables(project, files)
+        return self
+
+    def _checked_options(self):
+        """The grid, measures and fit settings, validated (nothing runs before this passes)."""
         check_choice("sweep", "engine", self.engine, _engines.ENGINES)
         ks = _grid("k", self.k, minimum=2)
         if _is_int(self.seeds) and self.seeds < 1:
@@ -157,62 +210,7 @@ class Sweep:
             },
         )
         settings.update(holdout=self.holdout, holdout_seed=self.holdout_seed)
-        data = TrainingData.from_prepared(prepared, self.holdout, self.holdout_seed, "sweep")
-        for k in ks:
-            check_k("sweep", k, data)
-
-        project = (
-            None
-            if self.project is None
-            else (
-                self.project if isinstance(self.project, Project) else Project.create(self.project)
-            )
-        )
-        folder = project.folder("fits") if project is not None else None
-        grid = [(k, seed) for k in ks for seed in seeds]
-        files = (
-            {
-                key: _fit_file(folder, data.corpus_fingerprint, self.engine, *key, settings)
-                for key in grid
-            }
-            if folder is not None
-            else {}
-        )
-        summaries, kept, todo = {}, {}, []
-        for key in grid:
-            fit = _load_finished(files[key]) if folder is not None else None
-            if fit is None:
-                todo.append(key)
-            else:
-                summaries[key], kept[key] = _summary(fit, self.topn), files[key]
-
-        from tqdm.auto import tqdm
-
-        bar = tqdm(
-            total=len(grid),
-            initial=len(kept),
-            desc=f"LDA fits ({self.engine})",
-            unit="fit",
-            disable=not self.progress,
-        )
-        try:
-            for fit in self._run(data, todo, settings):
-                key = (fit.k, fit.seed)
-                summaries[key] = _summary(fit, self.topn)
-                kept[key] = _save(fit, files[key]) if folder is not None else fit
-                bar.update(1)
-        finally:
-            bar.close()
-
-        self.fits = FitShelf({key: kept[key] for key in grid})
-        self.scores, self.topic_scores = _score(
-            {key: summaries[key] for key in grid}, prepared, measures, self.topn, self.engine
-        )
-        self.settings_ = settings
-        self.corpus_fingerprint_ = data.corpus_fingerprint
-        if project is not None:
-            self._save_tables(project, files)
-        return self
+        return ks, seeds, measures, settings
 
     def _run(self, data: TrainingData, todo: list, settings: dict) -> Iterator[Fit]:
         """Yield fits as they finish, on a Dask cluster, in worker processes, or here."""
@@ -335,6 +333,9 @@ class FitShelf(Mapping):
     def __getitem__(self, key) -> Fit:
         entry = self._entries[key]
         return Fit.load(entry) if isinstance(entry, Path) else entry
+
+    def __contains__(self, key) -> bool:  # without reading the file
+        return key in self._entries
 
     def __iter__(self):
         return iter(self._entries)

@@ -17,7 +17,7 @@ import traceback
 from ..errors import TmCompareError
 
 # Order here is the order in ``tm-compare --help``.
-COMMANDS = ("demo", "prepare", "sweep", "compare", "labels")
+COMMANDS = ("demo", "prepare", "sweep", "compare", "labels", "report", "export")
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -1,25 +1,30 @@
-"""``tm-compare demo``: build the invented Quillhaven project and run the job on it.
+"""``tm-compare demo``: run the whole job on the invented Quillhaven corpus.
 
 A thin layer over :func:`tm_compare.pipeline.run_demo`; each step's report is
-printed as it finishes.
+printed as it finishes, then where everything is and a short summary.
 """
 
 from __future__ import annotations
 
 import argparse
+import time
 
-from ..pipeline import DEFAULT_PROJECT
+from ..pipeline import DEFAULT_PROJECT, GRID, N_BOOT
+from ._sweep import k_grid, seed_list
 
 
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "demo",
-        help="build the invented Quillhaven demo project and prepare it",
+        help="run the whole job on an invented corpus: prepare, sweep, compare, label, report",
         description=(
             "Generate an invented corpus (the coastal city of Quillhaven, its outlets and a "
-            "reader panel; articles they shared and articles they visited), save it in a "
-            "project folder, prepare it for LDA, and print what each step found. Nothing in "
-            "it is real. Running it again reuses the folder and its cache."
+            "reader panel; articles they shared and articles they visited), then run the whole "
+            "job on it in a project folder: prepare the text, fit LDA for several k and seeds, "
+            "score the fits and pick k, compare the sources, add labels from two invented "
+            "analysts with their agreement, and write the HTML report and the exports. Nothing "
+            "in it is real. Running it again reuses the folder: finished fits and settled labels "
+            "are kept."
         ),
         formatter_class=argparse.ArgumentDefaultsHelpFormatter,
     )
@@ -38,16 +43,63 @@ def register(subparsers) -> None:
         metavar="S",
         help="random seed: the same seed gives the same corpus",
     )
+    grid = parser.add_argument_group("sweep and comparison (smaller is faster)")
+    grid.add_argument(
+        "--k",
+        type=k_grid,
+        default=list(GRID["k"]),
+        metavar="GRID",
+        help="topic counts: START:STOP:STEP (STOP included) or a list such as 6,8,10",
+    )
+    grid.add_argument(
+        "--seeds",
+        type=seed_list,
+        default=GRID["seeds"],
+        metavar="N|LIST",
+        help="fits per k: a number of seeds or a list of seeds",
+    )
+    grid.add_argument(
+        "--passes", type=int, default=GRID["passes"], help="passes over the corpus per fit"
+    )
+    grid.add_argument(
+        "--n-boot", type=int, default=N_BOOT, help="bootstrap replicates of the comparison"
+    )
+    parser.add_argument("--no-progress", action="store_true", help="hide progress bars")
     parser.set_defaults(func=run)
 
 
-def _section(title: str, report: str) -> None:
-    print(f"\n== {title} ==\n{report}", flush=True)
-
-
 def run(args) -> int:
-    from ..pipeline import run_demo
+    from ..pipeline import STEPS, run_demo, summary
 
-    result = run_demo(args.project, n_docs=args.docs, seed=args.seed, echo=_section)
-    print(f"\nProject folder: {result.project.path.resolve()}")
+    started = time.perf_counter()
+    total = len(STEPS)
+    done = iter(range(1, total + 1))
+
+    def section(title: str, report: str) -> None:
+        elapsed = time.perf_counter() - started
+        print(f"\n== [{next(done)}/{total}] {title} ({elapsed:.0f} s) ==\n{report}", flush=True)
+
+    print(f"Running the demo job in {args.project!r}: {total} steps.", flush=True)
+    result = run_demo(
+        args.project,
+        n_docs=args.docs,
+        seed=args.seed,
+        echo=section,
+        k=args.k,
+        seeds=args.seeds,
+        passes=args.passes,
+        n_boot=args.n_boot,
+        progress=not args.no_progress,
+    )
+    folder = result.project.path.resolve()
+    print(f"\n== Summary ({time.perf_counter() - started:.0f} s in all) ==")
+    print(summary(result))
+    print(
+        f"\nProject folder: {folder}\n"
+        f"  report:  {result.report_path.resolve()}  (open it in a browser; it needs no network)\n"
+        f"  exports: {result.report_path.parent.resolve()}  (CSV, Parquet, PNG, SVG; columns.md)\n"
+        f"  labels:  {folder / 'labels.sqlite'}\n"
+        f"Next: open the project in Jupyter (%load_ext tm_compare), or rerun with other settings:\n"
+        f"  tm-compare report {args.project} --k K --seed S --out report-kK.html"
+    )
     return 0

@@ -64,7 +64,9 @@ def document_cards(docs: pd.DataFrame, terms: Iterable[str], *, heading: str) ->
     terms = list(terms)
     cards = [f'<div style="font-weight:600;margin:0 0 6px 0">{esc(heading)}</div>']
     if docs.empty:
-        cards.append('<div style="color:#6b7078">No document of this source leans on this topic.</div>')
+        cards.append(
+            '<div style="color:#6b7078">No document of this source leans on this topic.</div>'
+        )
     for row in docs.to_dict("records"):
         facts = []
         if row.get("outlet") is not None:

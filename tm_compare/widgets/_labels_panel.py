@@ -29,7 +29,8 @@ def label_table(frame: pd.DataFrame, columns: list[str]) -> str:
     head = "".join(f'<th style="{_CELL}">{esc(c)}</th>' for c in columns)
     body = "".join(
         "<tr>" + "".join(f'<td style="{_CELL}">{_cell(row.get(c))}</td>' for c in columns) + "</tr>"
-        for row in frame.to_dict("records"))
+        for row in frame.to_dict("records")
+    )
     return f'<table style="{_TABLE}"><tr>{head}</tr>{body}</table>'
 
 
@@ -62,13 +63,25 @@ class LabelsPanel(w.VBox):
         self._stop = threading.Event()
         narrow = w.Layout(width="340px")
         self.analyst = w.Text(value=store.analyst or "", description="Analyst", layout=narrow)
-        self.name = w.Text(description="Name", placeholder="a short name for the topic", layout=narrow)
-        self.note = w.Textarea(description="Note", placeholder="why this name; doubts",
-                               layout=w.Layout(width="340px", height="60px"))
+        self.name = w.Text(
+            description="Name", placeholder="a short name for the topic", layout=narrow
+        )
+        self.note = w.Textarea(
+            description="Note",
+            placeholder="why this name; doubts",
+            layout=w.Layout(width="340px", height="60px"),
+        )
         self.verdict = w.Dropdown(description="Verdict", layout=narrow)
         self.category = w.Dropdown(description="Category", layout=narrow)
-        self.confidence = w.FloatSlider(value=0.7, min=0, max=1, step=0.05, description="Confidence",
-                                        readout_format=".2f", layout=narrow)
+        self.confidence = w.FloatSlider(
+            value=0.7,
+            min=0,
+            max=1,
+            step=0.05,
+            description="Confidence",
+            readout_format=".2f",
+            layout=narrow,
+        )
         self.save = w.Button(description="Save label", button_style="primary", icon="check")
         self.save.on_click(lambda _: self.save_label())
         self.status = w.HTML()
@@ -78,16 +91,31 @@ class LabelsPanel(w.VBox):
         self.labels = w.HTML()
         self.history = w.HTML()
         self.agreement = w.HTML()
-        form = w.VBox([self.analyst, self.name, self.note, self.verdict, self.category,
-                       self.confidence, w.HBox([self.save, self.keep_mine]), self.status, self.conflict],
-                      layout=w.Layout(width="380px"))
-        reading = w.VBox([self.labels, self.history, self.agreement],
-                         layout=w.Layout(flex="1 1 auto", overflow="auto", max_height="420px"))
+        form = w.VBox(
+            [
+                self.analyst,
+                self.name,
+                self.note,
+                self.verdict,
+                self.category,
+                self.confidence,
+                w.HBox([self.save, self.keep_mine]),
+                self.status,
+                self.conflict,
+            ],
+            layout=w.Layout(width="380px"),
+        )
+        reading = w.VBox(
+            [self.labels, self.history, self.agreement],
+            layout=w.Layout(flex="1 1 auto", overflow="auto", max_height="420px"),
+        )
         super().__init__([w.HBox([form, reading])])
         self.add_class("tmc-labels")
         self._load_choices()
         if poll_seconds:
-            threading.Thread(target=self._poll_loop, args=(float(poll_seconds),), daemon=True).start()
+            threading.Thread(
+                target=self._poll_loop, args=(float(poll_seconds),), daemon=True
+            ).start()
 
     # --- reading the store ----------------------------------------------------------------
 
@@ -132,7 +160,12 @@ class LabelsPanel(w.VBox):
         """
         news = self.store.poll(self._cursor, model=self.fit)
         blind = self.store.in_blind_round(self.fit)
-        if not force and self._data is not None and news.labels.empty and blind == self._data["blind"]:
+        if (
+            not force
+            and self._data is not None
+            and news.labels.empty
+            and blind == self._data["blind"]
+        ):
             return False
         self._cursor = news.cursor
         self._data = {
@@ -153,22 +186,29 @@ class LabelsPanel(w.VBox):
         topic, data = self._topic, self._data
         current = data["current"][data["current"]["topic"] == topic]
         who = "your own: a blind round is open" if data["blind"] else "everyone's"
-        self.labels.value = (f"<b>Current labels of topic {topic}</b> ({who})"
-                             + label_table(current, ["analyst", "name", "verdict", "category", "confidence", "note"]))
+        self.labels.value = f"<b>Current labels of topic {topic}</b> ({who})" + label_table(
+            current, ["analyst", "name", "verdict", "category", "confidence", "note"]
+        )
         history = data["history"]
         history = history[history["topic"] == topic].tail(12)
-        self.history.value = ("<b>History</b> (latest 12 changes)"
-                              + label_table(history, ["created_at", "analyst", "version", "name", "verdict", "retracted"]))
+        self.history.value = "<b>History</b> (latest 12 changes)" + label_table(
+            history, ["created_at", "analyst", "version", "name", "verdict", "retracted"]
+        )
         self.agreement.value = self._agreement_html(topic, data["agreement"])
 
     def _agreement_html(self, topic: int, table) -> str:
         if table is None:
-            return ('<div style="font-size:12px;color:#6b7078"><b>Blind round open:</b> you see only '
-                    "your own labels; agreement appears when the round is closed.</div>")
+            return (
+                '<div style="font-size:12px;color:#6b7078"><b>Blind round open:</b> you see only '
+                "your own labels; agreement appears when the round is closed.</div>"
+            )
         rows = table[(table["scope"] == "overall") | (table["topic"] == topic)].copy()
-        rows["scope"] = ["all topics" if s == "overall" else f"topic {topic}" for s in rows["scope"]]
+        rows["scope"] = [
+            "all topics" if s == "overall" else f"topic {topic}" for s in rows["scope"]
+        ]
         return "<b>Agreement</b> (Krippendorff's alpha, nominal)" + label_table(
-            rows, ["field", "scope", "alpha", "percent_agreement", "n_coders", "n_units"])
+            rows, ["field", "scope", "alpha", "percent_agreement", "n_coders", "n_units"]
+        )
 
     def check_for_news(self) -> bool:
         """Show colleagues' labels saved since the last look; True if there were any."""
@@ -202,9 +242,16 @@ class LabelsPanel(w.VBox):
                     # analyst: the edit is based on what is stored now.
                     own = store.label(self.fit, self._topic)
                     self._base = None if own is None else own.version
-                saved = store.save(self.fit, self._topic, name=self.name.value, note=self.note.value,
-                                   verdict=self.verdict.value, category=self.category.value,
-                                   confidence=float(self.confidence.value), based_on=self._base)
+                saved = store.save(
+                    self.fit,
+                    self._topic,
+                    name=self.name.value,
+                    note=self.note.value,
+                    verdict=self.verdict.value,
+                    category=self.category.value,
+                    confidence=float(self.confidence.value),
+                    based_on=self._base,
+                )
             except LabelConflictError as exc:
                 self._show_conflict(exc)
                 return
@@ -214,17 +261,24 @@ class LabelsPanel(w.VBox):
             self._base = saved.version
             self.conflict.value = ""
             self.keep_mine.layout.display = "none"
-            self.status.value = f'<span style="color:#1b6f80">Saved as version {saved.version}.</span>'
+            self.status.value = (
+                f'<span style="color:#1b6f80">Saved as version {saved.version}.</span>'
+            )
             self.refresh(force=True)
 
     def _show_conflict(self, exc: LabelConflictError) -> None:
         fields = ["version", "name", "verdict", "category", "confidence", "note"]
-        both = pd.DataFrame([
-            {"which": "stored now", **{f: (exc.current or {}).get(f) for f in fields}},
-            {"which": "yours (not saved)", **{f: exc.attempted.get(f) for f in fields}},
-        ])
-        self.conflict.value = ('<div style="border-left:4px solid #b5523b;padding:4px 8px;font-size:12px">'
-                               "<b>Someone saved this label while you were editing.</b>"
-                               + label_table(both, ["which", *fields]) + "</div>")
+        both = pd.DataFrame(
+            [
+                {"which": "stored now", **{f: (exc.current or {}).get(f) for f in fields}},
+                {"which": "yours (not saved)", **{f: exc.attempted.get(f) for f in fields}},
+            ]
+        )
+        self.conflict.value = (
+            '<div style="border-left:4px solid #b5523b;padding:4px 8px;font-size:12px">'
+            "<b>Someone saved this label while you were editing.</b>"
+            + label_table(both, ["which", *fields])
+            + "</div>"
+        )
         self.keep_mine.layout.display = None
         self.refresh(force=True)

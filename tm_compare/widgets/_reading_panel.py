@@ -10,8 +10,12 @@ from ._cards import document_cards
 from ._offline import chart_widget
 from ._tables import RANKINGS
 
-_RANKING_NAMES = {"probability": "probability", "lift": "lift", "frex": "FREX",
-                  "relevance": "relevance"}
+_RANKING_NAMES = {
+    "probability": "probability",
+    "lift": "lift",
+    "frex": "FREX",
+    "relevance": "relevance",
+}
 
 
 class TermsPanel(w.VBox):
@@ -20,23 +24,34 @@ class TermsPanel(w.VBox):
     def __init__(self, tables, on_pick, *, ranking="probability"):
         self.tables = tables
         self._topic = 0
-        self.ranking = w.Dropdown(options=[(_RANKING_NAMES[r], r) for r in RANKINGS], value=ranking,
-                                  description="Rank terms by", style={"description_width": "initial"})
-        self.weight = w.FloatSlider(min=0.0, max=1.0, step=0.05, continuous_update=False,
-                                    style={"description_width": "initial"})
+        self.ranking = w.Dropdown(
+            options=[(_RANKING_NAMES[r], r) for r in RANKINGS],
+            value=ranking,
+            description="Rank terms by",
+            style={"description_width": "initial"},
+        )
+        self.weight = w.FloatSlider(
+            min=0.0,
+            max=1.0,
+            step=0.05,
+            continuous_update=False,
+            style={"description_width": "initial"},
+        )
         self._sync_weight_control()
         self.terms_chart = chart_widget(self._terms_chart())
         self.terms_chart.add_class("tmc-terms")
         self.terms_chart.selections.observe(
             lambda ch: ch["new"].value and on_pick(int(ch["new"].value[0]["topic"])),
-            names=[charts.TOPIC_PICK])
+            names=[charts.TOPIC_PICK],
+        )
         self.pair = tuple(tables.sources[:2])
         self._specs: dict = {}
         self.wording_chart = chart_widget(self._wording_chart())
         self.ranking.observe(self._ranking_changed, names="value")
         self.weight.observe(self._ranking_changed, names="value")
-        super().__init__([w.HBox([self.ranking, self.weight]),
-                          w.HBox([self.terms_chart, self.wording_chart])])
+        super().__init__(
+            [w.HBox([self.ranking, self.weight]), w.HBox([self.terms_chart, self.wording_chart])]
+        )
 
     def _sync_weight_control(self):
         spec = RANKINGS[self.ranking.value]
@@ -50,7 +65,9 @@ class TermsPanel(w.VBox):
 
     def _terms_chart(self):
         frame = self.tables.terms(self.ranking.value, self._weight())
-        return charts.terms_chart(frame, focus=self._topic, title=_RANKING_NAMES[self.ranking.value])
+        return charts.terms_chart(
+            frame, focus=self._topic, title=_RANKING_NAMES[self.ranking.value]
+        )
 
     def _ranking_changed(self, change):
         if change["owner"] is self.ranking:
@@ -81,8 +98,10 @@ class DocumentsPanel(w.HBox):
 
     def __init__(self, tables):
         self.tables = tables
-        self.columns = {s: w.HTML(layout=w.Layout(flex="1 1 0", min_width="220px", margin="0 8px 0 0"))
-                        for s in tables.sources}
+        self.columns = {
+            s: w.HTML(layout=w.Layout(flex="1 1 0", min_width="220px", margin="0 8px 0 0"))
+            for s in tables.sources
+        }
         super().__init__(list(self.columns.values()), layout=w.Layout(width="100%"))
 
     def show_topic(self, topic: int) -> None:

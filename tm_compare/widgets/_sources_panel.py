@@ -32,31 +32,42 @@ class SourcesPanel(w.VBox):
         if cluster not in clusters:
             cluster = clusters[0] if clusters else None
         self.weighting = w.ToggleButtons(
-            options=[("by exposure", "exposure"), ("each article once", "unique")], value=weighting,
-            description="Count", tooltips=["documents weighted by how often readers met them",
-                                           "every article counts once"],
-            style={"button_width": "130px"})
-        self.cluster = w.Dropdown(options=[(_NO_CLUSTER, None)] + [(c, c) for c in clusters],
-                                  value=cluster, description="Resample by",
-                                  style={"description_width": "initial"})
+            options=[("by exposure", "exposure"), ("each article once", "unique")],
+            value=weighting,
+            description="Count",
+            tooltips=[
+                "documents weighted by how often readers met them",
+                "every article counts once",
+            ],
+            style={"button_width": "160px"},
+        )
+        self.cluster = w.Dropdown(
+            options=[(_NO_CLUSTER, None)] + [(c, c) for c in clusters],
+            value=cluster,
+            description="Resample by",
+            style={"description_width": "initial"},
+        )
         self.contrast = w.Dropdown(description="Compare", layout=w.Layout(width="300px"))
         self.warning = w.HTML()
         self.note = w.HTML()
         self.chart = chart_widget(self._build_chart(*self._frames_for_default()))
         self.chart.selections.observe(self._clicked, names=[charts.TOPIC_PICK])
         self.chart.add_class("tmc-sources")
-        self.topic_list = RowTable(caption="Topics (click a row to read it)",
-                                   layout=w.Layout(width="100%"))
+        self.topic_list = RowTable(
+            caption="Topics (click a row to read it)", layout=w.Layout(width="100%")
+        )
         self.topic_list.observe(self._row_clicked, names="selected")
         for control in (self.weighting, self.cluster, self.contrast):
             control.observe(self._settings_changed, names="value")
-        super().__init__([
-            w.HBox([self.weighting, self.cluster, self.contrast]),
-            self.warning,
-            self.chart,
-            self.note,
-            self.topic_list,
-        ])
+        super().__init__(
+            [
+                w.HBox([self.weighting, self.cluster, self.contrast]),
+                self.warning,
+                self.chart,
+                self.note,
+                self.topic_list,
+            ]
+        )
         self._refresh_list()
 
     def _frames_for_default(self):
@@ -81,13 +92,19 @@ class SourcesPanel(w.VBox):
         a, b = self.pair
         tables = self.tables.comparison(self.weighting.value, self.cluster.value)
         row = tables["differences"].iloc[0]
-        resample = "documents" if self.cluster.value is None else f"clusters of '{self.cluster.value}'"
-        note = (f"Counting {'by exposure' if self.weighting.value == 'exposure' else 'each article once'}; "
-                f"{row['ci_level']:.0%} {row['interval']} intervals from {row['n_boot']} bootstrap "
-                f"replicates resampling {resample}. Red: adjusted p <= {row['fdr']} "
-                "(Benjamini-Hochberg across topics). Topics ordered by difference.")
+        resample = (
+            "documents" if self.cluster.value is None else f"clusters of '{self.cluster.value}'"
+        )
+        note = (
+            f"Counting {'by exposure' if self.weighting.value == 'exposure' else 'each article once'}; "
+            f"{row['ci_level']:.0%} {row['interval']} intervals from {row['n_boot']} bootstrap "
+            f"replicates resampling {resample}. Red: adjusted p <= {row['fdr']} "
+            "(Benjamini-Hochberg across topics). Topics ordered by difference."
+        )
         self._update_warning(tables["influence"])
-        return charts.source_chart(prev, diff, focus=self._topic, contrast=f"{a} minus {b}", note=note)
+        return charts.source_chart(
+            prev, diff, focus=self._topic, contrast=f"{a} minus {b}", note=note
+        )
 
     def _update_warning(self, heavy):
         if heavy is None or not heavy["flagged"].any():
@@ -96,14 +113,16 @@ class SourcesPanel(w.VBox):
         flagged = heavy[heavy["flagged"]]
         items = "".join(
             f"<li>{esc(g)} carries {s:.0%} of the weight of '{esc(src)}'</li>"
-            for src, g, s in flagged[["source", "group", "share"]].itertuples(index=False))
+            for src, g, s in flagged[["source", "group", "share"]].itertuples(index=False)
+        )
         threshold = float(flagged["threshold"].iloc[0])
         self.warning.value = (
             '<div class="tmc-influence" style="border-left:4px solid #b5523b;background:#fbeeea;'
             'padding:6px 10px;font-size:12px"><b>One cluster may be driving a source.</b> '
             f"Above the {threshold:.0%} share threshold:<ul style='margin:2px 0'>{items}</ul>"
             "Try counting each article once, or cap cluster shares with "
-            "<code>comparison.cap_effect</code>.</div>")
+            "<code>comparison.cap_effect</code>.</div>"
+        )
 
     def _settings_changed(self, change):
         if change["owner"] is self.contrast and change["new"] is None:
@@ -116,7 +135,9 @@ class SourcesPanel(w.VBox):
         diff = self._diff
         shown = diff[["topic", "name", "estimate", "lower", "upper", "p_adjusted"]].copy()
         shown["estimate"] = shown["estimate"].map("{:+.3f}".format)
-        shown["interval"] = [f"[{lo:+.3f}, {hi:+.3f}]" for lo, hi in zip(diff["lower"], diff["upper"], strict=True)]
+        shown["interval"] = [
+            f"[{lo:+.3f}, {hi:+.3f}]" for lo, hi in zip(diff["lower"], diff["upper"], strict=True)
+        ]
         shown["p_adjusted"] = shown["p_adjusted"].map("{:.3g}".format)
         shown = shown[["topic", "name", "estimate", "interval", "p_adjusted"]]
         shown.columns = ["topic", "top words", "difference", "interval", "adjusted p"]
@@ -129,7 +150,8 @@ class SourcesPanel(w.VBox):
             self._on_pick(int(value[0]["topic"]))
 
     def _row_clicked(self, change):
-        if change["new"] is not None:
+        # show_topic moves the highlight too; only a click on another row is a pick
+        if change["new"] is not None and int(change["new"]) != self._topic:
             self._on_pick(int(change["new"]))
 
     def show_topic(self, topic: int) -> None:

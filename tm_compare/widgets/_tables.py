@@ -9,6 +9,7 @@ comes from the plain functions of :mod:`tm_compare.comparison`, :mod:`tm_compare
 
 from __future__ import annotations
 
+import inspect
 import warnings
 from types import SimpleNamespace
 
@@ -49,11 +50,13 @@ class ModelTables:
         self.random_state = random_state
         self._doc_sources = np.asarray(prepared.sources).astype(str)
         self.sources = sorted(set(self._doc_sources))
+        self._source_rows = {s: np.flatnonzero(self._doc_sources == s) for s in self.sources}
         self._n_candidates = 10 * n_docs
         self._comparisons: dict = {}
         self._terms: dict = {}
         self._wording: dict = {}
         self._documents: dict = {}
+        self._count_matrix = None
         # the same 10 top terms the snippets of representative_documents are cut around
         self._top_words = fit.top_words(10)
         self.captions = {t: f"{t} · {' '.join(w[:3])}" for t, w in enumerate(self._top_words)}
@@ -77,16 +80,21 @@ class ModelTables:
         """Prevalence, differences and the influence check for one weighting and cluster column."""
         key = (weighting, cluster)
         if key not in self._comparisons:
-            common = dict(weighting=weighting, cluster=cluster, n_boot=self.n_boot,
-                          random_state=self.random_state)
+            common = dict(
+                weighting=weighting,
+                cluster=cluster,
+                n_boot=self.n_boot,
+                random_state=self.random_state,
+            )
             prev = comparison.prevalence(self.fit, self.prepared, **common)
             diff = comparison.differences(self.fit, self.prepared, **common)
             heavy = None
             if cluster is not None:
                 with warnings.catch_warnings():
                     warnings.simplefilter("ignore", UserWarning)
-                    heavy = comparison.influence(self.prepared, weighting=weighting, cluster=cluster,
-                                                 warn=False)
+                    heavy = comparison.influence(
+                        self.prepared, weighting=weighting, cluster=cluster, warn=False
+                    )
             self._comparisons[key] = {"prevalence": prev, "differences": diff, "influence": heavy}
         return self._comparisons[key]
 
@@ -98,29 +106,36 @@ class ModelTables:
         """Frames for :func:`tm_compare.charts.source_chart`, topics ordered by difference."""
         tables = self.comparison(weighting, cluster)
         prev = tables["prevalence"].rename(
-            columns={"prevalence": "estimate", "ci_low": "lower", "ci_high": "upper"})
+            columns={"prevalence": "estimate", "ci_low": "lower", "ci_high": "upper"}
+        )
         prev = prev[["topic", "source", "estimate", "lower", "upper"]].assign(
-            name=lambda f: f["topic"].map(self.captions))
+            name=lambda f: f["topic"].map(self.captions)
+        )
         diff = tables["differences"]
         diff = diff[(diff["source"] == pair[0]) & (diff["other"] == pair[1])]
-        diff = pd.DataFrame({
-            "topic": diff["topic"].to_numpy(),
-            "name": diff["topic"].map(self.captions).to_numpy(),
-            "estimate": diff["difference"].to_numpy(),
-            "lower": diff["diff_ci_low"].to_numpy(),
-            "upper": diff["diff_ci_high"].to_numpy(),
-            "clear": diff["significant"].to_numpy(bool),
-            "p_adjusted": diff["p_adjusted"].to_numpy(),
-        }).sort_values("estimate", ascending=False, kind="stable")
+        diff = pd.DataFrame(
+            {
+                "topic": diff["topic"].to_numpy(),
+                "name": diff["topic"].map(self.captions).to_numpy(),
+                "estimate": diff["difference"].to_numpy(),
+                "lower": diff["diff_ci_low"].to_numpy(),
+                "upper": diff["diff_ci_high"].to_numpy(),
+                "clear": diff["significant"].to_numpy(bool),
+                "p_adjusted": diff["p_adjusted"].to_numpy(),
+            }
+        ).sort_values("estimate", ascending=False, kind="stable")
         return prev, diff.reset_index(drop=True)
 
     def terms(self, ranking: str, weight: float | None) -> pd.DataFrame:
         """Top terms of every topic under one ranking (``topic``, ``term``, ``score``, ``rank``)."""
         key = (ranking, weight)
         if key not in self._terms:
-            options = {"relevance": {"lam": weight}, "frex": {"frex_weight": weight}}.get(ranking, {})
-            table = terms.term_rankings(self.fit, ranking, topn=self.n_terms, prepared=self.prepared,
-                                        **options)
+            options = {"relevance": {"lam": weight}, "frex": {"frex_weight": weight}}.get(
+                ranking, {}
+            )
+            table = terms.term_rankings(
+                self.fit, ranking, topn=self.n_terms, prepared=self.prepared, **options
+            )
             self._terms[key] = table[["topic", "term", "score", "rank"]]
         return self._terms[key]
 
@@ -128,15 +143,34 @@ class ModelTables:
         """Terms the topic's documents use more in ``pair[0]`` (z > 0) or ``pair[1]`` (z < 0)."""
         key = (topic, pair)
         if key not in self._wording:
-            table = terms.source_wording(self.fit, self.prepared, int(topic), against="each",
-                                         sources=list(pair), topn=per_side)
+            table = terms.source_wording(
+                self.fit,
+                self.prepared,
+                int(topic),
+                against="each",
+                sources=list(pair),
+                topn=per_side,
+                **self._counts(),
+            )
             first = table[(table["source"] == pair[0]) & (table["other"] == pair[1])]
             second = table[(table["source"] == pair[1]) & (table["other"] == pair[0])]
-            self._wording[key] = pd.concat([
-                pd.DataFrame({"term": first["term"], "score": first["z"]}),
-                pd.DataFrame({"term": second["term"], "score": -second["z"]}),
-            ], ignore_index=True)
+            self._wording[key] = pd.concat(
+                [
+                    pd.DataFrame({"term": first["term"], "score": first["z"]}),
+                    pd.DataFrame({"term": second["term"], "score": -second["z"]}),
+                ],
+                ignore_index=True,
+            )
         return self._wording[key]
+
+    def _counts(self) -> dict:
+        # The document-term counts do not depend on the topic: build them once per model when
+        # source_wording accepts them, instead of once per topic.
+        if "counts" not in inspect.signature(terms.source_wording).parameters:
+            return {}
+        if self._count_matrix is None:
+            self._count_matrix = terms.count_matrix(self.prepared, len(self.fit.vocab))
+        return {"counts": self._count_matrix}
 
     def documents(self, topic: int) -> dict[str, pd.DataFrame]:
         """Representative documents of ``topic``, one frame per source, ready for the cards."""
@@ -158,17 +192,21 @@ class ModelTables:
         """
         shares = np.asarray(self.fit.doc_topic[:, topic], dtype=float)
         keep = []
-        for source in self.sources:
-            idx = np.flatnonzero(self._doc_sources == source)
+        for idx in self._source_rows.values():
             if len(idx) > self._n_candidates:
                 idx = idx[np.argpartition(-shares[idx], self._n_candidates)[: self._n_candidates]]
             keep.append(np.sort(idx))
         keep = np.concatenate(keep)
-        fit = SimpleNamespace(doc_topic=shares[keep, None], topic_term=self.fit.topic_term[[topic]],
-                              vocab=self.fit.vocab)
-        prepared = SimpleNamespace(meta=self.prepared.meta.iloc[keep].reset_index(drop=True),
-                                   sources=self._doc_sources[keep],
-                                   weights=np.asarray(self.prepared.weights, dtype=float)[keep])
+        fit = SimpleNamespace(
+            doc_topic=shares[keep, None],
+            topic_term=self.fit.topic_term[[topic]],
+            vocab=self.fit.vocab,
+        )
+        prepared = SimpleNamespace(
+            meta=self.prepared.meta.iloc[keep].reset_index(drop=True),
+            sources=self._doc_sources[keep],
+            weights=np.asarray(self.prepared.weights, dtype=float)[keep],
+        )
         return fit, prepared
 
     def emphasis_terms(self, topic: int) -> list[str]:

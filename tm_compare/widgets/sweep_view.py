@@ -20,8 +20,10 @@ MEASURES = {
     "stability": ("stability across seeds", "higher"),
     "diversity": ("topic diversity", "higher"),
 }
-_WHY_NPMI = ("NPMI is shown first: its scale is fixed (-1 to 1) and it tracks human judgements "
-             "well, while the authors of C_V advise against relying on C_V alone.")
+_WHY_NPMI = (
+    "NPMI is shown first: its scale is fixed (-1 to 1) and it tracks human judgements "
+    "well, while the authors of C_V advise against relying on C_V alone."
+)
 
 
 def _measure_title(measure: str) -> str:
@@ -62,41 +64,63 @@ class SweepView(w.VBox):
         present = [m for m in MEASURES if m in scores.columns and scores[m].notna().any()]
         self.suggestion = sweep.recommend()
         self.heading = w.HTML("<h3 style='margin:4px 0'>How many topics?</h3>")
-        self.measure_choice = w.Dropdown(options=[(MEASURES[m][0], m) for m in present],
-                                         value=measure if measure in present else present[0],
-                                         description="Score shown", style={"description_width": "initial"})
+        self.measure_choice = w.Dropdown(
+            options=[(MEASURES[m][0], m) for m in present],
+            value=measure if measure in present else present[0],
+            description="Score shown",
+            style={"description_width": "initial"},
+        )
         self.advice = w.HTML(self._advice_html())
         self.picked = w.HTML()
-        self.use_suggested = w.Button(description="Pick the suggested fit", icon="star")
+        self.use_suggested = w.Button(
+            description="Pick the suggested fit", icon="star", layout=w.Layout(width="200px")
+        )
         self.use_suggested.on_click(lambda _: self._pick(self.suggestion.k, self.suggestion.seed))
-        self.open_model = w.Button(description="Read this model", icon="book",
-                                   disabled=prepared is None)
+        self.open_model = w.Button(
+            description="Read this model", icon="book", disabled=prepared is None
+        )
         self.open_model.on_click(lambda _: self.show_model())
         self.model_area = w.VBox()
         self.fits_table = RowTable(caption="Fits of the sweep (click a row to pick it)")
-        self.fits_table.show_frame(self._table_frame(), [charts.fit_key(k, s) for k, s in zip(scores["k"], scores["seed"], strict=True)])
+        self.fits_table.show_frame(
+            self._table_frame(),
+            [charts.fit_key(k, s) for k, s in zip(scores["k"], scores["seed"], strict=True)],
+        )
         self.fits_table.observe(self._row_clicked, names="selected")
         self.k, self.seed = int(self.suggestion.k), int(self.suggestion.seed)
         self.measure = self.measure_choice.value
         self.chart = chart_widget(self._chart())
         self.chart.selections.observe(self._clicked, names=[charts.FIT_PICK])
         self.measure_choice.observe(lambda ch: setattr(self, "measure", ch["new"]), names="value")
-        super().__init__([self.heading, self.measure_choice, self.chart, self.advice,
-                          w.HBox([self.picked, self.use_suggested, self.open_model]),
-                          self.fits_table, self.model_area])
+        super().__init__(
+            [
+                self.heading,
+                self.measure_choice,
+                self.chart,
+                self.advice,
+                w.HBox([self.picked, self.use_suggested, self.open_model]),
+                self.fits_table,
+                self.model_area,
+            ]
+        )
         self.add_class("tmc-sweep-view")
         self._show_pick()
 
     def _advice_html(self) -> str:
         s = self.suggestion
-        return (f'<div style="font-size:13px;border-left:4px solid {charts.ACCENT};padding:4px 10px">'
-                f"<b>Suggested: k = {int(s.k)}</b> (seed {int(s.seed)}). Rule: {esc(s.rule)}"
-                f'<br><span style="color:#6b7078">{_WHY_NPMI}</span></div>')
+        return (
+            f'<div style="font-size:13px;border-left:4px solid {charts.ACCENT};padding:4px 10px">'
+            f"<b>Suggested: k = {int(s.k)}</b> (seed {int(s.seed)}). Rule: {esc(s.rule)}"
+            f'<br><span style="color:#6b7078">{_WHY_NPMI}</span></div>'
+        )
 
     def _table_frame(self):
         scores = self.sweep.scores
-        cols = ["k", "seed"] + [m for m in MEASURES if m in scores.columns] + [
-            c for c in ("fit_seconds", "engine") if c in scores.columns]
+        cols = (
+            ["k", "seed"]
+            + [m for m in MEASURES if m in scores.columns]
+            + [c for c in ("fit_seconds", "engine") if c in scores.columns]
+        )
         frame = scores[cols].copy()
         for col in frame.columns:
             if frame[col].dtype.kind == "f":
@@ -104,10 +128,16 @@ class SweepView(w.VBox):
         return frame
 
     def _chart(self):
-        data = self.sweep.scores[["k", "seed", self.measure]].rename(columns={self.measure: "value"})
-        return charts.sweep_chart(data, title=_measure_title(self.measure),
-                                  recommended_k=self.suggestion.k, rule=self.suggestion.rule,
-                                  picked=(self.k, self.seed))
+        data = self.sweep.scores[["k", "seed", self.measure]].rename(
+            columns={self.measure: "value"}
+        )
+        return charts.sweep_chart(
+            data,
+            title=_measure_title(self.measure),
+            recommended_k=self.suggestion.k,
+            rule=self.suggestion.rule,
+            picked=(self.k, self.seed),
+        )
 
     @traitlets.observe("measure")
     def _measure_changed(self, change):

@@ -14,8 +14,10 @@ from ._tables import ModelTables
 
 
 def _section(title: str, hint: str) -> w.HTML:
-    return w.HTML(f'<h3 style="margin:14px 0 2px 0">{title}</h3>'
-                  f'<div style="color:#6b7078;font-size:12px;margin-bottom:4px">{hint}</div>')
+    return w.HTML(
+        f'<h3 style="margin:14px 0 2px 0">{title}</h3>'
+        f'<div style="color:#6b7078;font-size:12px;margin-bottom:4px">{hint}</div>'
+    )
 
 
 class TopicView(w.VBox):
@@ -43,35 +45,63 @@ class TopicView(w.VBox):
 
     topic = traitlets.Int(0, help="The selected topic, shared by every panel.")
 
-    def __init__(self, fit, prepared, labels=None, *, weighting="exposure", cluster="group",
-                 ranking="probability", n_boot=1000, n_terms=12, n_docs=4, poll_seconds=3.0,
-                 random_state=0):
-        self.tables = ModelTables(fit, prepared, n_boot=n_boot, n_terms=n_terms, n_docs=n_docs,
-                                  random_state=random_state)
+    def __init__(
+        self,
+        fit,
+        prepared,
+        labels=None,
+        *,
+        weighting="exposure",
+        cluster="group",
+        ranking="probability",
+        n_boot=1000,
+        n_terms=12,
+        n_docs=4,
+        poll_seconds=3.0,
+        random_state=0,
+    ):
+        self.tables = ModelTables(
+            fit, prepared, n_boot=n_boot, n_terms=n_terms, n_docs=n_docs, random_state=random_state
+        )
         if len(self.tables.sources) < 2:
-            raise param_error("TopicView", "prepared", f"a corpus with sources {self.tables.sources}",
-                              "a prepared corpus with at least two sources to compare")
+            raise param_error(
+                "TopicView",
+                "prepared",
+                f"a corpus with sources {self.tables.sources}",
+                "a prepared corpus with at least two sources to compare",
+            )
         self.fit = fit
-        self.sources_panel = SourcesPanel(self.tables, self._pick, weighting=weighting, cluster=cluster)
+        self.sources_panel = SourcesPanel(
+            self.tables, self._pick, weighting=weighting, cluster=cluster
+        )
         self.terms_panel = TermsPanel(self.tables, self._pick, ranking=ranking)
         self.documents_panel = DocumentsPanel(self.tables)
-        self.labels_panel = None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
+        self.labels_panel = (
+            None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
+        )
         self.sources_panel.contrast.observe(self._contrast_changed, names="value")
         self.reading_title = w.HTML()
         children = [
-            w.HTML(f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
-                   f'(seed {int(fit.seed)})</h2>'),
+            w.HTML(
+                f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
+                f"(seed {int(fit.seed)})</h2>"
+            ),
             _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
             self.sources_panel,
             self.reading_title,
-            _section("Terms", "The topic's top terms, and the terms each source uses more when it writes on this topic."),
+            _section(
+                "Terms",
+                "The topic's top terms, and the terms each source uses more when it writes on this topic.",
+            ),
             self.terms_panel,
             _section("Documents", "Articles most devoted to the topic, per source."),
             self.documents_panel,
         ]
         if self.labels_panel is not None:
-            children += [_section("Label", "Name the topic; colleagues' labels appear as they save them."),
-                         self.labels_panel]
+            children += [
+                _section("Label", "Name the topic; colleagues' labels appear as they save them."),
+                self.labels_panel,
+            ]
         super().__init__(children, layout=w.Layout(width="100%"))
         self.add_class("tmc-topic-view")
         first = int(self.sources_panel._diff["topic"].iloc[0])
@@ -83,7 +113,9 @@ class TopicView(w.VBox):
     def _check_topic(self, proposal):
         value = proposal["value"]
         if not 0 <= value < self.tables.k:
-            raise param_error("TopicView", "topic", value, f"a topic number from 0 to {self.tables.k - 1}")
+            raise param_error(
+                "TopicView", "topic", value, f"a topic number from 0 to {self.tables.k - 1}"
+            )
         return value
 
     @traitlets.observe("topic")
@@ -91,8 +123,10 @@ class TopicView(w.VBox):
         self._update_panels(change["new"])
 
     def _update_panels(self, topic: int) -> None:
-        self.reading_title.value = (f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
-                                    f"Reading topic <b>{esc(self.tables.captions[topic])}</b></div>")
+        self.reading_title.value = (
+            f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
+            f"Reading topic <b>{esc(self.tables.captions[topic])}</b></div>"
+        )
         panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
         for panel in panels:
             if panel is not None:

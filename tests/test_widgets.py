@@ -1,0 +1,347 @@
+"""Views without a browser: set traits and selections as the front end would, then check that the
+panels show what the plain functions return.
+
+A click is simulated the way altair's front end reports it (``altair/jupyter/js/index.js`` sets
+``_vl_selections`` to ``{name: {"value": {"vlPoint": {"or": [...]}}, "store": [...]}}``). The
+numbers are compared with :mod:`tm_compare.comparison`, :mod:`tm_compare.terms` and
+:mod:`tm_compare.documents` called directly; escaping is compared with :func:`html.escape`.
+"""
+
+from __future__ import annotations
+
+import html
+import re
+import time
+from types import SimpleNamespace
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from tm_compare import charts, comparison, documents, terms
+from tm_compare.fits import Fit
+from tm_compare.labels import LabelStore
+from tm_compare.widgets import SweepView, TopicView
+from tm_compare.widgets._cards import emphasise
+from tm_compare.widgets._offline import bundle_path, cache_dir, chart_widget
+
+K, V, PER_TOPIC = 4, 40, 10
+HOSTILE_TITLE = "Tide <script>alert('t')</script> report"
+HOSTILE_TEXT = "w00 w01 w02 <img src=x onerror=alert('x')> w03 w04 harbour"
+
+
+def _click(widget, name, **fields):
+    widget._vl_selections = {name: {"value": {"vlPoint": {"or": [fields]}}, "store": []}}
+
+
+@pytest.fixture(scope="module")
+def planted():
+    """Four planted topics over 40 words (topic t owns words 10t..10t+9); topic 0 is three times
+    as common among shared documents; reader_00 carries most of the shared exposure."""
+    rng = np.random.default_rng(7)
+    n = 240
+    sources = np.array(["shared"] * 120 + ["visited"] * 120)
+    dominant = np.where(
+        sources == "shared",
+        rng.choice(K, n, p=[0.55, 0.15, 0.15, 0.15]),
+        rng.choice(K, n, p=[0.18, 0.28, 0.27, 0.27]),
+    )
+    doc_topic = np.full((n, K), 0.02)
+    doc_topic[np.arange(n), dominant] = 0.94
+    vocab = [f"w{i:02d}" for i in range(V)]
+    topic_term = np.full((K, V), 0.001)
+    for t in range(K):
+        topic_term[t, t * PER_TOPIC : (t + 1) * PER_TOPIC] = np.linspace(0.2, 0.05, PER_TOPIC)
+    topic_term /= topic_term.sum(axis=1, keepdims=True)
+    texts, bow = [], []
+    for d in range(n):
+        words = rng.choice(V, 30, p=doc_topic[d] @ topic_term)
+        counts = np.bincount(words, minlength=V)
+        bow.append([(int(i), int(c)) for i, c in enumerate(counts) if c])
+        texts.append(" ".join(vocab[i] for i in words))
+    ids = [f"d{d:03d}" for d in range(n)]
+    titles = [f"Article {d} on topic {dominant[d]}" for d in range(n)]
+    texts[0], titles[0] = HOSTILE_TEXT + " " + texts[0], HOSTILE_TITLE
+    groups = np.array([f"reader_{d % 12:02d}" for d in range(n)], dtype=object)
+    weights = np.ones(n)
+    weights[(groups == "reader_00") & (sources == "shared")] = 40.0
+    meta = pd.DataFrame(
+        {
+            "id": ids,
+            "source": sources,
+            "weight": weights,
+            "group": groups,
+            "url": None,
+            "title": titles,
+            "date": pd.Timestamp("2024-03-01"),
+            "text": texts,
+            "outlet": np.where(np.arange(n) % 2, "Harbour <Times>", "Gull Post"),
+        }
+    )
+    prepared = SimpleNamespace(
+        doc_ids=ids,
+        sources=sources,
+        weights=weights,
+        groups=groups,
+        meta=meta,
+        bow=bow,
+        texts=[t.split() for t in texts],
+    )
+    fit = Fit(
+        k=K,
+        seed=0,
+        engine="planted",
+        engine_version="0",
+        settings={},
+        fit_seconds=0.0,
+        vocab=vocab,
+        doc_ids=ids,
+        topic_term=topic_term,
+        doc_dirichlet=doc_topic * 50,
+        heldout=np.zeros(n, bool),
+        perplexity=float("nan"),
+        corpus_fingerprint="planted",
+        doc_topic=doc_topic,
+    )
+    return fit, prepared
+
+
+@pytest.fixture
+def store(tmp_path):
+    with LabelStore(tmp_path / "labels.sqlite", analyst="analyst_a") as s:
+        yield s
+
+
+@pytest.fixture
+def view(planted, store):
+    fit, prepared = planted
+    v = TopicView(fit, prepared, labels=store, n_boot=100, n_docs=3, poll_seconds=None)
+    yield v
+    v.close()
+
+
+def test_the_view_opens_on_the_most_different_topic(view, planted):
+    fit, prepared = planted
+    diff = comparison.differences(fit, prepared, n_boot=100)  # the plain function
+    assert view.topic == int(diff.sort_values("difference", ascending=False)["topic"].iloc[0]) == 0
+    shown = view.sources_panel.topic_list
+    assert shown.row_keys == diff.sort_values("difference", ascending=False)["topic"].tolist()
+    # the list's differences are the plain function's, to the 3 decimals shown
+    by_topic = diff.set_index("topic")["difference"]
+    for key, row in zip(shown.row_keys, shown.rows, strict=True):
+        assert row[2] == f"{by_topic[key]:+.3f}"
+
+
+def test_one_topic_trait_moves_every_panel(view, planted):
+    fit, prepared = planted
+    view.topic = 2
+    assert view.sources_panel.chart.params.focus == 2
+    assert view.terms_panel.terms_chart.params.focus == 2
+    assert view.sources_panel.topic_list.selected == 2
+    assert "Reading topic <b>2 · w20 w21 w22</b>" in view.reading_title.value
+    expected = documents.representative_documents(fit, prepared, 2, per_source=3)
+    for source, box in view.documents_panel.columns.items():
+        for title in expected[expected["source"] == source]["title"]:
+            assert html.escape(title) in box.value
+    wording = terms.source_wording(fit, prepared, 2, against="each", topn=8)
+    first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
+    rows = next(iter(view.terms_panel.wording_chart.spec["datasets"].values()))
+    assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
+    assert "Current labels of topic 2" in view.labels_panel.labels.value
+
+
+def test_clicks_anywhere_select_the_topic(view):
+    _click(view.sources_panel.chart, charts.TOPIC_PICK, topic=1)
+    assert view.topic == 1
+    _click(view.terms_panel.terms_chart, charts.TOPIC_PICK, topic=3)
+    assert view.topic == 3
+    view.sources_panel.topic_list.selected = 2  # a row clicked in the topic list
+    assert view.topic == 2
+    with pytest.raises(ValueError, match="'topic' parameter of TopicView"):
+        view.topic = K
+
+
+def test_weighting_cluster_and_influence_warning(view, planted):
+    fit, prepared = planted
+    panel = view.sources_panel
+    # reader_00 carries most of the shared exposure: the influence check fires and names it
+    flagged = comparison.influence(prepared, warn=False)
+    assert flagged["flagged"].any()
+    assert (
+        "reader_00" in panel.warning.value and "One cluster may be driving" in panel.warning.value
+    )
+    panel.weighting.value = "unique"
+    prev = comparison.prevalence(fit, prepared, weighting="unique", n_boot=100)
+    data = [d for d in panel.chart.spec["datasets"].values() if d and "source" in d[0]][0]
+    got = {(r["source"], r["topic"]): r["estimate"] for r in data}
+    for row in prev.itertuples():
+        assert got[(row.source, row.topic)] == pytest.approx(row.prevalence, abs=1e-12)
+    assert panel.warning.value == ""  # counted once per article, no reader dominates
+    panel.cluster.value = None
+    assert "resampling documents" in str(panel.chart.spec["title"])
+
+
+def test_ranking_selector_uses_term_rankings(view, planted):
+    fit, prepared = planted
+    panel = view.terms_panel
+    panel.ranking.value = "relevance"
+    assert panel.weight.layout.display is None and panel.weight.value == 0.6
+    panel.weight.value = 0.3
+    expected = terms.term_rankings(fit, "relevance", topn=12, lam=0.3, prepared=prepared)
+    rows = next(iter(panel.terms_chart.spec["datasets"].values()))
+    assert [(r["topic"], r["term"]) for r in rows] == list(
+        zip(expected["topic"], expected["term"], strict=True)
+    )
+    panel.ranking.value = "lift"
+    assert panel.weight.layout.display == "none"
+
+
+def test_corpus_and_label_text_is_escaped(view, planted, store):
+    fit, _ = planted
+    view.topic = int(np.argmax(fit.doc_topic[0]))
+    shown = "".join(box.value for box in view.documents_panel.columns.values())
+    assert html.escape(HOSTILE_TITLE) in shown
+    assert "&lt;img src=x onerror=alert(&#x27;x&#x27;)&gt;" in shown
+    assert "Harbour &lt;Times&gt;" in shown
+    assert "<script" not in shown and "<img" not in shown
+    store.save(
+        fit, view.topic, name="<img src=x onerror=alert(1)>", note="<script>alert(2)</script>"
+    )
+    view.labels_panel.refresh(force=True)
+    labels = view.labels_panel.labels.value + view.labels_panel.history.value
+    assert "<img" not in labels and "<script" not in labels
+    assert html.escape("<img src=x onerror=alert(1)>") in labels
+
+
+def test_emphasis_is_added_after_escaping():
+    out = emphasise("Rent <b>rises</b> & rents fall; city council meets", ["rent", "city_council"])
+    assert out == (
+        '<mark style="background:#fbe7c2;padding:0 1px;border-radius:2px">Rent</mark> '
+        "&lt;b&gt;rises&lt;/b&gt; &amp; "
+        '<mark style="background:#fbe7c2;padding:0 1px;border-radius:2px">rents</mark> fall; '
+        '<mark style="background:#fbe7c2;padding:0 1px;border-radius:2px">city council</mark> meets'
+    )
+    # a term that is also an entity name never breaks an escaped entity
+    assert emphasise("a & b", ["amp"]) == "a &amp; b"
+
+
+def test_label_form_saves_shows_colleagues_and_conflicts(view, planted, store, tmp_path):
+    fit, _ = planted
+    form = view.labels_panel
+    view.topic = 1
+    form.name.value, form.note.value, form.verdict.value = "tides", "clear", "usable"
+    form.save_label()
+    assert store.label(fit, 1).name == "tides" and "Saved as version 1" in form.status.value
+    # a colleague saves from another kernel: the poll finds it without re-running the cell
+    with LabelStore(tmp_path / "labels.sqlite", analyst="analyst_b") as other:
+        other.save(fit, 1, name="sea defences", verdict="usable")
+    assert form.check_for_news() and "sea defences" in form.labels.value
+    assert not form.check_for_news()  # nothing new since
+    assert "all topics" in form.agreement.value
+    # the same analyst edits from elsewhere: saving the stale form is a conflict, both shown
+    with LabelStore(tmp_path / "labels.sqlite", analyst="analyst_a") as elsewhere:
+        elsewhere.save(fit, 1, name="storm damage", based_on=1)
+    form.name.value = "tidal barrier"
+    form.save_label()
+    assert "storm damage" in form.conflict.value and "tidal barrier" in form.conflict.value
+    assert store.label(fit, 1).name == "storm damage"  # nothing lost, nothing overwritten
+    form.save_label(force=True)
+    assert store.label(fit, 1).name == "tidal barrier" and store.label(fit, 1).version == 3
+
+
+def test_blind_round_shows_only_own_labels(view, planted, store, tmp_path):
+    fit, _ = planted
+    store.open_round(fit, "first pass", blind=True)
+    with LabelStore(tmp_path / "labels.sqlite", analyst="analyst_b") as other:
+        other.save(fit, 0, name="colleague's secret")
+    view.topic = 0
+    view.labels_panel.refresh(force=True)
+    assert "colleague's secret" not in view.labels_panel.labels.value
+    assert "Blind round open" in view.labels_panel.agreement.value
+
+
+def test_polling_thread_brings_colleagues_labels(planted, store, tmp_path):
+    fit, prepared = planted
+    view = TopicView(fit, prepared, labels=store, n_boot=50, poll_seconds=0.2)
+    try:
+        with LabelStore(tmp_path / "labels.sqlite", analyst="analyst_b") as other:
+            other.save(fit, view.topic, name="from another kernel")
+        deadline = time.monotonic() + 10
+        while (
+            "from another kernel" not in view.labels_panel.labels.value
+            and time.monotonic() < deadline
+        ):
+            time.sleep(0.1)
+        assert "from another kernel" in view.labels_panel.labels.value
+    finally:
+        view.close()
+
+
+def test_sweep_view_picks_fits_by_click_and_row(planted):
+    fit, _ = planted
+    scores = pd.DataFrame(
+        {
+            "k": [4, 4, 6, 6],
+            "seed": [0, 1, 0, 1],
+            "npmi": [0.1, 0.12, 0.2, 0.18],
+            "c_v": [0.5, 0.52, 0.6, 0.61],
+            "perplexity": [300.0, 310, 290, 295],
+            "stability": [0.8, 0.8, 0.7, 0.7],
+            "diversity": [0.9, 0.9, 0.8, 0.85],
+        }
+    )
+    advice = SimpleNamespace(k=6, seed=0, rule="highest mean NPMI <among> stable k")
+    fake = SimpleNamespace(
+        scores=scores, recommend=lambda: advice, model=lambda k, seed: (k, seed), engine="planted"
+    )
+    view = SweepView(fake)
+    assert (view.k, view.seed) == (6, 0) and view.chart.params.picked == "6:0"
+    assert "highest mean NPMI &lt;among&gt; stable k" in view.advice.value
+    _click(view.chart, charts.FIT_PICK, k=4, seed=1)
+    assert (view.k, view.seed) == (4, 1) and view.picked_model() == (4, 1)
+    assert view.fits_table.selected == "4:1"
+    view.fits_table.selected = "6:1"
+    assert (view.k, view.seed) == (6, 1)
+    view.measure_choice.value = "perplexity"
+    rows = next(iter(view.chart.spec["datasets"].values()))
+    assert [r["value"] for r in rows] == scores["perplexity"].tolist()
+    assert "lower is better" in str(view.chart.spec["layer"][0]["encoding"]["y"]["title"])
+    assert [o[1] for o in view.measure_choice.options] == [
+        "npmi",
+        "c_v",
+        "perplexity",
+        "stability",
+        "diversity",
+    ]
+
+
+def test_offline_bundle_is_built_once_and_loads_nothing_remote(tmp_path, monkeypatch):
+    path = bundle_path()
+    a = chart_widget(
+        charts.wording_chart(pd.DataFrame({"term": ["x"], "score": [1.0]}), sources=("a", "b"))
+    )
+    b = chart_widget(
+        charts.wording_chart(pd.DataFrame({"term": ["y"], "score": [-1.0]}), sources=("a", "b"))
+    )
+    assert a._esm == path.read_text(encoding="utf-8")
+    assert a._esm is b._esm  # one copy per kernel, shared by every chart
+    # no module is fetched from a network address (the online widget imports from a CDN)
+    assert not re.search(r"""(import|from)\s*\(?\s*["']https?://""", a._esm)
+    assert path.parent == cache_dir()
+    monkeypatch.setenv("TM_COMPARE_CACHE_DIR", str(tmp_path))
+    assert cache_dir() == tmp_path  # the cache folder is overridable
+
+
+def test_ipython_extension_registers_magic_and_summaries(planted):
+    from IPython.core.interactiveshell import InteractiveShell
+
+    from tm_compare import load_ipython_extension
+    from tm_compare.errors import SettingsError
+
+    fit, _ = planted
+    shell = InteractiveShell.instance()
+    load_ipython_extension(shell)  # what %load_ext tm_compare calls
+    summary = shell.display_formatter.formatters["text/html"](fit)
+    assert "k = 4" in summary and "w00 w01 w02" in summary
+    with pytest.raises(SettingsError, match="Usage: %tm_compare PROJECT"):
+        shell.run_line_magic("tm_compare", "")
