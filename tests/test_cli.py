@@ -150,3 +150,17 @@ def test_bad_format_list_is_a_usage_error(capsys):
         main(["export", "somewhere", "--charts", "gif"])
     assert stop.value.code == 2  # argparse's usage errors (the Python standard library)
     assert "--charts: got 'gif'; give a comma-separated list of png, svg" in capsys.readouterr().err
+
+
+@pytest.mark.slow
+def test_a_damaged_score_table_is_one_line_error(capsys, tmp_path):
+    import shutil
+
+    from test_pipeline import small_demo
+
+    run, _ = small_demo()
+    copy = tmp_path / "project"
+    shutil.copytree(run.project.path, copy)
+    (copy / "scores" / "scores.parquet").write_bytes(b"not a parquet file")
+    line = _error(["report", str(copy)], capsys)
+    assert "cannot be read" in line and "tm-compare sweep" in line

@@ -79,13 +79,14 @@ def representative_documents(
     top_terms = np.argsort(-np.asarray(fit.topic_term, dtype=float), axis=1, kind="stable")[
         :, :snippet_terms
     ]
+    keys = _collapse_keys(meta)
     rows = []
     for t in topics:
         pattern = _term_pattern([fit.vocab[j] for j in top_terms[t]])
         for source in names:
             idx = np.flatnonzero(doc_sources == source)
             order = idx[np.lexsort((idx, -weights[idx], -shares[idx, t]))]
-            for rank, (i, collapsed) in enumerate(_collapse(meta, order, per_source), start=1):
+            for rank, (i, collapsed) in enumerate(_collapse(keys, order, per_source), start=1):
                 snippet, found = snippet_around(_text(meta, i), pattern, snippet_chars)
                 rows.append(
                     {
@@ -144,18 +145,36 @@ def _text(meta, i) -> str:
     return "" if value is None else str(value)
 
 
-def _collapse(meta, order, wanted):
+def _collapse_keys(meta) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """Per document: id, normalised title (None when missing) and merged ids, as arrays.
+
+    Built once per call so the walk below touches numpy arrays, not DataFrame cells
+    (it visits every document of a source, 200,000 in a large corpus).
+    """
+    ids = meta["id"].astype(str).to_numpy()
+    if "title" in meta.columns:
+        titles = meta["title"].astype("string").str.replace(_SPACE, " ", regex=True)
+        titles = titles.str.strip().str.casefold()
+        titles = titles.where(titles.notna() & (titles != ""), None).to_numpy(dtype=object)
+    else:
+        titles = np.full(len(meta), None, dtype=object)
+    merged = meta["duplicate_ids"].to_numpy() if "duplicate_ids" in meta.columns else None
+    return ids, titles, merged
+
+
+def _collapse(keys, order, wanted):
     """Walk documents best first; yield (row, ids folded into it) for the first ``wanted``."""
+    ids, titles, merged = keys
     kept: list[tuple[int, list[str]]] = []
     owner_of: dict[str, int] = {}  # a title key or document id -> position in ``kept``
     for i in order:
-        doc_id = str(meta.at[i, "id"])
-        merged = _get(meta, i, "duplicate_ids")
-        keys = [doc_id, *(str(x) for x in (merged if merged is not None else []))]
-        title = _get(meta, i, "title")
-        if title is not None and (key := _SPACE.sub(" ", str(title)).strip().casefold()):
-            keys.append("title:" + key)
-        hit = next((owner_of[key] for key in keys if key in owner_of), None)
+        doc_id = ids[i]
+        doc_keys = [doc_id]
+        if merged is not None and not _missing(merged[i]):
+            doc_keys.extend(str(x) for x in merged[i])
+        if titles[i] is not None:
+            doc_keys.append("title:" + titles[i])
+        hit = next((owner_of[key] for key in doc_keys if key in owner_of), None)
         if hit is not None:
             kept[hit][1].append(doc_id)
         elif len(kept) < wanted:
@@ -164,7 +183,7 @@ def _collapse(meta, order, wanted):
         else:
             # Later documents can only be folded into rows already shown.
             continue
-        for key in keys:
+        for key in doc_keys:
             owner_of.setdefault(key, hit)
     return kept
 

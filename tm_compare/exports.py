@@ -24,7 +24,7 @@ import pandas as pd
 
 from ._atomic import atomic_path, atomic_write_bytes, atomic_write_text
 from ._validation import check_choice, param_error
-from .errors import ProjectError
+from .errors import CorruptArtifactError, ProjectError
 
 TABLE_FORMATS = ("csv", "parquet")
 CHART_FORMATS = ("png", "svg")
@@ -181,7 +181,15 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
         raise param_error("collect", sorted(unknown)[0], settings[sorted(unknown)[0]], accepted)
     s = {**_SETTINGS, **settings}
     project = project if isinstance(project, Project) else Project.open(project)
-    result = project.load_sweep()
+    try:
+        result = project.load_sweep()
+    except (OSError, ValueError, KeyError) as exc:  # a damaged score table or sweep.json
+        msg = (
+            f"The sweep saved in {str(project.path / 'scores')!r} cannot be read "
+            f"({type(exc).__name__}: {exc}). Run the sweep again (`tm-compare sweep "
+            f"{project.path}` with the same grid): finished fits are reused."
+        )
+        raise CorruptArtifactError(msg) from exc
     if seed is not None and k is None:
         raise param_error("collect", "k", k, "an integer when seed is given", "Give --k too.")
     if k is None:
@@ -287,7 +295,7 @@ def charts(results: Results, measure: str = "npmi") -> dict:
     scores = results.tables["scores"]
     out = {}
     for column, title in ((measure, measure.upper()), ("stability", "stability")):
-        if column in scores:
+        if column in scores and scores[column].notna().any():  # one seed: no stability
             out[f"sweep-{column}"] = ch.sweep_chart(
                 scores.assign(value=scores[column]),
                 title=title,

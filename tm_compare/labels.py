@@ -185,6 +185,10 @@ class LabelStore:
     def __repr__(self) -> str:
         return f"LabelStore({self.url!r}, analyst={self.analyst!r})"
 
+    def as_analyst(self, analyst: str) -> LabelStore:
+        """The same store, opened for writing as ``analyst`` (e.g. when a form's name changes)."""
+        return LabelStore(self._url, analyst=analyst, timeout=self.timeout, read_only=self.read_only)
+
     def close(self) -> None:
         """Release the store's connections."""
         self._engine.dispose()

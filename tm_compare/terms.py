@@ -165,6 +165,7 @@ def source_wording(
     weighting: str = "unique",
     prior_strength: float | None = None,
     topn: int = 15,
+    counts=None,
 ) -> pd.DataFrame:
     """Which terms each source uses more than the others when writing about ``topic``.
 
@@ -179,6 +180,9 @@ def source_wording(
 
     with prior ``a_w = a_0 * y_w / n`` from the topic-weighted counts of all compared
     sources together, and ``a_0 = prior_strength`` (default: ``n``, i.e. ``a_w = y_w``).
+
+    ``counts`` is the D x V document-term matrix of :func:`count_matrix`; views that ask
+    for many topics pass it once instead of having it looked up on every call.
 
     Returns
     -------
@@ -216,7 +220,8 @@ def source_wording(
     weight = shares * (
         np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0
     )
-    counts = count_matrix(prepared, phi.shape[1])
+    if counts is None:
+        counts = count_matrix(prepared, phi.shape[1])
     by_source = {s: counts.T @ np.where(doc_sources == s, weight, 0.0) for s in names}
     background = sum(by_source.values())
     total = background.sum()

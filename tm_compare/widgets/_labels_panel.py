@@ -123,7 +123,7 @@ class LabelsPanel(w.VBox):
         who = self.analyst.value.strip()
         if who and who != self.store.analyst:
             # A store object writes as one analyst; the form may name another.
-            self.store = LabelStore(self.store._url, analyst=who, timeout=self.store.timeout)
+            self.store = self.store.as_analyst(who)
         return self.store
 
     def _load_choices(self):

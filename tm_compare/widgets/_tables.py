@@ -9,7 +9,6 @@ comes from the plain functions of :mod:`tm_compare.comparison`, :mod:`tm_compare
 
 from __future__ import annotations
 
-import inspect
 import warnings
 from types import SimpleNamespace
 
@@ -150,7 +149,7 @@ class ModelTables:
                 against="each",
                 sources=list(pair),
                 topn=per_side,
-                **self._counts(),
+                counts=self._counts(),
             )
             first = table[(table["source"] == pair[0]) & (table["other"] == pair[1])]
             second = table[(table["source"] == pair[1]) & (table["other"] == pair[0])]
@@ -163,14 +162,11 @@ class ModelTables:
             )
         return self._wording[key]
 
-    def _counts(self) -> dict:
-        # The document-term counts do not depend on the topic: build them once per model when
-        # source_wording accepts them, instead of once per topic.
-        if "counts" not in inspect.signature(terms.source_wording).parameters:
-            return {}
+    def _counts(self):
+        # The document-term counts do not depend on the topic: build them once per model.
         if self._count_matrix is None:
             self._count_matrix = terms.count_matrix(self.prepared, len(self.fit.vocab))
-        return {"counts": self._count_matrix}
+        return self._count_matrix
 
     def documents(self, topic: int) -> dict[str, pd.DataFrame]:
         """Representative documents of ``topic``, one frame per source, ready for the cards."""
