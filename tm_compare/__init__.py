@@ -52,6 +52,10 @@ _EXPORTS = {
     "SweepView": "widgets",
     "TopicView": "widgets",
     "write_report": "report",
+    "collect": "exports",
+    "export": "exports",
+    "document_topics": "exports",
+    "Results": "exports",
     "run_demo": "pipeline",
 }
 

@@ -75,7 +75,8 @@ def sweep_chart(
         "k:Q",
         title="number of topics (k)",
         scale=alt.Scale(zero=False),
-        axis=alt.Axis(tickMinStep=1, format="d"),
+        # Ticks at the k values fitted: an automatic integer axis repeats labels on short grids.
+        axis=alt.Axis(values=sorted(data["k"].unique().tolist()), format="d"),
     )
     base = alt.Chart(data)
     band = base.mark_area(opacity=0.18, color=PALETTE[0]).encode(
@@ -182,7 +183,11 @@ def source_chart(
     left = (
         alt.layer(
             base.mark_rule(strokeWidth=2).encode(
-                x=alt.X("lower:Q", title="share of the source (interval)"),
+                x=alt.X(
+                    "lower:Q",
+                    title="share of the source (interval)",
+                    axis=alt.Axis(format=".0%", tickCount=4),
+                ),
                 x2="upper:Q",
                 y=y,
                 yOffset=offset,
@@ -202,7 +207,7 @@ def source_chart(
         alt.layer(
             alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
             diff_base.mark_rule(strokeWidth=2).encode(
-                x=alt.X("lower:Q", title=contrast),
+                x=alt.X("lower:Q", title=contrast, axis=alt.Axis(format="+.0%", tickCount=4)),
                 x2="upper:Q",
                 y=y_bare,
                 color=diff_colour,

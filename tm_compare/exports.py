@@ -51,7 +51,7 @@ class Results:
     """
 
     def __init__(self, project, sweep, fit, prepared, corpus, settings):
-        from .widgets._tables import ModelTables
+        from ._model_tables import ModelTables
 
         self.project, self.sweep, self.fit = project, sweep, fit
         self.prepared, self.corpus, self.settings = prepared, corpus, settings

@@ -45,8 +45,7 @@ def main(argv: list[str] | None = None) -> int:
         if args.debug:
             traceback.print_exc()
         else:
-            print(f"Error: {exc}", file=sys.stderr)
-            print("(run again with --debug for the full traceback)", file=sys.stderr)
+            print(f"Error: {exc} (run again with --debug for the traceback)", file=sys.stderr)
         return 1
     except KeyboardInterrupt:
         print("Interrupted.", file=sys.stderr)

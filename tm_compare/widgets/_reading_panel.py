@@ -6,9 +6,9 @@ from __future__ import annotations
 import ipywidgets as w
 
 from .. import charts
+from .._model_tables import RANKINGS
 from ._cards import document_cards
 from ._offline import chart_widget
-from ._tables import RANKINGS
 
 _RANKING_NAMES = {
     "probability": "probability",

@@ -5,12 +5,12 @@ from __future__ import annotations
 import ipywidgets as w
 import traitlets
 
+from .._model_tables import ModelTables
 from .._validation import param_error
 from ._cards import esc
 from ._labels_panel import LabelsPanel
 from ._reading_panel import DocumentsPanel, TermsPanel
 from ._sources_panel import SourcesPanel
-from ._tables import ModelTables
 
 
 def _section(title: str, hint: str) -> w.HTML:

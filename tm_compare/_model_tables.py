@@ -15,7 +15,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
-from .. import comparison, documents, terms
+from . import comparison, documents, terms
 
 #: Term rankings offered, with the weight each one takes (None: no weight).
 RANKINGS = {
