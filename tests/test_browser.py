@@ -21,47 +21,13 @@ import urllib.request
 from pathlib import Path
 
 import pytest
+from _chromium import ARTIFACTS, REPO, chromium, require_browser
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
-REPO = Path(__file__).resolve().parent.parent
-ARTIFACTS = REPO / ".artifacts"
-CHROMIUM = Path("/usr/bin/chromium")
-CHROMIUM_ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
 TOKEN = "tm-compare-browser-test"
 KERNEL_IDLE = "Python 3 (ipykernel) | Idle"
 LOCAL = re.compile(r"^(https?|wss?)://127\.0\.0\.1:\d+/|^blob:http://127\.0\.0\.1:\d+/|^data:")
-
-
-def _require_browser():
-    missing = [
-        what
-        for what, ok in (
-            ("Debian's chromium", CHROMIUM.exists()),
-            ("playwright", _importable("playwright")),
-        )
-        if not ok
-    ]
-    if missing:
-        reason = f"{' and '.join(missing)} not installed (apt-get install -y chromium; pip install playwright)"
-        if os.environ.get("CI", "").lower() == "true":
-            pytest.fail(f"Browser tests must run in CI but {reason}.")
-        pytest.skip(reason)
-
-
-def _importable(name: str) -> bool:
-    import importlib.util
-
-    return importlib.util.find_spec(name) is not None
 
 
 def _free_port() -> int:
@@ -176,8 +142,7 @@ def _selected_topic(view) -> int:
 
 
 def test_quickstart_in_jupyterlab(tmp_path):
-    _require_browser()
-    from playwright.sync_api import sync_playwright
+    require_browser()  # before the slow set-up, so a missing browser skips at once
 
     from tm_compare.labels import LabelStore
 
@@ -187,72 +152,68 @@ def test_quickstart_in_jupyterlab(tmp_path):
     ARTIFACTS.mkdir(exist_ok=True)
     requests: list[str] = []
     dialogs: list[str] = []
-    with jupyter_lab(root, tmp_path / "state") as base, sync_playwright() as pw:
-        browser = pw.chromium.launch(executable_path=str(CHROMIUM), args=CHROMIUM_ARGS)
-        try:
-            page = browser.new_page(viewport={"width": 1500, "height": 1100})
-            page.on("request", lambda r: requests.append(r.url))
-            page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
-            page.goto(f"{base}/lab/tree/quickstart.ipynb?reset&token={TOKEN}")
-            # The notebook's own indicator reads idle before the kernel exists: wait for the
-            # status bar's kernel item instead, or "Run All" silently does nothing.
-            page.get_by_text(KERNEL_IDLE).first.wait_for(timeout=180_000)
-            run_all_cells(page)
+    with jupyter_lab(root, tmp_path / "state") as base, chromium() as browser:
+        page = browser.new_page(viewport={"width": 1500, "height": 1100})
+        page.on("request", lambda r: requests.append(r.url))
+        page.on("dialog", lambda d: (dialogs.append(d.message), d.dismiss()))
+        page.goto(f"{base}/lab/tree/quickstart.ipynb?reset&token={TOKEN}")
+        # The notebook's own indicator reads idle before the kernel exists: wait for the
+        # status bar's kernel item instead, or "Run All" silently does nothing.
+        page.get_by_text(KERNEL_IDLE).first.wait_for(timeout=180_000)
+        run_all_cells(page)
 
-            sweep_view = page.locator(".tmc-sweep-view").first
-            view = page.locator(".tmc-topic-view").first
-            view.wait_for(timeout=60_000)
-            # Charts are drawn (offline SVG) in both views.
-            sweep_view.locator(".vega-embed svg").first.wait_for(timeout=60_000)
-            assert view.locator(".vega-embed svg").count() >= 3
-            _screenshot(page, sweep_view, "sweep-view.png")
+        sweep_view = page.locator(".tmc-sweep-view").first
+        view = page.locator(".tmc-topic-view").first
+        view.wait_for(timeout=60_000)
+        # Charts are drawn (offline SVG) in both views.
+        sweep_view.locator(".vega-embed svg").first.wait_for(timeout=60_000)
+        assert view.locator(".vega-embed svg").count() >= 3
+        _screenshot(page, sweep_view, "sweep-view.png")
 
-            # The hostile article is on show as text; nothing of it ran.
-            hostile = view.locator(".tmc-doc", has_text="<script>alert('title')</script>")
-            hostile.first.wait_for(timeout=30_000)
-            assert "<img src=x onerror=" in hostile.first.inner_text()
-            assert view.locator("script").count() == 0
-            assert view.locator("img[src='x']").count() == 0
-            _screenshot(page, view, "topic-view-hostile.png")
+        # The hostile article is on show as text; nothing of it ran.
+        hostile = view.locator(".tmc-doc", has_text="<script>alert('title')</script>")
+        hostile.first.wait_for(timeout=30_000)
+        assert "<img src=x onerror=" in hostile.first.inner_text()
+        assert view.locator("script").count() == 0
+        assert view.locator("img[src='x']").count() == 0
+        _screenshot(page, view, "topic-view-hostile.png")
 
-            # A click on another topic's mark in the sources chart moves every panel.
-            before = _selected_topic(view)
-            docs_before = view.locator(".tmc-doc").all_inner_texts()
-            terms_before = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
-                "els => els.map(e => e.getAttribute('aria-label'))"
-            )
-            marks = view.locator(".tmc-sources path[aria-label*='name: ']")
-            labels = marks.evaluate_all("els => els.map(e => e.getAttribute('aria-label'))")
-            target = next(
-                i
-                for i, a in enumerate(labels)
-                if int(re.search(r"name: (\d+) ·", a).group(1)) != before
-            )
-            wanted = int(re.search(r"name: (\d+) ·", labels[target]).group(1))
-            marks.nth(target).click(force=True)
-            page.wait_for_function(
-                "([n]) => (document.querySelector('.tmc-topic-view .tmc-selected') || {}).innerText"
-                "?.includes('Reading topic ' + n + ' ')",
-                arg=[wanted],
-                timeout=30_000,
-            )
-            page.wait_for_timeout(500)
-            assert view.locator(".tmc-doc").all_inner_texts() != docs_before
-            terms_after = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
-                "els => els.map(e => e.getAttribute('aria-label'))"
-            )
-            assert terms_after and terms_after != terms_before
+        # A click on another topic's mark in the sources chart moves every panel.
+        before = _selected_topic(view)
+        docs_before = view.locator(".tmc-doc").all_inner_texts()
+        terms_before = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
+            "els => els.map(e => e.getAttribute('aria-label'))"
+        )
+        marks = view.locator(".tmc-sources path[aria-label*='name: ']")
+        labels = marks.evaluate_all("els => els.map(e => e.getAttribute('aria-label'))")
+        target = next(
+            i
+            for i, a in enumerate(labels)
+            if int(re.search(r"name: (\d+) ·", a).group(1)) != before
+        )
+        wanted = int(re.search(r"name: (\d+) ·", labels[target]).group(1))
+        marks.nth(target).click(force=True)
+        page.wait_for_function(
+            "([n]) => (document.querySelector('.tmc-topic-view .tmc-selected') || {}).innerText"
+            "?.includes('Reading topic ' + n + ' ')",
+            arg=[wanted],
+            timeout=30_000,
+        )
+        page.wait_for_timeout(500)
+        assert view.locator(".tmc-doc").all_inner_texts() != docs_before
+        terms_after = view.locator(".tmc-terms [aria-label*='term: ']").evaluate_all(
+            "els => els.map(e => e.getAttribute('aria-label'))"
+        )
+        assert terms_after and terms_after != terms_before
 
-            # A label saved through the form reaches the store.
-            form = view.locator(".tmc-labels")
-            name = f"harbour works {int(time.time())}"
-            form.locator(".widget-text:has(label:text-is('Name')) input").fill(name)
-            form.locator(".widget-textarea textarea").fill("saved from the browser test")
-            form.locator("button", has_text="Save label").click()
-            form.get_by_text("Saved as version").wait_for(timeout=30_000)
-            _screenshot(page, view, "topic-view.png")
-        finally:
-            browser.close()
+        # A label saved through the form reaches the store.
+        form = view.locator(".tmc-labels")
+        name = f"harbour works {int(time.time())}"
+        form.locator(".widget-text:has(label:text-is('Name')) input").fill(name)
+        form.locator(".widget-textarea textarea").fill("saved from the browser test")
+        form.locator("button", has_text="Save label").click()
+        form.get_by_text("Saved as version").wait_for(timeout=30_000)
+        _screenshot(page, view, "topic-view.png")
 
     store = LabelStore(root / "quickstart-project")
     saved = store.history()

@@ -7,51 +7,17 @@ downloads a browser: Chromium must be Debian's (``apt-get install -y chromium``)
 
 from __future__ import annotations
 
-import os
 import subprocess
 import sys
-from pathlib import Path
 
 import pytest
+from _chromium import ARTIFACTS, chromium, require_browser
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
-REPO = Path(__file__).resolve().parent.parent
-ARTIFACTS = REPO / ".artifacts"
-CHROMIUM = Path("/usr/bin/chromium")
-CHROMIUM_ARGS = [
-    "--headless",
-    "--no-sandbox",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
-
-
-def _require_browser():
-    import importlib.util
-
-    missing = [
-        what
-        for what, ok in (
-            ("Debian's chromium", CHROMIUM.exists()),
-            ("playwright", importlib.util.find_spec("playwright") is not None),
-        )
-        if not ok
-    ]
-    if missing:
-        reason = f"{' and '.join(missing)} not installed (apt-get install -y chromium; pip install playwright)"
-        if os.environ.get("CI", "").lower() == "true":
-            pytest.fail(f"Browser tests must run in CI but {reason}.")
-        pytest.skip(reason)
-
 
 def test_demo_report_opens_offline_without_errors(tmp_path):
-    _require_browser()
-    from playwright.sync_api import sync_playwright
+    require_browser()  # before the slow set-up, so a missing browser skips at once
 
     project = tmp_path / "demo"
     command = [
@@ -80,23 +46,19 @@ def test_demo_report_opens_offline_without_errors(tmp_path):
     assert "Recommended k =" in done.stdout and "Influence check" in done.stdout
 
     requests, problems = [], []
-    with sync_playwright() as p:
-        browser = p.chromium.launch(executable_path=str(CHROMIUM), args=CHROMIUM_ARGS)
-        try:
-            page = browser.new_page(viewport={"width": 1200, "height": 900})
-            page.on("request", lambda r: requests.append(r.url))
-            page.on("console", lambda m: problems.append(m.text) if m.type == "error" else None)
-            page.on("pageerror", lambda e: problems.append(str(e)))
-            page.goto(report.resolve().as_uri(), wait_until="load")
-            images = page.eval_on_selector_all(
-                "img", "els => els.map(e => [e.complete, e.naturalWidth])"
-            )
-            headings = page.eval_on_selector_all("h2", "els => els.map(e => e.textContent)")
-            ARTIFACTS.mkdir(exist_ok=True)
-            page.screenshot(path=str(ARTIFACTS / "report.png"), full_page=True)
-            page.screenshot(path=str(ARTIFACTS / "report-top.png"))
-        finally:
-            browser.close()
+    with chromium() as browser:
+        page = browser.new_page(viewport={"width": 1200, "height": 900})
+        page.on("request", lambda r: requests.append(r.url))
+        page.on("console", lambda m: problems.append(m.text) if m.type == "error" else None)
+        page.on("pageerror", lambda e: problems.append(str(e)))
+        page.goto(report.resolve().as_uri(), wait_until="load")
+        images = page.eval_on_selector_all(
+            "img", "els => els.map(e => [e.complete, e.naturalWidth])"
+        )
+        headings = page.eval_on_selector_all("h2", "els => els.map(e => e.textContent)")
+        ARTIFACTS.mkdir(exist_ok=True)
+        page.screenshot(path=str(ARTIFACTS / "report.png"), full_page=True)
+        page.screenshot(path=str(ARTIFACTS / "report-top.png"))
     assert requests and all(u.startswith(("file:", "data:")) for u in requests), requests
     assert problems == []
     # Every chart drew (an SVG that failed to decode has no natural width).
