@@ -133,22 +133,26 @@ def count_matrix(prepared, n_terms: int) -> sp.csr_matrix:
     if cached is not None and cached.shape[1] == n_terms:
         return cached
     bow = prepared.bow
-    lengths = np.fromiter((len(doc) for doc in bow), dtype=np.int64, count=len(bow))
-    pairs = np.fromiter(
-        (v for doc in bow for pair in doc for v in pair),
-        dtype=np.int64,
-        count=2 * int(lengths.sum()),
-    ).reshape(-1, 2)
-    if len(pairs) and pairs[:, 0].max() >= n_terms:
+    if hasattr(bow, "to_csr"):  # a PreparedCorpus keeps its counts as flat arrays already
+        ids, counts, indptr = bow.ids, bow.counts, bow.indptr
+    else:
+        lengths = np.fromiter((len(doc) for doc in bow), dtype=np.int64, count=len(bow))
+        pairs = np.fromiter(
+            (v for doc in bow for pair in doc for v in pair),
+            dtype=np.int64,
+            count=2 * int(lengths.sum()),
+        ).reshape(-1, 2)
+        ids, counts = pairs[:, 0], pairs[:, 1]
+        indptr = np.concatenate([[0], np.cumsum(lengths)])
+    if len(ids) and ids.max() >= n_terms:
         msg = (
-            f"The prepared corpus uses term id {int(pairs[:, 0].max())}, but the model has "
+            f"The prepared corpus uses term id {int(ids.max())}, but the model has "
             f"{n_terms} terms: the fit was trained on another dictionary. Use the fit of this "
             "prepared corpus."
         )
         raise ComparisonError(msg)
-    indptr = np.concatenate([[0], np.cumsum(lengths)])
     matrix = sp.csr_matrix(
-        (pairs[:, 1].astype(float), pairs[:, 0], indptr), shape=(len(bow), n_terms)
+        (np.asarray(counts, dtype=float), ids, indptr), shape=(len(indptr) - 1, n_terms)
     )
     if cacheable:
         _COUNTS[prepared] = matrix
