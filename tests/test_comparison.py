@@ -340,7 +340,7 @@ def test_demo_scenario_planted_theme_and_heavy_reader(tmp_path, capsys):
     from tm_compare.cli import _compare
     from tm_compare.corpus import Corpus
     from tm_compare.prepared import prepare
-    from tm_compare.sweep import sweep
+    from tm_compare.sweeps import sweep
 
     frame, truth = demo.scenario(1500, seed=0)
     project = tmp_path / "quillhaven"

@@ -1,7 +1,7 @@
 """tm_compare: compare the topics of news sources with LDA, in Jupyter.
 
 The data flow, one module per stage: corpus intake (:mod:`.corpus`) ->
-prepared corpus (:mod:`.prepared`) -> sweep of fits (:mod:`.sweep`,
+prepared corpus (:mod:`.prepared`) -> sweep of fits (:mod:`.sweeps`,
 :mod:`.fits`) -> scores (:mod:`.scores`) -> comparison between sources
 (:mod:`.comparison`, :mod:`.terms`, :mod:`.documents`, :mod:`.alignment`)
 -> labels (:mod:`.labels`) -> views, report and exports (:mod:`.charts`,
@@ -25,8 +25,9 @@ _EXPORTS = {
     "Project": "project",
     "RemovalLog": "removals",
     "Fit": "fits",
-    "sweep": "sweep",
-    "Sweep": "sweep",
+    "fit_lda": "fits",
+    "sweep": "sweeps",
+    "Sweep": "sweeps",
     "coherence": "scores",
     "CoherenceScorer": "scores",
     "stability": "scores",

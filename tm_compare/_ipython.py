@@ -22,7 +22,7 @@ def load(ipython) -> None:
     """Register the ``%tm_compare`` magic and the HTML summaries of ``Sweep`` and ``Fit``."""
     ipython.register_magic_function(tm_compare_magic, magic_kind="line", magic_name="tm_compare")
     html = ipython.display_formatter.formatters["text/html"]
-    html.for_type_by_name("tm_compare.sweep", "Sweep", sweep_html)
+    html.for_type_by_name("tm_compare.sweeps", "Sweep", sweep_html)
     html.for_type_by_name("tm_compare.fits", "Fit", fit_html)
 
 
@@ -44,7 +44,7 @@ def tm_compare_magic(line: str):
     from .errors import SettingsError
     from .labels import LabelStore
     from .project import Project
-    from .sweep import Sweep
+    from .sweeps import Sweep
     from .widgets import SweepView
 
     try:
@@ -58,35 +58,11 @@ def tm_compare_magic(line: str):
     project = Project.open(args.project)
     sweep = Sweep.load(project)
     store = LabelStore(project, analyst=args.analyst)
-    view = SweepView(sweep, prepared=_prepared_of(project, sweep), labels=store)
+    view = SweepView(sweep, prepared=project.load_prepared(sweep.corpus_fingerprint_), labels=store)
     if args.k is not None:
         view.k, view.seed = args.k, args.seed if args.seed is not None else view.seed
         view.show_model()
     return view
-
-
-def _prepared_of(project, sweep):
-    """The prepared corpus the sweep was fitted on, from the project's cache."""
-    from .errors import ProjectError
-    from .prepared import PreparedCorpus
-
-    folders = sorted(
-        (p for p in project.folder("prepared").iterdir() if p.is_dir()),
-        key=lambda p: p.stat().st_mtime,
-        reverse=True,
-    )
-    wanted = getattr(sweep, "corpus_fingerprint_", None)
-    loaded = [PreparedCorpus.load(f) for f in folders]
-    for prepared in loaded:
-        if getattr(prepared, "fingerprint", None) == wanted:
-            return prepared
-    if loaded:
-        return loaded[0]
-    msg = (
-        f"The project {str(project.path)!r} holds no prepared corpus. "
-        "Run `tm-compare prepare ... --project DIR` or prepare(corpus, project=...) first."
-    )
-    raise ProjectError(msg)
 
 
 def _table(frame: pd.DataFrame) -> str:

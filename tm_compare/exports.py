@@ -24,7 +24,7 @@ import pandas as pd
 
 from ._atomic import atomic_path, atomic_write_bytes, atomic_write_text
 from ._validation import check_choice, param_error
-from .errors import CorruptArtifactError, ProjectError
+from .errors import ProjectError
 
 TABLE_FORMATS = ("csv", "parquet")
 CHART_FORMATS = ("png", "svg")
@@ -181,15 +181,7 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
         raise param_error("collect", sorted(unknown)[0], settings[sorted(unknown)[0]], accepted)
     s = {**_SETTINGS, **settings}
     project = project if isinstance(project, Project) else Project.open(project)
-    try:
-        result = project.load_sweep()
-    except (OSError, ValueError, KeyError) as exc:  # a damaged score table or sweep.json
-        msg = (
-            f"The sweep saved in {str(project.path / 'scores')!r} cannot be read "
-            f"({type(exc).__name__}: {exc}). Run the sweep again (`tm-compare sweep "
-            f"{project.path}` with the same grid): finished fits are reused."
-        )
-        raise CorruptArtifactError(msg) from exc
+    result = project.load_sweep()
     if seed is not None and k is None:
         raise param_error("collect", "k", k, "an integer when seed is given", "Give --k too.")
     if k is None:

@@ -123,6 +123,12 @@ class Fit:
         order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n]
         return [[self.vocab[j] for j in row] for row in order]
 
+    def view(self, prepared, labels=None, **options):
+        """The interactive topic view of this model on ``prepared`` (see :class:`TopicView`)."""
+        from .widgets import TopicView
+
+        return TopicView(self, prepared, labels=labels, **options)
+
     def save(self, path: str | os.PathLike) -> Path:
         """Write the fit to one file atomically (a crash leaves no half file)."""
         arrays = {"topic_term": self.topic_term, "heldout": self.heldout}

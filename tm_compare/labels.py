@@ -187,7 +187,9 @@ class LabelStore:
 
     def as_analyst(self, analyst: str) -> LabelStore:
         """The same store, opened for writing as ``analyst`` (e.g. when a form's name changes)."""
-        return LabelStore(self._url, analyst=analyst, timeout=self.timeout, read_only=self.read_only)
+        return LabelStore(
+            self._url, analyst=analyst, timeout=self.timeout, read_only=self.read_only
+        )
 
     def close(self) -> None:
         """Release the store's connections."""

@@ -102,7 +102,7 @@ def prepare_corpus(run: DemoRun) -> str:
 
 def sweep_grid(run: DemoRun) -> str:
     """Fit LDA over the demo's grid of k and seeds (in parallel; finished fits are kept)."""
-    from .sweep import sweep
+    from .sweeps import sweep
 
     g = run.grid
     run.sweep = sweep(
@@ -341,7 +341,7 @@ def run_demo(
         Size and seed of the invented corpus (see :func:`tm_compare.demo.scenario`).
     echo : callable, optional
         Called with ``(title, report)`` after each step.
-    k, seeds, passes : grid of the sweep (see :func:`tm_compare.sweep.sweep`).
+    k, seeds, passes : grid of the sweep (see :func:`tm_compare.sweeps.sweep`).
     n_boot : int
         Bootstrap replicates of the comparison.
     progress : bool

@@ -240,15 +240,13 @@ class Project:
     def load_prepared(self, key: str | None = None):
         """A prepared corpus saved in this project.
 
-        ``key`` is a folder name under ``prepared/``; by default the one the
-        saved sweep was fitted on, else the most recently written one.
+        ``key`` is its folder name under ``prepared/`` (a fit's ``corpus_fingerprint``,
+        a sweep's ``corpus_fingerprint_``); by default the most recently written one.
         """
         from .prepared import PreparedCorpus
 
         root = self.path / "prepared"
         have = sorted(p.name for p in root.iterdir() if p.is_dir()) if root.is_dir() else []
-        if key is None:
-            key = self._swept_corpus_key()
         if key is None and have:
             key = max(have, key=lambda name: (root / name).stat().st_mtime)
         if key is None or key not in have:
@@ -261,15 +259,9 @@ class Project:
             raise ProjectError(msg)
         return PreparedCorpus.load(root / key)
 
-    def _swept_corpus_key(self) -> str | None:
-        state = self.path / "scores" / "sweep.json"
-        if not state.exists():
-            return None
-        return json.loads(state.read_text(encoding="utf-8")).get("corpus_fingerprint")
-
     def load_sweep(self):
         """The sweep saved in this project (its fits load from disk when asked for)."""
-        from .sweep import Sweep
+        from .sweeps import Sweep
 
         return Sweep.load(self)
 

@@ -13,8 +13,6 @@ from pathlib import Path
 
 import pandas as pd
 
-from ..errors import ProjectError
-
 SUMMARY_ROWS = 5
 
 
@@ -58,21 +56,11 @@ def register(subparsers) -> None:
 
 
 def _load(project_path: str, k: int, seed: int):
-    from ..prepared import PreparedCorpus
     from ..project import Project
-    from ..sweep import Sweep
 
     project = Project.open(project_path)
-    fit = Sweep.load(project).model(k, seed)
-    folder = project.path / "prepared" / fit.corpus_fingerprint
-    if not folder.exists():
-        msg = (
-            f"The prepared corpus the model k={k}, seed={seed} was fitted on is missing from "
-            f"{str(folder)!r}. Run `tm-compare prepare` again with the same settings, or rerun "
-            "the sweep."
-        )
-        raise ProjectError(msg)
-    return project, fit, PreparedCorpus.load(folder)
+    fit = project.load_model(k, seed)
+    return project, fit, project.load_prepared(fit.corpus_fingerprint)
 
 
 def tables(

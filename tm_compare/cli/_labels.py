@@ -8,6 +8,7 @@ import sys
 import pandas as pd
 
 from ..errors import LabelStoreError
+from ..project import Project
 
 ACTIONS = ("list", "export", "import", "agreement")
 
@@ -58,12 +59,7 @@ def _model(args):
     if args.k is None or args.seed is None:
         msg = "Name the model: --model FINGERPRINT, or --k K --seed S of the project's sweep."
         raise LabelStoreError(msg)
-    try:
-        from ..sweep import Sweep
-    except ImportError:
-        msg = "This installation cannot read sweeps; name the model with --model FINGERPRINT."
-        raise LabelStoreError(msg) from None
-    fit = Sweep.load(args.project).model(args.k, args.seed)
+    fit = Project.open(args.project).load_model(args.k, args.seed)
     return fit.fingerprint, fit.top_words(10)
 
 
@@ -98,7 +94,6 @@ def _write(text: str, out) -> None:
 
 def run(args) -> int:
     from ..labels import LabelStore
-    from ..project import Project
 
     location = args.store or Project.open(args.project)
     if args.action == "import":

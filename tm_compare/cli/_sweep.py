@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import argparse
 
-from ..errors import ProjectError
-
 SHOWN = [
     "k",
     "seed",
@@ -120,43 +118,12 @@ def seed_list(text: str) -> int | list[int]:
         raise argparse.ArgumentTypeError(msg) from None
 
 
-def load_prepared(project, key: str | None = None):
-    """The prepared corpus saved in ``project`` under ``key``, or the most recent one."""
-    from ..prepared import PreparedCorpus
-
-    root = project.path / "prepared"
-    if key is not None:
-        folder = root / key
-        if not folder.is_dir():
-            have = sorted(p.name for p in root.iterdir()) if root.is_dir() else []
-            msg = (
-                f"The project has no prepared corpus {key!r} under {str(root)!r}. "
-                f"Prepared corpora present: {', '.join(have) or 'none'}."
-            )
-            raise ProjectError(msg)
-        return PreparedCorpus.load(folder)
-    folders = (
-        sorted(
-            (p for p in root.iterdir() if p.is_dir()), key=lambda p: p.stat().st_mtime, reverse=True
-        )
-        if root.is_dir()
-        else []
-    )
-    if not folders:
-        msg = (
-            f"The project {str(project.path)!r} holds no prepared corpus. Run "
-            "`tm-compare prepare CORPUS_FILE --project DIR ...` first."
-        )
-        raise ProjectError(msg)
-    return PreparedCorpus.load(folders[0])
-
-
 def run(args) -> int:
     from ..project import Project
-    from ..sweep import sweep
+    from ..sweeps import sweep
 
     project = Project.open(args.project)
-    prepared = load_prepared(project, args.prepared)
+    prepared = project.load_prepared(args.prepared)
     result = sweep(
         prepared,
         k=args.k,

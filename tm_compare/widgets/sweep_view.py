@@ -53,7 +53,7 @@ class SweepView(w.VBox):
     seed = traitlets.Int(help="Seed of the picked fit.")
 
     def __init__(self, sweep, *, measure="npmi", prepared=None, labels=None):
-        from ..sweep import Sweep
+        from ..sweeps import Sweep
 
         if not hasattr(sweep, "scores"):
             sweep = Sweep.load(sweep)

@@ -1,4 +1,4 @@
-"""Tests for tm_compare.sweep: the grid of fits, its scores, resuming and bad input."""
+"""Tests for tm_compare.sweeps: the grid of fits, its scores, resuming and bad input."""
 
 from __future__ import annotations
 
@@ -18,10 +18,10 @@ import pytest
 from gensim.models import CoherenceModel
 from test_fits import lee_corpus, stand_in
 
-import tm_compare.sweep as sweep_module
+import tm_compare.sweeps as sweep_module
 from tm_compare.errors import ClusterUnavailableError, InputError, SettingsError, SweepError
 from tm_compare.fits import fit_lda
-from tm_compare.sweep import Sweep, sweep
+from tm_compare.sweeps import Sweep, sweep
 
 FAST = {"passes": 1, "chunksize": 100, "progress": False}
 GRID = {"k": [3, 4], "seeds": 2}
@@ -255,7 +255,7 @@ def test_sweep_killed_mid_way_resumes_to_the_uninterrupted_result(small, tmp_pat
         import sys
         sys.path.insert(0, {str(Path(__file__).parent)!r})
         from test_fits import lee_corpus
-        from tm_compare.sweep import sweep
+        from tm_compare.sweeps import sweep
         sweep(lee_corpus(120), project={str(project)!r}, progress=False, **{KILLED_GRID!r})
     """)
     child = subprocess.Popen([sys.executable, "-c", script])

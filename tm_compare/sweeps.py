@@ -248,6 +248,12 @@ class Sweep:
             raise SweepError(msg)
         return self.fits[(k, seed)]
 
+    def view(self, prepared=None, labels=None, **options):
+        """The interactive view of this sweep (see :class:`tm_compare.SweepView`)."""
+        from .widgets import SweepView
+
+        return SweepView(self, prepared=prepared, labels=labels, **options)
+
     def recommend(self, measure: str = "npmi"):
         """Propose a k with the rule spelled out (see :func:`tm_compare.scores.recommend`)."""
         from .scores import recommend
@@ -290,6 +296,13 @@ class Sweep:
                 "missing). Run `tm-compare sweep PROJECT` or sweep(prepared, project=...) first."
             )
             raise ProjectError(msg) from exc
+        except (OSError, ValueError) as exc:  # a damaged score table or sweep.json
+            msg = (
+                f"The sweep saved in {str(folder)!r} cannot be read ({type(exc).__name__}: "
+                f"{exc}). Run the sweep again (`tm-compare sweep {project.path}` with the same "
+                "grid): finished fits are reused."
+            )
+            raise CorruptArtifactError(msg) from exc
         topic_scores["top_words"] = topic_scores["top_words"].map(list)
         s = state["settings"]
         self = cls(
