@@ -301,12 +301,14 @@ def main(monkeypatch):
 @pytest.mark.slow
 def test_cli_demo_builds_and_prepares_a_project(tmp_path, capsys, main):
     project = tmp_path / "qh"
-    assert main(["demo", "--project", str(project), "--docs", "300", "--seed", "1"]) == 0
+    fast = ["--k", "4,6", "--seeds", "2", "--passes", "2", "--n-boot", "100", "--no-progress"]
+    args = ["demo", "--project", str(project), "--docs", "300", "--seed", "1", *fast]
+    assert main(args) == 0
     out = capsys.readouterr().out
     for expected in (
-        "== Corpus intake ==",
+        "] Corpus intake",
         "300 invented articles",
-        "== Preparation ==",
+        "] Preparation",
         "Boilerplate lines removed:",
         "accept our cookie policy",
         "near-duplicate merged",
@@ -317,7 +319,7 @@ def test_cli_demo_builds_and_prepares_a_project(tmp_path, capsys, main):
     stored = pd.read_csv(project / "demo" / "quillhaven.csv")
     assert len(stored) == 300 and stored["id"].tolist() == demo.make_frame(300, 1)["id"].tolist()
     # A second run reuses the project and its cached preparation.
-    assert main(["demo", "--project", str(project), "--docs", "300", "--seed", "1"]) == 0
+    assert main(args) == 0
     assert "from the project's cache" in capsys.readouterr().out
 
 

@@ -253,7 +253,7 @@ def test_empty_vocabulary_is_refused():
 @pytest.mark.parametrize(
     ("option", "value", "match"),
     [
-        ("engine", "mallet", "'engine' parameter of fit_lda must be one of 'gensim', 'sklearn'"),
+        ("engine", "gibbs", "'engine' parameter of fit_lda must be one of 'gensim', 'sklearn'"),
         ("passes", 0, "'passes' parameter of fit_lda must be an integer >= 1. Got 0"),
         ("alpha", -1, "'alpha' parameter"),
         ("decay", 2.0, "'decay' parameter"),

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from test_fits import lee_corpus
-from test_sweep import FAST
+from test_sweeps import FAST
 
 from tm_compare.sweeps import sweep
 
