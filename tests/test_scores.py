@@ -319,3 +319,13 @@ def test_recommend_says_what_is_missing(crafted):
         recommend(crafted.drop(columns=["npmi", "stability"]))
     with pytest.raises(SettingsError, match="'scores'"):
         recommend(crafted.drop(columns="k"))
+
+
+def test_recommend_says_two_seeds_give_no_spread(crafted):
+    # With seeds 0 and 1 only, each k has one pair of runs (Greene et al. 2014 average the
+    # pairs), so both fits carry the same stability and its standard error is 0.
+    two = crafted[crafted["seed"] < 2].copy()
+    two["stability"] = two.groupby("k")["stability"].transform("mean")
+    rec = recommend(two)
+    assert rec.k == 5  # only the most stable k qualifies when the spread is 0
+    assert "with two seeds k = 5 has one pair of runs, so its standard error is 0" in rec.rule

@@ -437,6 +437,12 @@ def recommend(
                 f"k = {int(top['k'])} has one seed, so its standard error is unknown and taken as 0"
             )
             se = 0.0
+        elif se == 0 and top["fits"] == 2:
+            # Two seeds make one pair of runs: both fits share its stability value.
+            notes.append(
+                f"with two seeds k = {int(top['k'])} has one pair of runs, so its standard error "
+                "is 0 and only k as stable as it qualify; three or more seeds give a real spread"
+            )
         table["candidate"] = table["stability_mean"] >= top["stability_mean"] - n_se * se
         spread = "one standard error" if n_se == 1 else f"{n_se:g} standard errors"
         best = f"of the best ({_num(top['stability_mean'])} at k = {int(top['k'])})"
