@@ -7,7 +7,12 @@ import pandas as pd
 import pytest
 
 from tm_compare.errors import ComparisonError, SettingsError
-from tm_compare.terms import log_odds_with_prior, source_wording, term_rankings
+from tm_compare.terms import (
+    log_odds_with_prior,
+    source_wording,
+    term_rankings,
+    topic_term_counts,
+)
 
 PHI = np.array([[0.4, 0.3, 0.2, 0.1], [0.6, 0.1, 0.1, 0.2]])
 FIT = SimpleNamespace(
@@ -127,6 +132,27 @@ def test_counts_are_topic_weighted_and_optionally_exposure_weighted():
     y_i, y_j = np.array([0.5 * 3, 6.0, 3.0]), np.array([2.5, 1.25, 0.0])
     expected, _ = log_odds_with_prior(y_i, y_j, y_i + y_j)
     np.testing.assert_allclose(b.loc[["tax", "levy", "toll"], "log_odds"], expected)
+
+
+@pytest.mark.parametrize("weighting", ["unique", "exposure"])
+def test_counts_of_all_topics_at_once_give_the_same_wording(weighting):
+    # The one-product path for views must equal the per-topic definition above (up to float
+    # summation order). Topic 1 carries the other 0.75 of each document.
+    fit, prepared = wording_case(theta=0.25)
+    counts = topic_term_counts(fit, prepared, weighting=weighting)
+    np.testing.assert_allclose(
+        counts.by_source["b"][:, 1],
+        np.array([2, 8, 4]) * 0.75 * (3.0 if weighting == "exposure" else 1.0),
+    )
+    for topic in (0, 1):
+        direct = source_wording(fit, prepared, topic, against="each", weighting=weighting)
+        shared = source_wording(
+            fit, prepared, topic, against="each", weighting=weighting, topic_counts=counts
+        )
+        pd.testing.assert_frame_equal(direct, shared, check_exact=False, rtol=1e-12)
+    with pytest.raises(SettingsError, match="'topic_counts' parameter of source_wording"):
+        other = "unique" if weighting == "exposure" else "exposure"
+        source_wording(fit, prepared, 0, weighting=other, topic_counts=counts)
 
 
 def test_wording_needs_two_sources_and_a_valid_topic():

@@ -55,7 +55,7 @@ class ModelTables:
         self._terms: dict = {}
         self._wording: dict = {}
         self._documents: dict = {}
-        self._count_matrix = None
+        self._wording_counts = None
         # the same 10 top terms the snippets of representative_documents are cut around
         self._top_words = fit.top_words(10)
         self.captions = {t: f"{t} · {' '.join(w[:3])}" for t, w in enumerate(self._top_words)}
@@ -149,7 +149,7 @@ class ModelTables:
                 against="each",
                 sources=list(pair),
                 topn=per_side,
-                counts=self._counts(),
+                topic_counts=self._topic_counts(),
             )
             first = table[(table["source"] == pair[0]) & (table["other"] == pair[1])]
             second = table[(table["source"] == pair[1]) & (table["other"] == pair[0])]
@@ -162,11 +162,12 @@ class ModelTables:
             )
         return self._wording[key]
 
-    def _counts(self):
-        # The document-term counts do not depend on the topic: build them once per model.
-        if self._count_matrix is None:
-            self._count_matrix = terms.count_matrix(self.prepared, len(self.fit.vocab))
-        return self._count_matrix
+    def _topic_counts(self):
+        # Every topic's counts per source in one sparse product, once per model: a topic
+        # switch then only reads a column.
+        if self._wording_counts is None:
+            self._wording_counts = terms.topic_term_counts(self.fit, self.prepared)
+        return self._wording_counts
 
     def documents(self, topic: int) -> dict[str, pd.DataFrame]:
         """Representative documents of ``topic``, one frame per source, ready for the cards."""

@@ -17,6 +17,7 @@ otherwise the model's marginal ``sum_k pi_k phi_kw`` with ``pi`` the mean topic 
 from __future__ import annotations
 
 import weakref
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -159,6 +160,33 @@ def count_matrix(prepared, n_terms: int) -> sp.csr_matrix:
     return matrix
 
 
+@dataclass(frozen=True)
+class TopicCounts:
+    """Topic-weighted term counts of every topic, per source: ``by_source[s]`` is V x k."""
+
+    weighting: str
+    by_source: dict
+
+
+def topic_term_counts(fit, prepared, *, weighting: str = "unique") -> TopicCounts:
+    """Topic-weighted term counts of all topics in every source, as :func:`source_wording`
+    uses them: document d adds ``c_dw * theta_dk`` (times its weight under "exposure").
+
+    One sparse product for all k topics costs about as much as a few single-topic ones.
+    """
+    check_choice("topic_term_counts", "weighting", weighting, ("exposure", "unique"))
+    theta = np.asarray(fit.doc_topic, dtype=float)
+    if weighting == "exposure":
+        theta = theta * np.asarray(prepared.weights, dtype=float)[:, None]
+    counts = count_matrix(prepared, _topic_term(fit, "topic_term_counts").shape[1])
+    doc_sources = np.asarray(prepared.sources).astype(str)
+    by_source = {}
+    for s in sorted(set(doc_sources)):
+        rows = np.flatnonzero(doc_sources == s)
+        by_source[s] = np.asarray(counts[rows].T @ theta[rows])
+    return TopicCounts(weighting, by_source)
+
+
 def source_wording(
     fit,
     prepared,
@@ -169,7 +197,7 @@ def source_wording(
     weighting: str = "unique",
     prior_strength: float | None = None,
     topn: int = 15,
-    counts=None,
+    topic_counts: TopicCounts | None = None,
 ) -> pd.DataFrame:
     """Which terms each source uses more than the others when writing about ``topic``.
 
@@ -185,8 +213,8 @@ def source_wording(
     with prior ``a_w = a_0 * y_w / n`` from the topic-weighted counts of all compared
     sources together, and ``a_0 = prior_strength`` (default: ``n``, i.e. ``a_w = y_w``).
 
-    ``counts`` is the D x V document-term matrix of :func:`count_matrix`; views that ask
-    for many topics pass it once instead of having it looked up on every call.
+    ``topic_counts`` (from :func:`topic_term_counts`, same ``weighting``) holds these counts
+    for every topic at once; views that show topic after topic compute it once per model.
 
     Returns
     -------
@@ -221,12 +249,17 @@ def source_wording(
             f"(without documents: {absent}). Sources with documents: {present}."
         )
         raise ComparisonError(msg)
-    weight = shares * (
-        np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0
-    )
-    if counts is None:
+    if topic_counts is None:
+        weight = shares * (
+            np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0
+        )
         counts = count_matrix(prepared, phi.shape[1])
-    by_source = {s: counts.T @ np.where(doc_sources == s, weight, 0.0) for s in names}
+        by_source = {s: counts.T @ np.where(doc_sources == s, weight, 0.0) for s in names}
+    elif topic_counts.weighting != weighting:
+        accepted = f"counts computed with weighting={weighting!r}"
+        raise param_error(owner, "topic_counts", topic_counts.weighting, accepted)
+    else:
+        by_source = {s: topic_counts.by_source[s][:, topic] for s in names}
     background = sum(by_source.values())
     total = background.sum()
     prior = (total if prior_strength is None else float(prior_strength)) * background / total
