@@ -70,7 +70,7 @@ def representative_documents(
     if not (isinstance(per_source, int | np.integer) and per_source >= 1):
         raise param_error(owner, "per_source", per_source, "an integer >= 1")
     doc_sources = np.asarray(prepared.sources).astype(str)
-    present = sorted({str(s) for s in doc_sources})
+    present = np.unique(doc_sources).tolist()  # doc_sources is already str
     names = present if sources is None else [str(s) for s in sources]
     if missing := [s for s in names if s not in present]:
         msg = f"The source(s) {missing} have no documents ({owner}). Sources with documents: {present}."

@@ -69,7 +69,7 @@ class Results:
 
     @property
     def sources(self) -> list[str]:
-        return sorted({str(s) for s in np.asarray(self.prepared.sources)})
+        return np.unique(np.asarray(self.prepared.sources).astype(str)).tolist()
 
     def _build(self) -> None:
         from .comparison import cap_effect

@@ -240,7 +240,7 @@ def source_wording(
     if len(shares) != len(doc_sources):
         msg = f"The model has {len(shares)} documents, the prepared corpus {len(doc_sources)} ({owner}). Use the fit of this prepared corpus."
         raise ComparisonError(msg)
-    present = sorted({str(s) for s in doc_sources})
+    present = np.unique(doc_sources).tolist()  # doc_sources is already str
     names = present if sources is None else [str(s) for s in sources]
     absent = [s for s in names if s not in present]
     if absent or len(names) < 2:
