@@ -1,5 +1,5 @@
 """Private parts of the label store: tables, engines, transactions, migrations, errors, checks,
-conflict messages and the label file format.
+and conflict messages (the label files are in ``_label_files``).
 
 Schema history (``meta.schema_version``):
 
@@ -14,9 +14,7 @@ SQLite and PostgreSQL, so a failed upgrade leaves the old store as it was).
 from __future__ import annotations
 
 import contextlib
-import csv
 import datetime as _dt
-import io
 import json
 import os
 import re
@@ -463,79 +461,3 @@ def conflict_error(table: str, key: dict, base: int, latest, attempted: dict) ->
     err.current = None if latest is None else dict(latest._mapping)
     err.attempted = dict(attempted)
     return err
-
-
-def csv_text(records: list[dict], words: dict[int, list[str]], columns) -> str:
-    """Label records as CSV text: one row per label, empty cells for missing values, and the
-    topic's top words joined by spaces so the file reads without the model."""
-    buffer = io.StringIO()
-    writer = csv.DictWriter(buffer, fieldnames=columns, lineterminator="\n")
-    writer.writeheader()
-    for rec in records:
-        row = {k: "" if rec.get(k) is None else rec[k] for k in columns if k != "top_words"}
-        writer.writerow({**row, "top_words": " ".join(words.get(rec["topic"], []))})
-    return buffer.getvalue()
-
-
-def read_export(path: Path, format_name: str, format_version: int, csv_columns) -> dict:
-    """The document of a label export file (JSON), or its rows (CSV), checked for shape."""
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        msg = f"Cannot read the label file {str(path)!r}: {exc}"
-        raise LabelStoreError(msg) from exc
-    if path.suffix.lower() == ".csv" or not text.lstrip().startswith("{"):
-        reader = csv.DictReader(io.StringIO(text, newline=""))
-        if reader.fieldnames is None or set(csv_columns) - set(reader.fieldnames):
-            msg = f"{str(path)!r} is not a label export: a CSV needs the columns {list(csv_columns)}; found {reader.fieldnames}."
-            raise LabelStoreError(msg)
-        rows = list(reader)
-        models = {r["model"] for r in rows}
-        return {"model": next(iter(models)) if len(models) == 1 else None, "labels": rows}
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        msg = f"{str(path)!r} is not a label export: invalid JSON ({exc})."
-        raise LabelStoreError(msg) from None
-    if (
-        not isinstance(doc, dict)
-        or doc.get("format") != format_name
-        or not isinstance(doc.get("labels"), list)
-    ):
-        msg = f"{str(path)!r} is not a label export (no 'format': {format_name!r} with a 'labels' list)."
-        raise LabelStoreError(msg)
-    if int(doc.get("format_version", 0)) > format_version:
-        msg = f"{str(path)!r} was written by a newer tm_compare (label format {doc['format_version']}); upgrade to import it."
-        raise LabelStoreError(msg)
-    return doc
-
-
-def import_row(raw: dict, path: Path) -> dict:
-    """A label record from JSON or CSV (where every value is text and empty means missing)."""
-
-    def opt(value):
-        return None if value is None or value == "" else value
-
-    try:
-        row = {
-            "uid": str(raw["uid"]),
-            "topic": int(raw["topic"]),
-            "analyst": str(raw["analyst"]),
-            "version": int(raw["version"]),
-            "name": str(raw["name"]),
-            "note": str(raw["note"]),
-            "verdict": opt(raw.get("verdict")),
-            "category": opt(raw.get("category")),
-            "confidence": None if opt(raw.get("confidence")) is None else float(raw["confidence"]),
-            "retracted": raw["retracted"] in (True, "True", "true", "1", 1),
-            "created_at": str(raw["created_at"]),
-        }
-        if not 0 < len(row["uid"]) <= 32 or not 0 < len(row["created_at"]) <= 32:
-            raise ValueError("uid and created_at must have 1 to 32 characters")
-        if not row["analyst"].strip() or len(row["analyst"]) > 200:
-            raise ValueError("analyst must be a name of 1 to 200 characters")
-    except (KeyError, TypeError, ValueError) as exc:
-        msg = f"The label file {str(path)!r} has an unreadable row ({exc!r}): {str(raw)[:200]}"
-        raise LabelStoreError(msg) from None
-    check_text("analyst", row["analyst"])
-    return row

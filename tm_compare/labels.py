@@ -22,26 +22,20 @@ import json
 import numbers
 import uuid
 from dataclasses import asdict, dataclass, fields
-from pathlib import Path
 from typing import NamedTuple
 
 import pandas as pd
 import sqlalchemy as sa
 
+from . import _label_files as _f
 from . import _label_schema as _s
-from ._atomic import atomic_write_text
+from ._label_files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
 from ._validation import check_choice, param_error
 from .agreement import agreement_table
 from .errors import LabelStoreError
 
 DEFAULT_VERDICTS = ("usable", "mixed", "noise")
-EXPORT_FORMAT = "tm_compare labels"
-EXPORT_VERSION = 1
 LABEL_FIELDS = ("name", "note", "verdict", "category", "confidence")
-CSV_COLUMNS = tuple(
-    "model topic top_words analyst version name note verdict category confidence retracted "
-    "round created_at uid".split()
-)
 
 
 @dataclass(frozen=True)
@@ -696,46 +690,8 @@ class LabelStore:
         ``similarity``, ``kind`` ("consensus" or "label"), ``analyst``, ``name``, ``verdict``,
         ``category``, ``note``; best match first within each target topic.
         """
-        if not isinstance(threshold, numbers.Real) or not 0 <= threshold <= 1:
-            raise param_error("carry_over", "threshold", threshold, "a similarity between 0 and 1")
-        if alignment is None:
-            from .alignment import align_topics
-
-            alignment = align_topics(source, target)
-        missing = {"topic_a", "topic_b", "similarity"} - set(getattr(alignment, "columns", []))
-        if missing:
-            raise param_error(
-                "carry_over",
-                "alignment",
-                f"a table without {sorted(missing)}",
-                "a DataFrame with columns topic_a, topic_b, similarity",
-            )
-        source_id = model_id(source)
-        matches = alignment.loc[
-            alignment["similarity"] >= threshold, ["topic_a", "topic_b", "similarity"]
-        ]
-        labels = self.current(source_id).assign(kind="label")
-        settled = (
-            self.consensus(source_id)
-            .rename(columns={"settled_by": "analyst"})
-            .assign(kind="consensus")
-        )
-        keep = ["topic", "kind", "analyst", "name", "verdict", "category", "note"]
-        pool = pd.concat([settled[keep], labels[keep]], ignore_index=True).rename(
-            columns={"topic": "from_topic"}
-        )
-        merged = matches.rename(columns={"topic_a": "from_topic", "topic_b": "topic"}).merge(
-            pool, on="from_topic"
-        )
-        merged.insert(1, "from_model", source_id)
-        merged["kind_order"] = merged["kind"].map({"consensus": 0, "label": 1})
-        merged = merged.sort_values(
-            ["topic", "similarity", "kind_order", "analyst"],
-            ascending=[True, False, True, True],
-            kind="stable",
-        )
-        columns = "topic from_model from_topic similarity kind analyst name verdict category note"
-        return merged[columns.split()].reset_index(drop=True)
+        alignment = _f.carry_over_alignment(source, target, alignment, threshold)
+        return _f.carry_over(self, model_id(source), alignment, threshold)
 
     # --- export and import -------------------------------------------------------------------
 
@@ -748,43 +704,16 @@ class LabelStore:
         With ``path`` the file is written atomically (format from its suffix unless given) and
         its path returned; without, the JSON document (a dict) or the CSV text is returned.
         """
-        model = model_id(model)
-        if format is None:
-            format = Path(path).suffix.lstrip(".").lower() if path is not None else "json"
-        check_choice("LabelStore.export", "format", format, ("json", "csv"))
+        return _f.export_labels(
+            self, model_id(model), path, format=format, history=history, top_words=top_words
+        )
+
+    def _labels(self, model: str, history: bool) -> list[Label]:
+        """Every visible history row of ``model``, or its current rows (retracted included)."""
         if history:
-            rows = self._history_rows(model)
-        else:
-            with self._guard(), self._engine.connect() as conn:
-                rows = self._current_rows(conn, model)
-        words = {int(i): [str(w) for w in ws] for i, ws in enumerate(top_words or [])}
-        round_names = dict(zip(*[self.rounds(model)[c] for c in ("id", "name")], strict=True))
-        records = []
-        for label in map(_label, rows):
-            rec = asdict(label)
-            rec.pop("id")
-            rec["round"] = None if label.round is None else round_names.get(label.round)
-            records.append(rec)
-        doc = {
-            "format": EXPORT_FORMAT,
-            "format_version": EXPORT_VERSION,
-            "model": model,
-            "content": "history" if history else "current",
-            "exported_at": _s.utc_now(),
-            "analysts": sorted({r["analyst"] for r in records}),
-            "top_words": {str(k): v for k, v in words.items()},
-            "codebook": self.codebook().to_dict("records"),
-            "labels": records,
-            "consensus": self._consensus_records(model, history=True),
-        }
-        if format == "json":
-            text = json.dumps(doc, ensure_ascii=False, indent=2)
-        else:
-            text = _s.csv_text(records, words, CSV_COLUMNS)
-        if path is None:
-            return doc if format == "json" else text
-        atomic_write_text(path, text)
-        return Path(path)
+            return [_label(r) for r in self._history_rows(model)]
+        with self._guard(), self._engine.connect() as conn:
+            return [_label(r) for r in self._current_rows(conn, model)]
 
     def import_labels(self, path, *, model) -> dict:
         """Import a file written by :meth:`export` into this store, for ``model`` only.
@@ -792,47 +721,7 @@ class LabelStore:
         Idempotent: rows already present (same uid) are skipped; new rows are appended after the
         key's latest version, keeping their analyst and time. Returns counts ``added``/``skipped``.
         """
-        model = model_id(model)
-        path = Path(path)
-        doc = _s.read_export(path, EXPORT_FORMAT, EXPORT_VERSION, CSV_COLUMNS)
-        settled = doc.get("consensus", [])
-        found = {doc.get("model")} | {r.get("model") for r in [*doc["labels"], *settled]}
-        if found != {model}:
-            others = sorted(str(m) for m in found - {model})
-            msg = (
-                f"The label file {str(path)!r} belongs to model(s) {others}, not {model!r}; "
-                "import it into the store for that model's fingerprint, or export the right model."
-            )
-            raise LabelStoreError(msg)
-        batches = [
-            (_s.labels, [_s.import_row(r, path) for r in doc["labels"]]),
-            (_s.consensus, settled),
-        ]
-        counts = {"added": 0, "skipped": 0}
-        with self._guard(), _s.write_transaction(self._engine) as conn:
-            self._add_categories(conn, [dict(e) for e in doc.get("codebook", [])])
-            for table, items in batches:
-                query = sa.select(table.c.uid).where(table.c.model == model)
-                known = set(conn.execute(query).scalars())
-                for item in sorted(
-                    items, key=lambda r: (r["topic"], r.get("analyst", ""), r["version"])
-                ):
-                    if item["uid"] in known:
-                        counts["skipped"] += 1
-                        continue
-                    key = {k: model if k == "model" else item[k] for k in _s.KEYS[table.name]}
-                    values = {
-                        c.name: item.get(c.name)
-                        for c in table.c
-                        if c.name not in (*key, "id", "version")
-                    }
-                    if "sources" in values:  # consensus: the uids it was settled from
-                        values["sources"] = json.dumps(values["sources"])
-                    values = self._clean(conn, values)
-                    latest = conn.execute(_s.LATEST[table.name], key).first()
-                    self._append(conn, key, values, latest.version if latest else 0, table=table)
-                    counts["added"] += 1
-        return counts
+        return _f.import_labels(self, path, model_id(model))
 
     # --- integrity ------------------------------------------------------------------------
 
