@@ -132,11 +132,12 @@ def replicate(
         for s, (a, b) in enumerate(current.bounds()):
             n = b - a
             step = max(1, _BLOCK // max(n, 1))
+            # One product for topic sums and weight together: the counts are read once.
+            sums = np.column_stack([current.num[a:b], current.den[a:b]])
             for start in range(0, len(batch), step):
                 rows = batch[start : start + step]
-                counts = draw_counts(n, len(rows), rng, method)
-                num[rows, s] = counts @ current.num[a:b]
-                den[rows, s] = counts @ current.den[a:b]
+                both = draw_counts(n, len(rows), rng, method) @ sums
+                num[rows, s], den[rows, s] = both[:, :k], both[:, k]
     return num, den
 
 
