@@ -12,6 +12,7 @@ import pytest
 from gensim.corpora import Dictionary
 
 from tm_compare import prepared as prepared_module
+from tm_compare._prepared_store import MANIFEST
 from tm_compare._stopwords import ENGLISH
 from tm_compare.cli import main
 from tm_compare.corpus import Corpus
@@ -158,7 +159,7 @@ def test_corrupt_cache_is_rebuilt_not_loaded(tmp_path, lee_corpus):
         again = prepare(lee_corpus, cache_dir=tmp_path, ngrams=1)
     assert not again.from_cache and again.texts == first.texts
     assert PreparedCorpus.load(folder).texts == first.texts
-    (folder / prepared_module.MANIFEST).unlink()  # an interrupted save: never loaded
+    (folder / MANIFEST).unlink()  # an interrupted save: never loaded
     assert not prepare(lee_corpus, cache_dir=tmp_path, ngrams=1).from_cache
 
 

@@ -9,22 +9,11 @@ from pathlib import Path
 
 import pandas as pd
 import pytest
+from test_corpus import COLUMNS, FIXTURE  # the intake fixture and its column mapping
 
 from tm_compare import Corpus, Project
 from tm_compare.errors import CorruptArtifactError, ProjectError
 from tm_compare.project import CORPUS_FILE, CORPUS_REPORT, FORMAT_VERSION, MANIFEST
-
-FIXTURE = Path(__file__).resolve().parents[1] / "fixtures" / "intake" / "quillhaven_articles.csv"
-COLUMNS = dict(
-    text="body",
-    source="stream",
-    id="article_id",
-    weight="visits",
-    group="reader",
-    url="link",
-    date="published",
-    title="headline",
-)
 
 
 @pytest.fixture

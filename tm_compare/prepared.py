@@ -35,9 +35,7 @@ from ._boilerplate import BoilerplateStripper, find_boilerplate
 from ._hashing import fingerprint as _fingerprint
 from ._neardup import MAX_SHINGLE, exact_pairs, minhash_pairs
 from ._prepared_store import (
-    FORMAT,  # noqa: F401  unused here, kept importable from prepared as before
     FORMAT_VERSION,
-    MANIFEST,  # noqa: F401  likewise
     _cache_folder,
     _load,
     _load_if_valid,
