@@ -16,7 +16,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 
-from tm_compare.comparison import prevalence
+from tm_compare.compare.prevalence import prevalence
 
 
 def synthetic(n_docs, k, n_sources, n_clusters, seed=0):

@@ -26,14 +26,14 @@ from gensim.corpora import Dictionary
 from gensim.models.phrases import Phrases
 from gensim.utils import simple_preprocess
 
-from tm_compare.corpus import Corpus
-from tm_compare.prepared import prepare
+from tm_compare.text.corpus import Corpus
+from tm_compare.text.prepared import prepare
 
 
 def news_frame(n: int, seed: int) -> pd.DataFrame:
     """Invented news-like articles: the demo scenario when available, else a plain generator."""
     try:
-        from tm_compare import demo
+        from tm_compare.demo import quillhaven as demo
 
         return demo.make_frame(n, seed)
     except ImportError:

@@ -27,7 +27,7 @@ import numpy as np
 from gensim.corpora import Dictionary
 from gensim.models import CoherenceModel
 
-from tm_compare.scores import MEASURES, CoherenceScorer
+from tm_compare.models.scores import MEASURES, CoherenceScorer
 
 GENSIM_NAMES = {"npmi": "c_npmi", "c_v": "c_v", "uci": "c_uci", "umass": "u_mass"}
 

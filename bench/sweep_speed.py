@@ -57,7 +57,7 @@ def synthetic_corpus(n_docs: int, doc_length: int, vocab_size: int, n_topics: in
 
 
 def run_ours(prepared, grid, seeds, jobs, settings, project):
-    import tm_compare.sweeps as sweep_module
+    import tm_compare.models.sweeps as sweep_module
 
     scoring = []
     real_score = sweep_module._score

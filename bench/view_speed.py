@@ -66,7 +66,8 @@ def synthetic(n_docs: int, k: int, vocab: int, seed: int = 0):
 
 def from_scratch(fit, prepared, topic: int, n_boot: int) -> None:
     """What one switch costs without the view: every plain function called again."""
-    from tm_compare import comparison, documents, terms
+    from tm_compare.compare import documents, terms
+    from tm_compare.compare import prevalence as comparison
 
     comparison.prevalence(fit, prepared, n_boot=n_boot)
     comparison.differences(fit, prepared, n_boot=n_boot)
@@ -85,7 +86,7 @@ def main() -> None:
     parser.add_argument("--n-boot", type=int, default=1000)
     args = parser.parse_args()
 
-    from tm_compare.widgets import TopicView
+    from tm_compare.views import TopicView
 
     t0 = time.perf_counter()
     fit, prepared = synthetic(args.docs, args.topics, args.vocab)

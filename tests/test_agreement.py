@@ -6,14 +6,14 @@ import pandas as pd
 import pytest
 from statsmodels.stats.inter_rater import aggregate_raters, fleiss_kappa
 
-from tm_compare.agreement import (
+from tm_compare.errors import SettingsError
+from tm_compare.labels.agreement import (
     agreement_by_unit,
     agreement_summary,
     agreement_table,
     krippendorff_alpha,
     percent_agreement,
 )
-from tm_compare.errors import SettingsError
 
 # Krippendorff, K. (2011). "Computing Krippendorff's Alpha-Reliability", Annenberg School for
 # Communication, University of Pennsylvania: the example "C. Nominal data, any number of

@@ -7,8 +7,8 @@ import numpy as np
 import pytest
 from scipy.spatial import distance
 
-from tm_compare.alignment import align_topics, lineage, similarity_matrix
 from tm_compare.errors import ComparisonError, SettingsError
+from tm_compare.models.alignment import align_topics, lineage, similarity_matrix
 
 VOCAB = [f"t{i}" for i in range(30)]
 

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from tm_compare._boilerplate import BoilerplateStripper, find_boilerplate
-from tm_compare.corpus import Corpus
-from tm_compare.prepared import prepare
+from tm_compare.text._boilerplate import BoilerplateStripper, find_boilerplate
+from tm_compare.text.corpus import Corpus
+from tm_compare.text.prepared import prepare
 
 FOOTER = "Sign up for the Quillhaven Courier newsletter."
 COOKIE = "We use cookies. Accept all | Manage settings"

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from tm_compare import _bootstrap as bs
+from tm_compare.compare import _bootstrap as bs
 
 
 def _units(values, weights=None, strata=None, clusters=None):

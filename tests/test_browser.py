@@ -144,7 +144,7 @@ def _selected_topic(view) -> int:
 def test_quickstart_in_jupyterlab(tmp_path):
     require_browser()  # before the slow set-up, so a missing browser skips at once
 
-    from tm_compare.labels import LabelStore
+    from tm_compare.labels.store import LabelStore
 
     root = tmp_path / "lab"
     root.mkdir()

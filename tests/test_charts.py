@@ -11,7 +11,7 @@ import pandas as pd
 import pytest
 import vl_convert as vlc
 
-from tm_compare import charts
+from tm_compare.views import charts
 
 
 @pytest.fixture

@@ -10,7 +10,7 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from tm_compare.comparison import cap_effect, differences, influence, prevalence
+from tm_compare.compare.prevalence import cap_effect, differences, influence, prevalence
 from tm_compare.errors import ComparisonError, SettingsError
 
 
@@ -201,7 +201,7 @@ def test_influence_flags_a_heavy_reader_and_capping_bounds_shares():
 
 
 def test_capping_redistributes_iteratively_by_hand():
-    from tm_compare.comparison import _water_fill
+    from tm_compare.compare.prevalence import _water_fill
 
     # By hand: shares (0.7, 0.2, 0.1) capped at 0.5 -> 0.5, then 0.5 split 2:1.
     np.testing.assert_allclose(_water_fill(np.array([0.7, 0.2, 0.1]), 0.5), [0.5, 1 / 3, 1 / 6])
@@ -336,11 +336,11 @@ def test_sentence_polarity_end_to_end():
 def test_demo_scenario_planted_theme_and_heavy_reader(tmp_path, capsys):
     import argparse
 
-    from tm_compare import demo
     from tm_compare.cli import _compare
-    from tm_compare.corpus import Corpus
-    from tm_compare.prepared import prepare
-    from tm_compare.sweeps import sweep
+    from tm_compare.demo import quillhaven as demo
+    from tm_compare.models.sweeps import sweep
+    from tm_compare.text.corpus import Corpus
+    from tm_compare.text.prepared import prepare
 
     frame, truth = demo.scenario(1500, seed=0)
     project = tmp_path / "quillhaven"

@@ -9,7 +9,7 @@ from gensim.topic_coherence.text_analysis import CorpusAccumulator, WordOccurren
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from tm_compare import _cooccurrence as co
+from tm_compare.models import _cooccurrence as co
 
 # Small alphabets make repeated words inside a window, and texts shorter than the
 # window or empty, common.

@@ -24,7 +24,7 @@ from hypothesis import strategies as st
 
 from tm_compare import Corpus, canonical_url
 from tm_compare.errors import CorpusError, SettingsError
-from tm_compare.removals import RemovalLog
+from tm_compare.text.removals import RemovalLog
 
 FIXTURE = Path(__file__).resolve().parents[1] / "fixtures" / "intake" / "quillhaven_articles.csv"
 COLUMNS = dict(
@@ -629,7 +629,7 @@ def test_ids_are_unique_even_when_given_ids_look_qualified():
 
 @pytest.mark.parametrize("chunk", [1, 2, 3, 5, 1 << 20])
 def test_bad_byte_is_located_across_read_chunks(tmp_path, chunk):
-    from tm_compare._intake import _first_bad_byte
+    from tm_compare.text._intake import _first_bad_byte
 
     # Two-byte UTF-8 characters straddle chunk boundaries; the bad byte is 0xff on line 3.
     data = "caf\u00e9\nna\u00efve\n".encode() + b"ok \xff\n"

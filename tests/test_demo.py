@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tm_compare import demo
+from tm_compare.demo import quillhaven as demo
 from tm_compare.errors import SettingsError
 
 FIXTURE = Path(__file__).resolve().parents[1] / "fixtures" / "quillhaven_sample.csv"
@@ -274,7 +274,7 @@ def test_preparation_merges_syndicated_copies_within_a_source(prepared_demo):
 def test_run_demo_runs_every_step_and_stores_the_planted_facts(tmp_path):
     import json
 
-    from tm_compare.pipeline import STEPS, run_demo
+    from tm_compare.demo.run import STEPS, run_demo
 
     seen = []
     run = run_demo(tmp_path / "p", n_docs=300, seed=2, echo=lambda title, text: seen.append(title))

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tm_compare.documents import representative_documents, snippet_around
+from tm_compare.compare.documents import representative_documents, snippet_around
 from tm_compare.errors import ComparisonError, SettingsError
 
 FILLER = "The weather in Quillhaven stayed grey all week and the ferry ran late again. " * 4
@@ -113,7 +113,7 @@ def test_bad_input():
 def test_densest_window_equals_brute_force():
     import re
 
-    from tm_compare.documents import _densest_window
+    from tm_compare.compare.documents import _densest_window
 
     pattern = re.compile(r"\b(?:levy|toll|tide|ferry)\w*", re.IGNORECASE)
     rng = np.random.default_rng(0)

@@ -16,7 +16,13 @@ import pytest
 from test_pipeline import small_demo
 
 from tm_compare.errors import SettingsError
-from tm_compare.exports import COLUMNS, data_dictionary, document_topics, export, undocumented
+from tm_compare.report.exports import (
+    COLUMNS,
+    data_dictionary,
+    document_topics,
+    export,
+    undocumented,
+)
 
 pytestmark = pytest.mark.slow
 

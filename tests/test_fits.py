@@ -15,7 +15,7 @@ from scipy.optimize import linear_sum_assignment
 from sklearn.decomposition import LatentDirichletAllocation
 
 from tm_compare.errors import CorruptArtifactError, InputError, SettingsError
-from tm_compare.fits import Fit, TrainingData, fit_lda
+from tm_compare.models.fits import Fit, TrainingData, fit_lda
 
 
 def stand_in(texts: list[list[str]], name: str) -> SimpleNamespace:

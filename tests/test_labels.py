@@ -18,14 +18,14 @@ import sqlalchemy as sa
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from tm_compare import _label_schema
 from tm_compare.errors import (
     LabelConflictError,
     LabelStoreError,
     SettingsError,
     StoreVersionError,
 )
-from tm_compare.labels import LabelStore
+from tm_compare.labels import _schema as _label_schema
+from tm_compare.labels.store import LabelStore
 from tm_compare.project import Project
 
 MODEL = "quillhaven-k12-s1"

@@ -10,7 +10,7 @@ import multiprocessing
 import pytest
 
 from tm_compare.errors import LabelConflictError
-from tm_compare.labels import LabelStore
+from tm_compare.labels.store import LabelStore
 
 MODEL = "quillhaven-concurrency"
 PROCESSES, WRITES, TOPICS = 8, 200, 3

@@ -8,9 +8,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tm_compare._neardup import exact_pairs, lsh_bands, minhash, minhash_pairs, shingles
-from tm_compare.corpus import Corpus
-from tm_compare.prepared import prepare
+from tm_compare.text._neardup import exact_pairs, lsh_bands, minhash, minhash_pairs, shingles
+from tm_compare.text.corpus import Corpus
+from tm_compare.text.prepared import prepare
 
 
 def brute_jaccard(a, b, k):

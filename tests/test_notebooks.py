@@ -33,7 +33,7 @@ def _errors(nb) -> list[str]:
 
 
 def test_quickstart_runs(tmp_path):
-    from tm_compare.labels import LabelStore
+    from tm_compare.labels.store import LabelStore
 
     nb = _run("quickstart.ipynb", tmp_path)
     assert _errors(nb) == []

@@ -16,9 +16,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from tm_compare import demo
+from tm_compare.demo import quillhaven as demo
+from tm_compare.demo.run import ANALYSTS, STEPS, demo_labels, run_demo, summary
 from tm_compare.errors import SettingsError
-from tm_compare.pipeline import ANALYSTS, STEPS, demo_labels, run_demo, summary
 
 SMALL = {"n_docs": 400, "seed": 0, "k": (4, 6), "seeds": 2, "passes": 2, "n_boot": 100}
 
@@ -53,7 +53,7 @@ def test_sweep_grid_and_recommendation_follow_the_saved_scores():
     run, _ = small_demo()
     scores = run.sweep.scores
     assert sorted(zip(scores["k"], scores["seed"], strict=True)) == [(4, 0), (4, 1), (6, 0), (6, 1)]
-    from tm_compare.scores import recommend
+    from tm_compare.models.scores import recommend
 
     again = recommend(scores)  # the rule re-applied to the scores as saved
     assert (run.results.fit.k, run.results.fit.seed) == (again.k, again.seed)

@@ -11,14 +11,14 @@ import pandas as pd
 import pytest
 from gensim.corpora import Dictionary
 
-from tm_compare import prepared as prepared_module
-from tm_compare._prepared_store import MANIFEST
-from tm_compare._stopwords import ENGLISH
 from tm_compare.cli import main
-from tm_compare.corpus import Corpus
 from tm_compare.errors import CorpusError, CorruptArtifactError, SettingsError
-from tm_compare.prepared import PreparedCorpus, prepare
 from tm_compare.project import Project
+from tm_compare.text import prepared as prepared_module
+from tm_compare.text._stopwords import ENGLISH
+from tm_compare.text._store import MANIFEST
+from tm_compare.text.corpus import Corpus
+from tm_compare.text.prepared import PreparedCorpus, prepare
 
 LEE = os.path.join(os.path.dirname(gensim.__file__), "test", "test_data", "lee_background.cor")
 META_COLUMNS = ["id", "source", "weight", "group", "url", "title", "date", "text",

@@ -13,7 +13,8 @@ from test_corpus import COLUMNS, FIXTURE  # the intake fixture and its column ma
 
 from tm_compare import Corpus, Project
 from tm_compare.errors import CorruptArtifactError, ProjectError
-from tm_compare.project import CORPUS_FILE, CORPUS_REPORT, FORMAT_VERSION, MANIFEST
+from tm_compare.project import FORMAT_VERSION, MANIFEST
+from tm_compare.text.corpus import CORPUS_FILE, CORPUS_REPORT, load_corpus, save_corpus
 
 
 @pytest.fixture
@@ -34,8 +35,8 @@ def test_create_writes_a_manifest(tmp_path):
 
 def test_saved_corpus_reloads_identically(tmp_path, corpus):
     project = Project.create(tmp_path / "study")
-    project.save_corpus(corpus)
-    again = Project.open(tmp_path / "study").load_corpus()
+    save_corpus(corpus, project)
+    again = load_corpus(Project.open(tmp_path / "study"))
     pd.testing.assert_frame_equal(again.frame, corpus.frame)
     assert again.fingerprint == corpus.fingerprint
     assert again.report.to_dict() == corpus.report.to_dict()
@@ -47,7 +48,7 @@ def test_saved_corpus_reloads_identically(tmp_path, corpus):
     assert manifest["settings"]["intake"]["columns"]["text"] == "body"
     assert (project.path / CORPUS_REPORT).exists()
     stamp = (project.path / CORPUS_FILE).stat().st_mtime_ns
-    project.save_corpus(again)  # the same content again: nothing is rewritten
+    save_corpus(again, project)  # the same content again: nothing is rewritten
     assert (project.path / CORPUS_FILE).stat().st_mtime_ns == stamp
 
 
@@ -84,32 +85,30 @@ def test_not_a_project_and_broken_manifest(tmp_path):
 
 
 def test_load_without_a_saved_corpus(tmp_path):
-    with pytest.raises(
-        ProjectError, match=r"holds no saved corpus. Save one with project.save_corpus"
-    ):
-        Project.create(tmp_path).load_corpus()
+    with pytest.raises(ProjectError, match=r"holds no saved corpus. Save one with save_corpus"):
+        load_corpus(Project.create(tmp_path))
 
 
 def test_truncated_corpus_file_is_refused(tmp_path, corpus):
     project = Project.create(tmp_path)
-    path = project.save_corpus(corpus)
+    path = save_corpus(corpus, project)
     path.write_bytes(path.read_bytes()[:100])
     with pytest.raises(CorruptArtifactError, match=r"cannot be read: .*Save the corpus again"):
-        project.load_corpus()
+        load_corpus(project)
 
 
 def test_swapped_corpus_file_is_refused(tmp_path, corpus):
     project = Project.create(tmp_path)
-    project.save_corpus(corpus)
+    save_corpus(corpus, project)
     other = Corpus.from_frame(pd.DataFrame({"text": ["Pier reopens"], "source": ["archive"]}))
     other.frame.to_parquet(tmp_path / CORPUS_FILE, index=False)  # written behind the project's back
     with pytest.raises(CorruptArtifactError, match=r"does not match the manifest"):
-        project.load_corpus()
+        load_corpus(project)
 
 
 def test_failed_save_keeps_the_previous_corpus(tmp_path, corpus, monkeypatch):
     project = Project.create(tmp_path)
-    project.save_corpus(corpus)
+    save_corpus(corpus, project)
     before = sorted(p.name for p in tmp_path.iterdir())
     smaller = Corpus.from_frame(corpus.frame.iloc[:2])
 
@@ -119,10 +118,10 @@ def test_failed_save_keeps_the_previous_corpus(tmp_path, corpus, monkeypatch):
 
     monkeypatch.setattr(pd.DataFrame, "to_parquet", disk_full)
     with pytest.raises(OSError, match="No space left"):
-        project.save_corpus(smaller)
+        save_corpus(smaller, project)
     monkeypatch.undo()
     assert sorted(p.name for p in tmp_path.iterdir()) == before  # no temporary file left
-    assert project.load_corpus().fingerprint == corpus.fingerprint
+    assert load_corpus(project).fingerprint == corpus.fingerprint
 
 
 def test_unstorable_extra_column_is_a_clear_error(tmp_path):
@@ -131,5 +130,5 @@ def test_unstorable_extra_column_is_a_clear_error(tmp_path):
     with pytest.raises(
         ProjectError, match=r"Cannot save the corpus to .*corpus.parquet.*astype\(str\)"
     ):
-        project.save_corpus(Corpus.from_frame(df))
+        save_corpus(Corpus.from_frame(df), project)
     assert not (tmp_path / CORPUS_FILE).exists()

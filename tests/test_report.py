@@ -14,9 +14,9 @@ import pytest
 from test_pipeline import small_demo
 
 from tm_compare.errors import SweepError
-from tm_compare.exports import collect
-from tm_compare.labels import LabelStore
-from tm_compare.report import render, write_report
+from tm_compare.labels.store import LabelStore
+from tm_compare.report.exports import collect
+from tm_compare.report.html import render, write_report
 
 pytestmark = pytest.mark.slow
 

@@ -17,7 +17,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from tm_compare.errors import InputError, SettingsError
-from tm_compare.scores import (
+from tm_compare.models.scores import (
     CoherenceScorer,
     average_jaccard,
     coherence,

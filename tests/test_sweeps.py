@@ -18,10 +18,10 @@ import pytest
 from gensim.models import CoherenceModel
 from test_fits import lee_corpus, stand_in
 
-import tm_compare.sweeps as sweep_module
+import tm_compare.models.sweeps as sweep_module
 from tm_compare.errors import ClusterUnavailableError, InputError, SettingsError, SweepError
-from tm_compare.fits import fit_lda
-from tm_compare.sweeps import Sweep, sweep
+from tm_compare.models.fits import fit_lda
+from tm_compare.models.sweeps import Sweep, sweep
 
 FAST = {"passes": 1, "chunksize": 100, "progress": False}
 GRID = {"k": [3, 4], "seeds": 2}
@@ -255,7 +255,7 @@ def test_sweep_killed_mid_way_resumes_to_the_uninterrupted_result(small, tmp_pat
         import sys
         sys.path.insert(0, {str(Path(__file__).parent)!r})
         from test_fits import lee_corpus
-        from tm_compare.sweeps import sweep
+        from tm_compare.models.sweeps import sweep
         sweep(lee_corpus(120), project={str(project)!r}, progress=False, **{KILLED_GRID!r})
     """)
     child = subprocess.Popen([sys.executable, "-c", script])
@@ -284,8 +284,8 @@ def test_sweep_killed_mid_way_resumes_to_the_uninterrupted_result(small, tmp_pat
 def test_cli_sweeps_the_projects_prepared_corpus(tmp_path, capsys):
     from tm_compare.cli import main
     from tm_compare.cli._sweep import k_grid
-    from tm_compare.corpus import Corpus
-    from tm_compare.prepared import prepare
+    from tm_compare.text.corpus import Corpus
+    from tm_compare.text.prepared import prepare
 
     # Article texts from gensim's lee_background.cor, split between two invented outlets.
     texts = [" ".join(t) for t in lee_corpus(120).texts]

@@ -8,7 +8,7 @@ import pytest
 from test_fits import lee_corpus
 from test_sweeps import FAST
 
-from tm_compare.sweeps import sweep
+from tm_compare.models.sweeps import sweep
 
 distributed = pytest.importorskip("distributed")
 pytestmark = pytest.mark.slow

@@ -6,13 +6,13 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tm_compare.errors import ComparisonError, SettingsError
-from tm_compare.terms import (
+from tm_compare.compare.terms import (
     log_odds_with_prior,
     source_wording,
     term_rankings,
     topic_term_counts,
 )
+from tm_compare.errors import ComparisonError, SettingsError
 
 PHI = np.array([[0.4, 0.3, 0.2, 0.1], [0.6, 0.1, 0.1, 0.2]])
 FIT = SimpleNamespace(

@@ -13,8 +13,8 @@ from gensim.corpora import Dictionary
 from gensim.models.phrases import original_scorer
 from gensim.utils import simple_preprocess
 
-from tm_compare._stopwords import ENGLISH
-from tm_compare._tokens import (
+from tm_compare.text._stopwords import ENGLISH
+from tm_compare.text._tokens import (
     BREAK,
     CONNECTOR,
     KEEP,
@@ -25,8 +25,8 @@ from tm_compare._tokens import (
     segments,
     tokenize,
 )
-from tm_compare.corpus import Corpus
-from tm_compare.prepared import prepare
+from tm_compare.text.corpus import Corpus
+from tm_compare.text.prepared import prepare
 
 LEE = os.path.join(os.path.dirname(gensim.__file__), "test", "test_data", "lee_background.cor")
 
@@ -191,7 +191,7 @@ def test_bag_of_words_reads_like_gensim_lists():
     # Reference: gensim's Dictionary.doc2bow lists and matutils.corpus2csc matrix.
     from gensim.matutils import corpus2csc
 
-    from tm_compare._tokens import BagOfWords
+    from tm_compare.text._tokens import BagOfWords
 
     docs = [simple_preprocess(t) for t in lee_texts()[:50]]
     dictionary = Dictionary(docs)
@@ -211,7 +211,7 @@ def test_phrase_shortcut_gives_gensims_output():
     # trigrams; our shortcut skips segments that share no token with any phrase.
     from gensim.models.phrases import Phrases
 
-    from tm_compare._tokens import join_phrases, phrase_parts
+    from tm_compare.text._tokens import join_phrases, phrase_parts
 
     segs = _lee_segments()
     bigram = Phrases(segs, min_count=2, threshold=2.0).freeze()

@@ -7,8 +7,8 @@ from hypothesis import given
 from hypothesis import strategies as st
 
 from tm_compare import canonical_url
-from tm_compare._urls import TRACKING_PARAMS, _remove_dot_segments
 from tm_compare.errors import InputError
+from tm_compare.text._urls import TRACKING_PARAMS, _remove_dot_segments
 
 
 @pytest.mark.parametrize(

@@ -18,12 +18,13 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tm_compare import charts, comparison, documents, terms
-from tm_compare.fits import Fit
-from tm_compare.labels import LabelStore
-from tm_compare.widgets import SweepView, TopicView
-from tm_compare.widgets._cards import emphasise
-from tm_compare.widgets._offline import bundle_path, cache_dir, chart_widget
+from tm_compare.compare import documents, terms
+from tm_compare.compare import prevalence as comparison
+from tm_compare.labels.store import LabelStore
+from tm_compare.models.fits import Fit
+from tm_compare.views import SweepView, TopicView, charts
+from tm_compare.views._cards import emphasise
+from tm_compare.views._offline import bundle_path, cache_dir, chart_widget
 
 K, V, PER_TOPIC = 4, 40, 10
 HOSTILE_TITLE = "Tide <script>alert('t')</script> report"

@@ -1,11 +1,18 @@
 """tm_compare: compare the topics of news sources with LDA, in Jupyter.
 
-The data flow, one module per stage: corpus intake (:mod:`.corpus`) ->
-prepared corpus (:mod:`.prepared`) -> sweep of fits (:mod:`.sweeps`,
-:mod:`.fits`) -> scores (:mod:`.scores`) -> comparison between sources
-(:mod:`.comparison`, :mod:`.terms`, :mod:`.documents`, :mod:`.alignment`)
--> labels (:mod:`.labels`) -> views, report and exports (:mod:`.charts`,
-:mod:`.widgets`, :mod:`.report`, :mod:`.exports`).
+The data flow, one folder per stage, each named after what it produces (imports run downstream
+only, in this order):
+
+- :mod:`.text`: corpus intake and the prepared corpus;
+- :mod:`.models`: LDA fits, the sweep over k and seeds, scores, alignment;
+- :mod:`.compare`: prevalence by source, differences, term rankings, documents;
+- :mod:`.labels`: the team's label store and agreement;
+- :mod:`.results`: the one place where one model's tables are computed;
+- :mod:`.views`, :mod:`.report`: notebook views; the HTML report and exports;
+- :mod:`.demo`, :mod:`.cli`: the invented scenario and its whole-job runner; the command line.
+
+Below every stage sit :mod:`.project` (a folder, its manifest, atomic writes), :mod:`.errors`
+and :mod:`.options` (every choice and default, in one table).
 
 Public names are imported lazily so that ``import tm_compare`` stays fast.
 """
@@ -18,46 +25,46 @@ __version__ = "0.1.0"
 
 # public name -> module that defines it
 _EXPORTS = {
-    "Corpus": "corpus",
-    "canonical_url": "corpus",
-    "prepare": "prepared",
-    "PreparedCorpus": "prepared",
+    "Corpus": "text.corpus",
+    "canonical_url": "text.corpus",
+    "prepare": "text.prepared",
+    "PreparedCorpus": "text.prepared",
+    "RemovalLog": "text.removals",
     "Project": "project",
-    "RemovalLog": "removals",
-    "Fit": "fits",
-    "fit_lda": "fits",
-    "sweep": "sweeps",
-    "Sweep": "sweeps",
-    "coherence": "scores",
-    "CoherenceScorer": "scores",
-    "stability": "scores",
-    "diversity": "scores",
-    "recommend": "scores",
-    "Recommendation": "scores",
-    "average_jaccard": "scores",
-    "match_topics": "scores",
-    "prevalence": "comparison",
-    "differences": "comparison",
-    "influence": "comparison",
-    "cap_effect": "comparison",
-    "term_rankings": "terms",
-    "source_wording": "terms",
-    "representative_documents": "documents",
-    "align_topics": "alignment",
-    "lineage": "alignment",
-    "similarity_matrix": "alignment",
-    "LabelStore": "labels",
-    "krippendorff_alpha": "agreement",
-    "percent_agreement": "agreement",
-    "agreement_table": "agreement",
-    "SweepView": "widgets",
-    "TopicView": "widgets",
-    "write_report": "report",
-    "collect": "exports",
-    "export": "exports",
-    "document_topics": "exports",
-    "Results": "exports",
-    "run_demo": "pipeline",
+    "Fit": "models.fits",
+    "fit_lda": "models.fits",
+    "sweep": "models.sweeps",
+    "Sweep": "models.sweeps",
+    "coherence": "models.scores",
+    "CoherenceScorer": "models.scores",
+    "stability": "models.scores",
+    "diversity": "models.scores",
+    "recommend": "models.scores",
+    "Recommendation": "models.scores",
+    "average_jaccard": "models.scores",
+    "match_topics": "models.scores",
+    "align_topics": "models.alignment",
+    "lineage": "models.alignment",
+    "similarity_matrix": "models.alignment",
+    "prevalence": "compare.prevalence",
+    "differences": "compare.prevalence",
+    "influence": "compare.prevalence",
+    "cap_effect": "compare.prevalence",
+    "term_rankings": "compare.terms",
+    "source_wording": "compare.terms",
+    "representative_documents": "compare.documents",
+    "LabelStore": "labels.store",
+    "krippendorff_alpha": "labels.agreement",
+    "percent_agreement": "labels.agreement",
+    "agreement_table": "labels.agreement",
+    "SweepView": "views",
+    "TopicView": "views",
+    "write_report": "report.html",
+    "collect": "report.exports",
+    "export": "report.exports",
+    "document_topics": "report.exports",
+    "Results": "report.exports",
+    "run_demo": "demo.run",
 }
 
 __all__ = sorted(_EXPORTS) + ["errors", "demo", "__version__", "load_ipython_extension"]
@@ -74,6 +81,6 @@ def __getattr__(name: str):
 
 def load_ipython_extension(ipython):
     """Called by ``%load_ext tm_compare``."""
-    from ._ipython import load
+    from .views.ipython import load
 
     load(ipython)

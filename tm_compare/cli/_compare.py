@@ -56,20 +56,22 @@ def register(subparsers) -> None:
 
 
 def _load(project_path: str, k: int, seed: int):
+    from ..models.sweeps import load_fit
     from ..project import Project
+    from ..text.prepared import load_prepared
 
     project = Project.open(project_path)
-    fit = project.load_model(k, seed)
-    return project, fit, project.load_prepared(fit.corpus_fingerprint)
+    fit = load_fit(project, k, seed)
+    return project, fit, load_prepared(project, fit.corpus_fingerprint)
 
 
 def tables(
     fit, prepared, *, weighting, cluster, against, n_boot, random_state
 ) -> dict[str, pd.DataFrame]:
     """Every table of the comparison, by file stem."""
-    from ..comparison import differences, influence, prevalence
-    from ..documents import representative_documents
-    from ..terms import term_rankings
+    from ..compare.documents import representative_documents
+    from ..compare.prevalence import differences, influence, prevalence
+    from ..compare.terms import term_rankings
 
     common = {
         "weighting": weighting,

@@ -9,7 +9,7 @@ from __future__ import annotations
 import argparse
 import time
 
-from ..pipeline import DEFAULT_PROJECT, GRID, N_BOOT
+from ..demo.run import DEFAULT_PROJECT, GRID, N_BOOT
 from ._sweep import k_grid, seed_list
 
 
@@ -69,7 +69,7 @@ def register(subparsers) -> None:
 
 
 def run(args) -> int:
-    from ..pipeline import STEPS, run_demo, summary
+    from ..demo.run import STEPS, run_demo, summary
 
     started = time.perf_counter()
     total = len(STEPS)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from ..exports import CHART_FORMATS, TABLE_FORMATS
+from ..report.exports import CHART_FORMATS, TABLE_FORMATS
 from ._report import add_model_options
 
 
@@ -57,7 +57,7 @@ def register(subparsers) -> None:
 
 
 def run(args) -> int:
-    from ..exports import collect, export
+    from ..report.exports import collect, export
 
     results = collect(args.project, args.k, args.seed, n_boot=args.n_boot)
     written = export(

@@ -8,6 +8,7 @@ import sys
 import pandas as pd
 
 from ..errors import LabelStoreError
+from ..models.sweeps import load_fit
 from ..project import Project
 
 ACTIONS = ("list", "export", "import", "agreement")
@@ -59,7 +60,7 @@ def _model(args):
     if args.k is None or args.seed is None:
         msg = "Name the model: --model FINGERPRINT, or --k K --seed S of the project's sweep."
         raise LabelStoreError(msg)
-    fit = Project.open(args.project).load_model(args.k, args.seed)
+    fit = load_fit(Project.open(args.project), args.k, args.seed)
     return fit.fingerprint, fit.top_words(10)
 
 
@@ -93,7 +94,7 @@ def _write(text: str, out) -> None:
 
 
 def run(args) -> int:
-    from ..labels import LabelStore
+    from ..labels.store import LabelStore
 
     location = args.store or Project.open(args.project)
     if args.action == "import":

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..prepared import DEFAULTS
+from ..text.prepared import DEFAULTS
 
 
 def register(subparsers) -> None:
@@ -100,9 +100,9 @@ def settings_from_args(args) -> dict:
 
 
 def run(args) -> int:
-    from ..corpus import Corpus
-    from ..prepared import prepare
     from ..project import Project
+    from ..text.corpus import Corpus, save_corpus
+    from ..text.prepared import prepare
 
     columns = {"text": args.text, "source": args.source}
     columns.update(
@@ -114,8 +114,7 @@ def run(args) -> int:
     )
     corpus = Corpus.read(args.corpus_file, **columns)
     project = Project.create(args.project)
-    if hasattr(project, "save_corpus"):
-        project.save_corpus(corpus)
+    save_corpus(corpus, project)
     prepared = prepare(corpus, project=project, **settings_from_args(args))
     state = "read from the project cache" if prepared.from_cache else "computed and cached"
     print(f"Corpus: {corpus!r}")

@@ -46,8 +46,8 @@ def register(subparsers) -> None:
 
 
 def run(args) -> int:
-    from ..exports import collect
-    from ..report import write_report
+    from ..report.exports import collect
+    from ..report.html import write_report
 
     results = collect(args.project, args.k, args.seed, n_boot=args.n_boot)
     path = write_report(results.project, out=args.out, results=results)

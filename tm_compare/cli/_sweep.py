@@ -119,11 +119,12 @@ def seed_list(text: str) -> int | list[int]:
 
 
 def run(args) -> int:
+    from ..models.sweeps import sweep
     from ..project import Project
-    from ..sweeps import sweep
+    from ..text.prepared import load_prepared
 
     project = Project.open(args.project)
-    prepared = project.load_prepared(args.prepared)
+    prepared = load_prepared(project, args.prepared)
     result = sweep(
         prepared,
         k=args.k,

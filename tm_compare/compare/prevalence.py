@@ -1,0 +1,593 @@
+"""Topic prevalence by source, differences between sources, and the influence check.
+
+Prevalence of topic k in source s is the weighted mean of the document-topic
+shares ``theta_dk`` over the documents of s. The weighting is an explicit
+choice, stated in a column of every table:
+
+- ``"exposure"``: each document counts with its ``weight`` (how often readers met it);
+- ``"unique"``: each article counts once (what the source offered).
+
+Uncertainty comes from a bootstrap stratified by source that resamples whole
+clusters (the ``cluster`` column, e.g. the reader or outlet in ``group``) when
+clusters are given, documents otherwise (Field & Welsh 2007; Cameron, Gelbach &
+Miller 2008): one reader's thousand visits are one observation, not a thousand.
+Documents with no cluster value are clusters of their own. Documents of weight
+0 never count and are not resampled. Strata are sources: a cluster seen in two
+sources (a reader who shares and visits) is resampled separately in each, which
+treats the sources as independent samples; when a reader's habits are alike in
+both sources (positive correlation) this makes intervals of differences wider
+than they need be, i.e. conservative.
+
+Every table has the columns ``weighting`` and ``cluster`` (the cluster column's
+name, or ``"document"`` when documents are resampled).
+"""
+
+from __future__ import annotations
+
+import warnings
+from dataclasses import dataclass, replace
+
+import numpy as np
+import pandas as pd
+
+from .._validation import check_choice, param_error
+from ..errors import ComparisonError
+from . import _bootstrap as bs
+
+_WEIGHTINGS = ("exposure", "unique")
+_INTERVALS = ("percentile", "bca")
+_RESAMPLING = ("multinomial", "poisson")
+_POISSON_MIN_UNITS = 30
+
+
+@dataclass(frozen=True)
+class _Design:
+    """Everything the bootstrap needs, checked once."""
+
+    shares: np.ndarray  # (D, k) of the kept documents
+    weights: np.ndarray  # (D,)
+    strata: np.ndarray  # (D,) index into sources
+    sources: list[str]
+    clusters: np.ndarray | None  # (D,) codes, -1 for none; None: document-level
+    unit_of: np.ndarray  # (D,) resampling unit of each document (see bs.unit_codes)
+    cluster: str  # name stated in the output
+    weighting: str
+    dirichlet: np.ndarray | None  # (D, k) or None
+
+    def units(self, shares: np.ndarray | None = None) -> bs.Units:
+        use = self.shares if shares is None else shares
+        return bs.unit_sums(use, self.weights, self.strata, self.unit_of, len(self.sources))
+
+    def columns(self) -> dict:
+        return {"weighting": self.weighting, "cluster": self.cluster}
+
+
+def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=None) -> _Design:
+    check_choice(owner, "weighting", weighting, _WEIGHTINGS)
+    shares = np.asarray(fit.doc_topic, dtype=float)
+    doc_sources = np.asarray(prepared.sources)
+    n_docs = len(doc_sources)
+    k = int(fit.k)
+    if shares.ndim != 2 or shares.shape != (n_docs, k):
+        msg = (
+            f"The model's doc_topic has shape {shares.shape}, but the prepared corpus has "
+            f"{n_docs} documents and the model has k={k} topics; {owner} needs ({n_docs}, {k}). "
+            "Use the fit that was trained on this prepared corpus (same preparation settings)."
+        )
+        raise ComparisonError(msg)
+    corpus_ids = list(_doc_ids(prepared))
+    fit_ids = getattr(fit, "doc_ids", None)
+    if fit_ids is not None and list(fit_ids) != corpus_ids:
+        msg = (
+            f"The model's doc_ids do not match the prepared corpus's document ids ({owner}). "
+            "The fit was trained on a different prepared corpus: prepare with the same settings "
+            "or use the matching fit."
+        )
+        raise ComparisonError(msg)
+    bad = ~np.isfinite(shares).all(axis=1)
+    if bad.any():
+        first = corpus_ids[np.flatnonzero(bad)[0]]
+        msg = (
+            f"The model's doc_topic has NaN or infinite shares in {int(bad.sum())} document(s) "
+            f"(first: id {first!r}); {owner} cannot average them. Refit the model, or drop "
+            "those documents from the corpus before preparing it."
+        )
+        raise ComparisonError(msg)
+    codes, uniques = pd.factorize(doc_sources, sort=True)
+    present = [str(s) for s in uniques]
+    wanted = present if sources is None else [str(s) for s in sources]
+    missing = [s for s in wanted if s not in present]
+    if missing:
+        msg = (
+            f"The source(s) {missing} given to {owner} have no documents after preparation. "
+            f"Sources with documents: {present}. Check the source names, or the removal log "
+            "(prepared.report) for why their documents were removed."
+        )
+        raise ComparisonError(msg)
+    position = np.array([wanted.index(s) if s in wanted else -1 for s in present])
+    keep = position[codes] >= 0
+    strata = position[codes][keep]
+    weights = (
+        np.asarray(prepared.weights, dtype=float)[keep]
+        if weighting == "exposure"
+        else np.ones(int(keep.sum()))
+    )
+    bad_weight = ~np.isfinite(weights) | (weights < 0)
+    if bad_weight.any():
+        msg = (
+            f"The 'weight' column must hold finite numbers >= 0 for {owner}; {int(bad_weight.sum())} "
+            f"document(s) do not (first value: {weights[bad_weight][0]!r}). Fix the corpus's weight "
+            "column, or use weighting='unique'."
+        )
+        raise ComparisonError(msg)
+    for i, name in enumerate(wanted):
+        if weights[strata == i].sum() <= 0:
+            msg = (
+                f"All documents of source {name!r} have weight 0, so their exposure-weighted "
+                f"prevalence is undefined ({owner}). Use weighting='unique', or fix the "
+                "corpus's weight column."
+            )
+            raise ComparisonError(msg)
+    clusters, cluster_name = _clusters(prepared, cluster, keep, strata, wanted, owner)
+    dirichlet = getattr(fit, "doc_dirichlet", None)
+    if keep.all():  # the usual case: skip copying a D x k matrix
+        keep = slice(None)
+    design = _Design(
+        shares=shares[keep],
+        weights=weights,
+        strata=strata,
+        sources=wanted,
+        clusters=clusters,
+        unit_of=bs.unit_codes(strata, clusters),
+        cluster=cluster_name,
+        weighting=weighting,
+        dirichlet=None if dirichlet is None else np.asarray(dirichlet, dtype=float)[keep],
+    )
+    if cap_group_share is not None:
+        design = replace(design, weights=_cap_weights(design, cap_group_share, owner))
+    return design
+
+
+def _doc_ids(prepared):
+    ids = getattr(prepared, "doc_ids", None)
+    return ids if ids is not None else prepared.meta["id"].tolist()
+
+
+def _clusters(prepared, cluster, keep, strata, sources, owner):
+    if cluster is None:
+        return None, "document"
+    if cluster == "group":
+        values = pd.Series(np.asarray(prepared.groups, dtype=object))
+    elif cluster in prepared.meta.columns:
+        values = prepared.meta[cluster].reset_index(drop=True)
+    else:
+        accepted = "None, 'group' or a column of prepared.meta: " + ", ".join(
+            map(repr, prepared.meta.columns)
+        )
+        raise param_error(owner, "cluster", cluster, accepted)
+    codes = pd.factorize(values.to_numpy()[keep], use_na_sentinel=True)[0]
+    if (codes < 0).all():
+        return None, "document"
+    for i, name in enumerate(sources):
+        in_source = codes[strata == i]
+        n_units = len(np.unique(in_source[in_source >= 0])) + int((in_source < 0).sum())
+        if n_units < 2:
+            msg = (
+                f"Source {name!r} has a single cluster in column {cluster!r}, so resampling "
+                f"clusters cannot measure uncertainty ({owner}). Use cluster=None to resample "
+                "documents, or a column with several clusters per source."
+            )
+            raise ComparisonError(msg)
+    return codes.astype(np.int64), str(cluster)
+
+
+def _cap_weights(design: _Design, cap: float, owner: str) -> np.ndarray:
+    """Cap each cluster's share of its source's weight at ``cap``, iteratively.
+
+    The excess of clusters above the cap is handed to the others in proportion to their
+    weight, repeatedly until no cluster exceeds the cap; each source's total is kept.
+    """
+    if not (isinstance(cap, float | int) and 0 < cap <= 1):
+        raise param_error(owner, "cap_group_share", cap, "a number in (0, 1]")
+    if design.clusters is None:
+        msg = f"cap_group_share needs clusters to cap, but {owner} got cluster=None. Pass cluster='group' (or another column)."
+        raise ComparisonError(msg)
+    weights = design.weights.copy()
+    units = design.unit_of
+    unit_weight = np.bincount(units, weights=weights)
+    unit_stratum = np.zeros(len(unit_weight), dtype=np.int64)
+    unit_stratum[units] = design.strata
+    factor = np.ones(len(unit_weight))
+    for s, name in enumerate(design.sources):
+        idx = np.flatnonzero((unit_stratum == s) & (unit_weight > 0))
+        share = unit_weight[idx] / unit_weight[idx].sum()
+        if len(idx) * cap < 1:
+            msg = (
+                f"Source {name!r} has {len(idx)} clusters, so no cluster's share can be capped at "
+                f"{cap} ({owner}): the cap must be at least 1/{len(idx)}. Raise cap_group_share."
+            )
+            raise ComparisonError(msg)
+        new = _water_fill(share, cap)
+        factor[idx] = new / share
+    return weights * factor[units]
+
+
+def _water_fill(share: np.ndarray, cap: float) -> np.ndarray:
+    capped = np.zeros(len(share), dtype=bool)
+    new = share.copy()
+    while (over := (new > cap * (1 + 1e-12)) & ~capped).any():
+        capped |= over
+        free = 1 - cap * capped.sum()
+        new = np.where(capped, cap, share * free / share[~capped].sum())
+    return new
+
+
+def _prevalence_stat(num: np.ndarray, den: np.ndarray) -> np.ndarray:
+    out = num / den[..., None]
+    return out.reshape(*out.shape[:-2], -1)
+
+
+def _check_boot(owner, n_boot, ci, interval, resampling):
+    if not (isinstance(n_boot, int | np.integer) and n_boot >= 10):
+        raise param_error(owner, "n_boot", n_boot, "an integer >= 10")
+    if not (isinstance(ci, float) and 0 < ci < 1):
+        raise param_error(owner, "ci", ci, "a number strictly between 0 and 1, e.g. 0.95")
+    check_choice(owner, "interval", interval, _INTERVALS)
+    check_choice(owner, "resampling", resampling, _RESAMPLING)
+
+
+def _replicates(design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner):
+    units = design.units()
+    fewest = min(b - a for a, b in units.bounds())
+    if fewest < 2:
+        msg = (
+            f"A source has a single resampling unit (one document or cluster with weight > 0), "
+            f"so the bootstrap cannot measure its uncertainty ({owner}). Drop that source with "
+            "sources=[...], or add documents."
+        )
+        raise ComparisonError(msg)
+    if resampling == "poisson" and fewest < _POISSON_MIN_UNITS:
+        # With n units, a Poisson replicate draws none of them with probability exp(-n).
+        msg = (
+            f"resampling='poisson' needs at least {_POISSON_MIN_UNITS} resampling units per "
+            f"source; one source has {fewest} ({owner}). Use resampling='multinomial'."
+        )
+        raise ComparisonError(msg)
+    if not model_uncertainty:
+        return units, bs.replicate(units, n_boot, rng, resampling)
+    if design.dirichlet is None:
+        msg = (
+            f"model_uncertainty=True needs the fit's doc_dirichlet (variational Dirichlet "
+            f"parameters), but this fit has none ({owner}). Use a gensim fit, or "
+            "model_uncertainty=False."
+        )
+        raise ComparisonError(msg)
+
+    def redraw(gen):
+        draw = gen.standard_gamma(design.dirichlet)
+        return design.units(draw / draw.sum(axis=1, keepdims=True))
+
+    return units, bs.replicate(units, n_boot, rng, resampling, redraw, min(n_model_draws, n_boot))
+
+
+def _summary(units, reps, statistic, ci, interval):
+    theta_hat = statistic(*units.totals())
+    theta_b = statistic(*reps)
+    accel = bs.jackknife_acceleration(units, statistic) if interval == "bca" else None
+    lo, hi = bs.interval(theta_hat, theta_b, ci, interval, accel)
+    return theta_hat, theta_b, lo, hi
+
+
+def prevalence(
+    fit,
+    prepared,
+    *,
+    weighting: str = "exposure",
+    cluster: str | None = "group",
+    sources=None,
+    n_boot: int = 1000,
+    ci: float = 0.95,
+    interval: str = "percentile",
+    resampling: str = "multinomial",
+    model_uncertainty: bool = False,
+    n_model_draws: int = 100,
+    cap_group_share: float | None = None,
+    random_state=0,
+) -> pd.DataFrame:
+    """Prevalence of every topic in every source, with bootstrap intervals.
+
+    Parameters
+    ----------
+    fit : object with ``doc_topic`` (D x k), ``k``, ``doc_ids`` and ``doc_dirichlet``.
+    prepared : PreparedCorpus (``sources``, ``weights``, ``groups``, ``meta``).
+    weighting : "exposure" (document weights) or "unique" (each article once).
+    cluster : "group", another column of ``prepared.meta``, or None to resample documents.
+    sources : sources to include, in output order (default: all, sorted).
+    n_boot, ci : replicates and interval level.
+    interval : "percentile" or "bca" (Efron & Tibshirani 1993, ch. 14; acceleration from a
+        jackknife over clusters within each source, on the point estimates of the shares).
+    resampling : "multinomial" (classical) or "poisson" (Poisson(1) counts; faster on
+        hundreds of thousands of unclustered documents).
+    model_uncertainty : also draw shares from each document's Dirichlet(``doc_dirichlet``);
+        replicates run in ``n_model_draws`` batches, one fresh draw per batch (each draw
+        costs D x k gamma variates, so this is much slower on large corpora).
+    cap_group_share : cap every cluster's share of its source's weight (see :func:`influence`).
+    random_state : seed or ``numpy.random.Generator``.
+
+    Raises ComparisonError, naming the fault and the fix, when: the fit does not match the
+    corpus (shape, k or document ids), a share is NaN, a named source has no documents,
+    a source's weights are all 0 (exposure weighting), a source has a single resampling
+    unit or a single cluster, or weights are negative. A single source is fine here
+    (:func:`differences` needs two).
+
+    Returns
+    -------
+    DataFrame, one row per (source, topic): ``source``, ``topic``, ``prevalence``, ``ci_low``,
+    ``ci_high``, ``std_error`` (replicates' standard deviation), ``n_documents``, ``n_units``
+    (clusters or documents resampled), ``total_weight``, then the settings ``weighting``,
+    ``cluster``, ``interval``, ``ci_level``, ``n_boot``, ``resampling``,
+    ``model_uncertainty``, ``cap_group_share``.
+    """
+    owner = "prevalence"
+    _check_boot(owner, n_boot, ci, interval, resampling)
+    design = _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share)
+    rng = np.random.default_rng(random_state)
+    units, reps = _replicates(
+        design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner
+    )
+    theta_hat, theta_b, lo, hi = _summary(units, reps, _prevalence_stat, ci, interval)
+    n_src, k = len(design.sources), design.shares.shape[1]
+    frame = pd.DataFrame(
+        {
+            "source": np.repeat(design.sources, k),
+            "topic": np.tile(np.arange(k), n_src),
+            "prevalence": theta_hat,
+            "ci_low": lo,
+            "ci_high": hi,
+            "std_error": theta_b.std(axis=0, ddof=1),
+            "n_documents": np.repeat(np.bincount(design.strata, minlength=n_src), k),
+            "n_units": np.repeat(np.bincount(units.stratum, minlength=n_src), k),
+            "total_weight": np.repeat(units.totals()[1], k),
+        }
+    )
+    settings = {
+        "interval": interval,
+        "ci_level": ci,
+        "n_boot": n_boot,
+        "resampling": resampling,
+        "model_uncertainty": bool(model_uncertainty),
+        "cap_group_share": cap_group_share,
+    }
+    return frame.assign(**design.columns(), **settings)
+
+
+def differences(
+    fit,
+    prepared,
+    *,
+    against: str = "each",
+    weighting: str = "exposure",
+    cluster: str | None = "group",
+    sources=None,
+    n_boot: int = 1000,
+    ci: float = 0.95,
+    interval: str = "percentile",
+    resampling: str = "multinomial",
+    model_uncertainty: bool = False,
+    n_model_draws: int = 100,
+    cap_group_share: float | None = None,
+    fdr: float = 0.05,
+    random_state=0,
+) -> pd.DataFrame:
+    """Differences in topic prevalence between sources, with intervals and BH-adjusted p-values.
+
+    ``against="each"`` compares every pair of sources (a, b) with a before b in source order;
+    ``against="rest"`` compares each source with all other sources pooled. Other parameters
+    as in :func:`prevalence`; all comparisons share one set of replicates.
+
+    The p-value per topic is the two-sided bootstrap test of "difference = 0" from the
+    centred replicate distribution (Hall & Wilson 1991): ``(1 + #{|d* - d| >= |d|}) / (B + 1)``.
+    Within each comparison the p-values of the k topics are adjusted by Benjamini & Hochberg
+    (1995); ``significant`` is ``p_adjusted <= fdr``.
+
+    Returns
+    -------
+    DataFrame, one row per (comparison, topic), sorted by comparison, then ``p_adjusted``
+    ascending and absolute difference descending (most different first): ``source``,
+    ``other``, ``topic``, ``prevalence``, ``prevalence_other``, ``difference`` (source minus
+    other), ``diff_ci_low``, ``diff_ci_high``, ``ratio`` (source / other), ``ratio_ci_low``,
+    ``ratio_ci_high``, ``p_value``, ``p_adjusted``, ``significant``, ``rank`` (1 = most
+    different), ``test``, then the settings as in :func:`prevalence` plus ``fdr``.
+    """
+    owner = "differences"
+    check_choice(owner, "against", against, ("each", "rest"))
+    _check_boot(owner, n_boot, ci, interval, resampling)
+    if not (isinstance(fdr, float) and 0 < fdr < 1):
+        raise param_error(owner, "fdr", fdr, "a number strictly between 0 and 1")
+    design = _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share)
+    names = design.sources
+    if len(names) < 2:
+        msg = (
+            f"differences needs at least two sources; the data has {names}. Use prevalence() "
+            "for one source, or add documents from another source."
+        )
+        raise ComparisonError(msg)
+    n_src = len(names)
+    if against == "each":
+        pairs = [([a], [b]) for a in range(n_src) for b in range(a + 1, n_src)]
+        labels = [(names[a[0]], names[b[0]]) for a, b in pairs]
+    else:
+        pairs = [([a], [b for b in range(n_src) if b != a]) for a in range(n_src)]
+        labels = [(names[a[0]], "rest") for a, _ in pairs]
+
+    def pooled(num, den, idx):
+        return num[..., idx, :].sum(axis=-2) / den[..., idx].sum(axis=-1)[..., None]
+
+    def diff_stat(num, den):
+        return np.concatenate([pooled(num, den, a) - pooled(num, den, b) for a, b in pairs], -1)
+
+    def ratio_stat(num, den):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.concatenate([pooled(num, den, a) / pooled(num, den, b) for a, b in pairs], -1)
+
+    def level_stat(num, den):
+        return np.concatenate(
+            [np.concatenate([pooled(num, den, a), pooled(num, den, b)], -1) for a, b in pairs], -1
+        )
+
+    rng = np.random.default_rng(random_state)
+    units, reps = _replicates(
+        design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner
+    )
+    d_hat, d_b, d_lo, d_hi = _summary(units, reps, diff_stat, ci, interval)
+    r_hat, _, r_lo, r_hi = _summary(units, reps, ratio_stat, ci, interval)
+    levels = level_stat(*units.totals()).reshape(len(pairs), 2, -1)
+    k = design.shares.shape[1]
+    p = bs.centred_p_value(d_hat, d_b)
+    p_adj = np.concatenate(
+        [bs.benjamini_hochberg(p[i * k : (i + 1) * k]) for i in range(len(pairs))]
+    )
+    frame = pd.DataFrame(
+        {
+            "source": np.repeat([a for a, _ in labels], k),
+            "other": np.repeat([b for _, b in labels], k),
+            "topic": np.tile(np.arange(k), len(pairs)),
+            "prevalence": levels[:, 0].ravel(),
+            "prevalence_other": levels[:, 1].ravel(),
+            "difference": d_hat,
+            "diff_ci_low": d_lo,
+            "diff_ci_high": d_hi,
+            "ratio": r_hat,
+            "ratio_ci_low": r_lo,
+            "ratio_ci_high": r_hi,
+            "p_value": p,
+            "p_adjusted": p_adj,
+            "significant": p_adj <= fdr,
+        }
+    )
+    frame["_order"] = np.repeat(np.arange(len(pairs)), k)
+    frame["_abs"] = -frame["difference"].abs()
+    frame = frame.sort_values(["_order", "p_adjusted", "_abs"], kind="stable")
+    frame["rank"] = frame.groupby("_order").cumcount() + 1
+    settings = {
+        "test": "bootstrap, two-sided, centred (Hall & Wilson 1991); BH across topics",
+        "interval": interval,
+        "ci_level": ci,
+        "n_boot": n_boot,
+        "resampling": resampling,
+        "model_uncertainty": bool(model_uncertainty),
+        "cap_group_share": cap_group_share,
+        "fdr": fdr,
+    }
+    frame = frame.drop(columns=["_order", "_abs"]).reset_index(drop=True)
+    return frame.assign(**design.columns(), **settings)
+
+
+def influence(
+    prepared,
+    *,
+    threshold: float = 0.10,
+    weighting: str = "exposure",
+    cluster: str = "group",
+    top: int = 5,
+    warn: bool = True,
+) -> pd.DataFrame:
+    """Which clusters carry the most weight in each source; flag those above ``threshold``.
+
+    A cluster (a reader, an outlet) that carries a large share of a source's weight can
+    drive that source's prevalence on its own. Documents with no cluster value are
+    clusters of their own (labelled by document id).
+
+    Returns
+    -------
+    DataFrame with the ``top`` heaviest clusters of each source, plus every flagged one:
+    ``source``, ``group`` (the cluster value), ``rank``, ``n_documents``, ``weight``,
+    ``share`` (of the source's weight), ``flagged`` (``share > threshold``), ``threshold``,
+    ``weighting``, ``cluster``. With ``warn``, a ``UserWarning`` names each flagged cluster.
+    See :func:`cap_effect` for the effect of capping shares on prevalence.
+    """
+    owner = "influence"
+    check_choice(owner, "weighting", weighting, _WEIGHTINGS)
+    if not (isinstance(threshold, float) and 0 < threshold < 1):
+        raise param_error(owner, "threshold", threshold, "a number strictly between 0 and 1")
+    if not (isinstance(top, int | np.integer) and top >= 1):
+        raise param_error(owner, "top", top, "an integer >= 1")
+    frame = pd.DataFrame(
+        {
+            "source": np.asarray(prepared.sources).astype(str),
+            "weight": np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0,
+            "id": np.asarray(_doc_ids(prepared)).astype(str),
+        }
+    )
+    if cluster == "group":
+        values = pd.Series(np.asarray(prepared.groups, dtype=object))
+    elif cluster in prepared.meta.columns:
+        values = prepared.meta[cluster].reset_index(drop=True)
+    else:
+        accepted = "'group' or a column of prepared.meta: " + ", ".join(
+            map(repr, prepared.meta.columns)
+        )
+        raise param_error(owner, "cluster", cluster, accepted)
+    frame["group"] = values.astype(object).where(values.notna(), "(document " + frame["id"] + ")")
+    table = (
+        frame.groupby(["source", "group"], sort=False)
+        .agg(n_documents=("id", "size"), weight=("weight", "sum"))
+        .reset_index()
+    )
+    table["share"] = table["weight"] / table.groupby("source")["weight"].transform("sum")
+    table = table.sort_values(["source", "share"], ascending=[True, False], kind="stable")
+    table["rank"] = table.groupby("source").cumcount() + 1
+    table["flagged"] = table["share"] > threshold
+    table = table[(table["rank"] <= top) | table["flagged"]]
+    flagged = table[table["flagged"]]
+    if warn and len(flagged):
+        listed = "; ".join(
+            f"{g!r} carries {s:.0%} of {src!r}"
+            for src, g, s in flagged[["source", "group", "share"]].itertuples(index=False)
+        )
+        warnings.warn(
+            f"Clusters above the {threshold:.0%} share threshold ({weighting} weighting): {listed}. "
+            "Their documents can drive those sources' prevalence; see cap_effect().",
+            UserWarning,
+            stacklevel=2,
+        )
+    cols = ["source", "group", "rank", "n_documents", "weight", "share", "flagged"]
+    out = table[cols].reset_index(drop=True)
+    return out.assign(threshold=threshold, weighting=weighting, cluster=cluster)
+
+
+def cap_effect(
+    fit,
+    prepared,
+    *,
+    cap_group_share: float = 0.10,
+    weighting: str = "exposure",
+    cluster: str = "group",
+    sources=None,
+) -> pd.DataFrame:
+    """Prevalence before and after capping each cluster's share of its source's weight.
+
+    The weight above the cap is handed to the source's other clusters in proportion to
+    their weight, repeatedly until no cluster is above the cap.
+
+    Returns
+    -------
+    DataFrame, one row per (source, topic): ``source``, ``topic``, ``prevalence_before``,
+    ``prevalence_after``, ``change``, ``cap_group_share``, ``weighting``, ``cluster``.
+    """
+    owner = "cap_effect"
+    before = _design(fit, prepared, owner, weighting, cluster, sources)
+    after = _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share)
+    k = before.shares.shape[1]
+    b_hat = _prevalence_stat(*before.units().totals())
+    a_hat = _prevalence_stat(*after.units().totals())
+    frame = pd.DataFrame(
+        {
+            "source": np.repeat(before.sources, k),
+            "topic": np.tile(np.arange(k), len(before.sources)),
+            "prevalence_before": b_hat,
+            "prevalence_after": a_hat,
+            "change": a_hat - b_hat,
+        }
+    )
+    return frame.assign(cap_group_share=cap_group_share, **before.columns())

@@ -1,0 +1,742 @@
+"""Collaborative topic labels: an append-only store with history, conflicts, blind rounds,
+agreement, consensus, carry-over between models, and export/import.
+
+A label belongs to a fitted model (its ``fingerprint``), a topic number and an analyst. Every
+change is a new row with the next version number of its (model, topic, analyst) key; the
+*current* label is the latest version unless that version is a retraction. Nothing is updated or
+deleted in place. An edit names the version it was based on (``based_on``); if someone saved a
+newer one meanwhile, :class:`~tm_compare.errors.LabelConflictError` shows both and stores nothing.
+
+The store is SQLite by default (``PROJECT/labels.sqlite``, WAL mode and a busy timeout so that
+several kernels of one machine can write at once) or PostgreSQL for teams on several machines
+(``postgresql+psycopg://user@host:5432/db``). Every query is built with SQLAlchemy Core, so all
+values travel as bound parameters; texts are stored exactly as given, and escaping is the job of
+whatever displays them. A URL's password never appears in a repr, log line or error message.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import functools
+import json
+import numbers
+import uuid
+from dataclasses import asdict, dataclass, fields
+from typing import NamedTuple
+
+import pandas as pd
+import sqlalchemy as sa
+
+from .._validation import check_choice, param_error
+from ..errors import LabelStoreError
+from . import _files as _f
+from . import _schema as _s
+from ._files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
+from .agreement import agreement_table
+
+DEFAULT_VERDICTS = ("usable", "mixed", "noise")
+LABEL_FIELDS = ("name", "note", "verdict", "category", "confidence")
+
+
+@dataclass(frozen=True)
+class Label:
+    """One row of the label history."""
+
+    id: int
+    uid: str
+    model: str
+    topic: int
+    analyst: str
+    version: int
+    name: str
+    note: str
+    verdict: str | None
+    category: str | None
+    confidence: float | None
+    retracted: bool
+    round: int | None
+    created_at: str
+
+
+COLUMNS = tuple(f.name for f in fields(Label))
+
+
+class Changes(NamedTuple):
+    """Rows added since a cursor, and the cursor to pass next time."""
+
+    labels: pd.DataFrame
+    cursor: int
+
+
+@dataclass(frozen=True)
+class CheckReport:
+    """Result of :meth:`LabelStore.check`."""
+
+    ok: bool
+    problems: list[str]
+    schema_version: int
+    n_labels: int
+
+
+def model_id(model) -> str:
+    """A model's fingerprint from a ``str`` or an object with a ``fingerprint`` attribute."""
+    value = getattr(model, "fingerprint", model)
+    if not isinstance(value, str) or not value.strip() or len(value) > 200:
+        raise param_error(
+            "LabelStore",
+            "model",
+            model,
+            "a fitted model (with .fingerprint) or its fingerprint string (1-200 characters)",
+        )
+    _s.check_text("model", value)
+    return value
+
+
+def _topic(topic) -> int:
+    if isinstance(topic, bool) or not isinstance(topic, numbers.Integral) or topic < 0:
+        raise param_error("LabelStore", "topic", topic, "a topic number, an integer >= 0")
+    return int(topic)
+
+
+def _label(row) -> Label:
+    data = dict(row if isinstance(row, dict) else row._mapping)
+    data["round"] = data.pop("round_id")
+    data["retracted"] = bool(data["retracted"])
+    return Label(**{k: data[k] for k in COLUMNS})
+
+
+def _frame(rows) -> pd.DataFrame:
+    return pd.DataFrame([asdict(_label(r)) for r in rows], columns=list(COLUMNS))
+
+
+class LabelStore:
+    """A team's topic labels, in SQLite or PostgreSQL.
+
+    Parameters
+    ----------
+    location : Project, path or URL
+        A :class:`~tm_compare.project.Project` or folder (the store is ``labels.sqlite`` in it),
+        an SQLite file path, or a SQLAlchemy URL (``sqlite:///...``, ``postgresql+psycopg://...``).
+    analyst : str, optional
+        Who writes through this store object; needed to save, retract, settle or open rounds.
+    verdicts : sequence of str, optional
+        The allowed verdicts, recorded in a new store (default: usable, mixed, noise).
+    timeout : float
+        Seconds to wait for a lock (SQLite busy timeout) or a connection (PostgreSQL).
+    read_only : bool
+        Open the store read-only (SQLite ``mode=ro``; PostgreSQL read-only transactions):
+        every write raises LabelStoreError.
+    """
+
+    def __init__(
+        self,
+        location,
+        analyst: str | None = None,
+        *,
+        verdicts=None,
+        timeout: float = 30.0,
+        read_only: bool = False,
+    ):
+        if analyst is not None and (
+            not isinstance(analyst, str) or not analyst.strip() or len(analyst) > 200
+        ):
+            raise param_error(
+                "LabelStore", "analyst", analyst, "a non-empty name of at most 200 characters"
+            )
+        if analyst is not None:
+            _s.check_text("analyst", analyst)
+        self.analyst = analyst
+        self.timeout = float(timeout)
+        self._url = _s.resolve_url(location, read_only)
+        read_only = self.read_only = read_only or self._url.query.get("mode") == "ro"
+        self._engine = _s.make_engine(self._url, self.timeout, read_only)
+        wanted = None if verdicts is None else self._clean_verdicts(verdicts)
+        with self._guard():
+            with self._engine.connect() as conn:
+                version = _s.stored_version(conn)
+            if version is not None:
+                _s.refuse_newer(version, self.url)
+            if read_only and version is None:
+                msg = f"No label store at {self.url}: the database is empty. Open it once without read_only=True to create it."
+                raise LabelStoreError(msg)
+            if read_only and version < _s.SCHEMA_VERSION:
+                msg = f"The label store {self.url} has schema version {version} and needs an upgrade to {_s.SCHEMA_VERSION}, which a read-only store cannot do. Open it once writable."
+                raise LabelStoreError(msg)
+            if version != _s.SCHEMA_VERSION:  # create or upgrade, under the write lock
+                settings = {"verdicts": json.dumps(list(wanted or DEFAULT_VERDICTS))}
+                with _s.write_transaction(self._engine) as conn:
+                    _s.prepare_schema(conn, self.url, settings)
+        if wanted is not None and wanted != self.verdicts:
+            self.set_verdicts(wanted)
+
+    # --- basics ---------------------------------------------------------------------------
+
+    @property
+    def url(self) -> str:
+        """The store's URL with any password hidden."""
+        return _s.describe(self._url)
+
+    def __repr__(self) -> str:
+        return f"LabelStore({self.url!r}, analyst={self.analyst!r})"
+
+    def as_analyst(self, analyst: str) -> LabelStore:
+        """The same store, opened for writing as ``analyst`` (e.g. when a form's name changes)."""
+        return LabelStore(
+            self._url, analyst=analyst, timeout=self.timeout, read_only=self.read_only
+        )
+
+    def close(self) -> None:
+        """Release the store's connections."""
+        self._engine.dispose()
+
+    def __enter__(self) -> LabelStore:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    @contextlib.contextmanager
+    def _guard(self):
+        """Turn driver errors into LabelStoreError with a clear, password-free message."""
+        try:
+            yield
+        except Exception as exc:
+            if _s.is_driver_error(exc):
+                raise _s.translate(exc, self._url, self.timeout) from None
+            raise
+
+    def _read(self, query) -> list:
+        with self._guard(), self._engine.connect() as conn:
+            return conn.execute(query).all()
+
+    def _writer(self, action: str) -> str:
+        if self.analyst is None:
+            msg = f"Cannot {action}: this LabelStore was opened without an analyst. Open it as LabelStore(..., analyst='your name')."
+            raise LabelStoreError(msg)
+        return self.analyst
+
+    @property
+    def schema_version(self) -> int:
+        """The schema version recorded in the store."""
+        with self._guard(), self._engine.connect() as conn:
+            return _s.stored_version(conn)
+
+    # --- verdicts and codebook ------------------------------------------------------------
+
+    @staticmethod
+    def _clean_verdicts(verdicts) -> list[str]:
+        values = [verdicts] if isinstance(verdicts, str) else list(verdicts)
+        if (
+            not values
+            or any(not isinstance(v, str) or not v.strip() for v in values)
+            or len(set(values)) != len(values)
+        ):
+            raise param_error(
+                "LabelStore", "verdicts", verdicts, "a list of distinct non-empty strings"
+            )
+        return values
+
+    @property
+    def verdicts(self) -> list[str]:
+        """The allowed verdicts, in their configured order."""
+        with self._guard(), self._engine.connect() as conn:
+            return _s.read_verdicts(conn)
+
+    def set_verdicts(self, verdicts) -> list[str]:
+        """Replace the allowed verdicts; refuses to drop one that a stored label uses."""
+        values = self._clean_verdicts(verdicts)
+        self._writer("change the verdicts")
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            used = set(conn.execute(sa.select(_s.labels.c.verdict).distinct()).scalars()) - {None}
+            used |= set(conn.execute(sa.select(_s.consensus.c.verdict).distinct()).scalars()) - {
+                None
+            }
+            if used - set(values):
+                msg = f"Cannot drop the verdicts {sorted(used - set(values))}: stored labels use them. Keep them in the list {values}."
+                raise LabelStoreError(msg)
+            conn.execute(
+                _s.meta.update().where(_s.meta.c.key == "verdicts").values(value=json.dumps(values))
+            )
+        return values
+
+    def define_category(self, category: str, description: str = "") -> None:
+        """Add a category to the team's codebook (a category cannot be renamed or removed)."""
+        if not isinstance(category, str) or not category.strip() or len(category) > 200:
+            raise param_error(
+                "define_category",
+                "category",
+                category,
+                "a non-empty string of at most 200 characters",
+            )
+        _s.check_text("category", category)
+        _s.check_text("description", description)
+        who = self._writer("define a category")
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            self._add_categories(
+                conn, [{"category": category, "description": description, "added_by": who}]
+            )
+
+    @staticmethod
+    def _add_categories(conn, entries: list[dict]) -> None:
+        known = set(conn.execute(sa.select(_s.codebook.c.category)).scalars())
+        fresh = [
+            dict(e, created_at=e.get("created_at") or _s.utc_now())
+            for e in entries
+            if e["category"] not in known
+        ]
+        if fresh:
+            conn.execute(_s.codebook.insert(), fresh)
+
+    def codebook(self) -> pd.DataFrame:
+        """The codebook: ``category``, ``description``, ``added_by``, ``created_at``."""
+        cb = _s.codebook
+        rows = self._read(
+            sa.select(cb.c.category, cb.c.description, cb.c.added_by, cb.c.created_at).order_by(
+                cb.c.id
+            )
+        )
+        return pd.DataFrame(
+            [dict(r._mapping) for r in rows],
+            columns=["category", "description", "added_by", "created_at"],
+        )
+
+    # --- rounds and visibility --------------------------------------------------------------
+
+    def _open_round(self, conn, model: str):
+        return conn.execute(_s.OPEN_ROUND, {"model": model}).first()
+
+    def open_round(self, model, name: str = "", blind: bool = True) -> int:
+        """Open a coding round on ``model``; while a blind round is open, each analyst reads
+        only their own labels of that model. Returns the round's id."""
+        model = model_id(model)
+        who = self._writer("open a round")
+        _s.check_text("name", name)
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            existing = self._open_round(conn, model)
+            if existing is not None:
+                msg = f"Round {existing.id} ({existing.name!r}) is still open on model {model!r}; close it with close_round first."
+                raise LabelStoreError(msg)
+            return conn.execute(
+                _s.rounds.insert().values(
+                    model=model, name=name, blind=bool(blind), opened_by=who, opened_at=_s.utc_now()
+                )
+            ).inserted_primary_key[0]
+
+    def close_round(self, model) -> int:
+        """Close the open round on ``model``; everyone's labels become visible. Returns its id."""
+        model = model_id(model)
+        who = self._writer("close a round")
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            existing = self._open_round(conn, model)
+            if existing is None:
+                msg = f"No round is open on model {model!r}."
+                raise LabelStoreError(msg)
+            conn.execute(
+                _s.rounds.update()
+                .where(_s.rounds.c.id == existing.id)
+                .values(closed_by=who, closed_at=_s.utc_now())
+            )
+            return existing.id
+
+    def rounds(self, model=None) -> pd.DataFrame:
+        """Rounds, oldest first: ``id``, ``model``, ``name``, ``blind``, who/when opened and closed."""
+        r = _s.rounds
+        query = sa.select(r).order_by(r.c.id)
+        if model is not None:
+            query = query.where(r.c.model == model_id(model))
+        return pd.DataFrame(
+            [dict(x._mapping) for x in self._read(query)], columns=[c.name for c in r.c]
+        )
+
+    @functools.cached_property
+    def _visible(self):
+        """A filter on labels hiding other analysts' rows of models in an open blind round."""
+        r = _s.rounds
+        blind = sa.select(r.c.model).where(r.c.blind.is_(True), r.c.closed_at.is_(None))
+        if self.analyst is None:
+            return _s.labels.c.model.not_in(blind)
+        return sa.or_(_s.labels.c.model.not_in(blind), _s.labels.c.analyst == self.analyst)
+
+    @functools.cached_property
+    def _latest_visible(self):
+        t = _s.labels
+        return (
+            sa.select(t)
+            .where(*[t.c[k] == sa.bindparam(k) for k in _s.KEYS["labels"]], self._visible)
+            .order_by(t.c.version.desc())
+            .limit(1)
+        )
+
+    def in_blind_round(self, model) -> bool:
+        """Whether a blind round is open on ``model``."""
+        r = _s.rounds
+        rows = self._read(
+            sa.select(r.c.id).where(
+                r.c.model == model_id(model), r.c.blind.is_(True), r.c.closed_at.is_(None)
+            )
+        )
+        return bool(rows)
+
+    # --- reading --------------------------------------------------------------------------
+
+    def _current_rows(
+        self, conn, model: str, round_id: int | None = None, analyst: str | None = None
+    ):
+        t = _s.labels
+        scope = [t.c.model == model, self._visible]
+        if round_id is not None:
+            scope.append(t.c.round_id == round_id)
+        if analyst is not None:
+            scope.append(t.c.analyst == analyst)
+        latest = (
+            sa.select(t.c.topic, t.c.analyst, sa.func.max(t.c.version).label("v"))
+            .where(*scope)
+            .group_by(t.c.topic, t.c.analyst)
+            .subquery()
+        )
+        query = (
+            sa.select(t)
+            .join(
+                latest,
+                sa.and_(
+                    t.c.topic == latest.c.topic,
+                    t.c.analyst == latest.c.analyst,
+                    t.c.version == latest.c.v,
+                ),
+            )
+            .where(t.c.model == model)
+            .order_by(t.c.topic, t.c.analyst)
+        )
+        return conn.execute(query).all()
+
+    def current(self, model, *, include_retracted: bool = False) -> pd.DataFrame:
+        """The current label of each (topic, analyst) visible to this analyst."""
+        model = model_id(model)
+        with self._guard(), self._engine.connect() as conn:
+            rows = self._current_rows(conn, model)
+        frame = _frame(rows)
+        return (
+            frame
+            if include_retracted
+            else frame[~frame["retracted"].astype(bool)].reset_index(drop=True)
+        )
+
+    def label(self, model, topic, analyst: str | None = None) -> Label | None:
+        """The latest history row of one topic by ``analyst`` (default: this store's analyst),
+        retracted or not, or ``None``; its ``version`` is what an edit is ``based_on``."""
+        model, topic = model_id(model), _topic(topic)
+        who = analyst or self._writer("read your own label")
+        with self._guard(), self._engine.connect() as conn:
+            row = conn.execute(
+                self._latest_visible, {"model": model, "topic": topic, "analyst": who}
+            ).first()
+        return None if row is None else _label(row)
+
+    def _history_rows(self, model=None, topic=None) -> list:
+        t = _s.labels
+        with self._guard(), self._engine.connect() as conn:
+            query = sa.select(t).where(self._visible).order_by(t.c.id)
+            if model is not None:
+                query = query.where(t.c.model == model_id(model))
+            if topic is not None:
+                query = query.where(t.c.topic == _topic(topic))
+            return conn.execute(query).all()
+
+    def history(self, model=None, topic=None) -> pd.DataFrame:
+        """Every visible history row, in write order."""
+        return _frame(self._history_rows(model, topic))
+
+    def side_by_side(self, model, field: str = "name") -> pd.DataFrame:
+        """Current labels as a topic x analyst table of ``field``."""
+        check_choice("side_by_side", "field", field, LABEL_FIELDS)
+        frame = self.current(model)
+        if frame.empty:
+            return pd.DataFrame(index=pd.Index([], name="topic"))
+        return frame.pivot(index="topic", columns="analyst", values=field)
+
+    def poll(self, since=0, model=None) -> Changes:
+        """Rows saved after ``since``: a cursor from an earlier poll (an int) or a UTC time
+        (``datetime`` or ISO text). Lets a form show colleagues' new labels as they arrive."""
+        t = _s.labels
+        if (
+            isinstance(since, bool)
+            or not isinstance(since, (numbers.Integral, str))
+            and not hasattr(since, "astimezone")
+        ):
+            raise param_error(
+                "poll", "since", since, "a cursor (int) from an earlier poll, or a datetime"
+            )
+        with self._guard(), self._engine.connect() as conn:
+            query = sa.select(t).where(self._visible).order_by(t.c.id)
+            if isinstance(since, numbers.Integral):
+                query = query.where(t.c.id > int(since))
+            else:
+                stamp = pd.Timestamp(since)
+                stamp = (
+                    stamp.tz_localize("UTC") if stamp.tzinfo is None else stamp.tz_convert("UTC")
+                )
+                query = query.where(t.c.created_at > stamp.strftime("%Y-%m-%dT%H:%M:%S.%fZ"))
+            if model is not None:
+                query = query.where(t.c.model == model_id(model))
+            rows = conn.execute(query).all()
+        cursor = max(
+            [r.id for r in rows], default=since if isinstance(since, numbers.Integral) else 0
+        )
+        return Changes(_frame(rows), int(cursor))
+
+    # --- writing --------------------------------------------------------------------------
+
+    def _clean(self, conn, values: dict) -> dict:
+        """Check a label's fields against the store's verdicts and codebook."""
+        owner = "LabelStore.save"
+        for field in ("name", "note"):
+            if not isinstance(values[field], str):
+                raise param_error(owner, field, values[field], "a string")
+        for field in ("name", "note", "verdict", "category"):
+            _s.check_text(field, values[field])
+        if values["verdict"] is not None:
+            check_choice(owner, "verdict", values["verdict"], _s.read_verdicts(conn))
+        known = list(conn.execute(_s.CATEGORIES).scalars()) if values["category"] else []
+        if values["category"] is not None and values["category"] not in known:
+            listed = ", ".join(map(repr, known)) or "none yet"
+            fix = "Add it first with store.define_category(...)."
+            raise param_error(
+                owner, "category", values["category"], f"a codebook category ({listed})", fix
+            )
+        conf = values.get("confidence")
+        if conf is not None:
+            # NaN fails the range test too.
+            if isinstance(conf, bool) or not isinstance(conf, numbers.Real) or not 0 <= conf <= 1:
+                raise param_error(owner, "confidence", conf, "a number between 0 and 1, or None")
+            values["confidence"] = float(conf)
+        return values
+
+    def _append(self, conn, key: dict, values: dict, based_on: int | None, table=None) -> dict:
+        """Insert the next version of ``key`` if the latest is still ``based_on``; return the row."""
+        table = _s.labels if table is None else table
+        latest = conn.execute(_s.LATEST[table.name], key).first()
+        have = 0 if latest is None else latest.version
+        base = 0 if based_on is None else based_on
+        if base != have:
+            raise _s.conflict_error(table.name, key, base, latest, values)
+        row = {
+            **key,
+            **values,
+            "version": have + 1,
+            "uid": values.get("uid") or uuid.uuid4().hex,
+            "created_at": values.get("created_at") or _s.utc_now(),
+        }
+        row["id"] = conn.execute(table.insert(), row).inserted_primary_key[0]
+        return row
+
+    def _write_label(self, model, topic, values: dict, based_on) -> Label:
+        model, topic = model_id(model), _topic(topic)
+        who = self._writer("save a label")
+        if based_on is not None and (
+            isinstance(based_on, bool) or not isinstance(based_on, numbers.Integral) or based_on < 0
+        ):
+            raise param_error(
+                "LabelStore.save",
+                "based_on",
+                based_on,
+                "the version your edit started from (an integer >= 0), or None for a new label",
+            )
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            values = self._clean(conn, values)
+            opened = self._open_round(conn, model)
+            values["round_id"] = None if opened is None else opened.id
+            row = self._append(
+                conn, {"model": model, "topic": topic, "analyst": who}, values, based_on
+            )
+        return _label(row)
+
+    def save(
+        self,
+        model,
+        topic,
+        *,
+        name: str,
+        note: str = "",
+        verdict: str | None = None,
+        category: str | None = None,
+        confidence: float | None = None,
+        based_on: int | None = None,
+    ) -> Label:
+        """Save this analyst's label of ``topic`` as a new version.
+
+        ``based_on`` is the version the edit started from (``None`` or 0 for a first label).
+        If the stored latest version differs, :class:`LabelConflictError` is raised: its message
+        shows both versions, ``.current`` and ``.attempted`` hold them, and nothing is stored.
+        """
+        values = {
+            "name": name,
+            "note": note,
+            "verdict": verdict,
+            "category": category,
+            "confidence": confidence,
+            "retracted": False,
+        }
+        return self._write_label(model, topic, values, based_on)
+
+    def retract(self, model, topic, *, based_on: int) -> Label:
+        """Withdraw this analyst's label of ``topic`` (a new, retracting version)."""
+        latest = self.label(model, topic)
+        values = {
+            "name": "",
+            "note": "",
+            "verdict": None,
+            "category": None,
+            "confidence": None,
+            "retracted": True,
+        }
+        if latest is not None:
+            values.update(
+                name=latest.name,
+                note=latest.note,
+                verdict=latest.verdict,
+                category=latest.category,
+                confidence=latest.confidence,
+            )
+        return self._write_label(model, topic, values, based_on)
+
+    # --- procedures -----------------------------------------------------------------------
+
+    def agreement(
+        self, model, fields=("verdict", "category"), round: int | None = None
+    ) -> pd.DataFrame:
+        """Krippendorff's alpha (nominal) and percent agreement, per topic and overall.
+
+        Units are topics, coders are analysts, values their current ``verdict``/``category``
+        (restricted to labels saved in ``round`` when given). Columns: ``field``, ``scope``
+        ("topic" or "overall"), ``topic``, ``alpha``, ``percent_agreement``, ``n_coders``,
+        ``n_units``. See :mod:`tm_compare.agreement` for the per-topic alpha.
+        """
+        model = model_id(model)
+        fields = [fields] if isinstance(fields, str) else list(fields)
+        for field in fields:
+            check_choice("LabelStore.agreement", "field", field, ("verdict", "category"))
+        if self.in_blind_round(model):
+            msg = f"A blind round is open on model {model!r}: agreement needs everyone's labels. Close the round first (store.close_round(model))."
+            raise LabelStoreError(msg)
+        with self._guard(), self._engine.connect() as conn:
+            frame = _frame(self._current_rows(conn, model, round_id=round))
+        frame = frame[~frame["retracted"].astype(bool)]
+        tables = []
+        for field in fields:
+            units = frame.pivot(index="topic", columns="analyst", values=field)
+            table = agreement_table(units.reindex(sorted(frame["topic"].unique())))
+            tables.append(table.assign(field=field, scope=table["scope"].replace("unit", "topic")))
+        result = pd.concat(tables, ignore_index=True).rename(columns={"unit": "topic"})
+        result["topic"] = result["topic"].astype("Int64")
+        columns = ["field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units"]
+        return result[columns]
+
+    def settle(self, model, topic, *, name: str, verdict: str | None = None,
+               category: str | None = None, note: str = "", from_labels=None,
+               based_on: int | None = None) -> dict:  # fmt: skip
+        """Record the settled (consensus) label of ``topic``, who settled it and from which labels.
+
+        ``from_labels``: uids of the history rows it was settled from (default: every analyst's
+        current label of the topic). ``based_on``: the consensus version it replaces (None: first).
+        """
+        model, topic = model_id(model), _topic(topic)
+        who = self._writer("settle a label")
+        if self.in_blind_round(model):
+            msg = f"A blind round is open on model {model!r}; close it before settling labels."
+            raise LabelStoreError(msg)
+        values = {"name": name, "note": note, "verdict": verdict, "category": category}
+        with self._guard(), _s.write_transaction(self._engine) as conn:
+            values = self._clean(conn, values)
+            current = [r for r in self._current_rows(conn, model) if r.topic == topic]
+            if from_labels is None:
+                sources = [r.uid for r in current if not r.retracted]
+            else:
+                sources = [from_labels] if isinstance(from_labels, str) else list(from_labels)
+                t = _s.labels
+                query = sa.select(t.c.uid).where(t.c.model == model, t.c.topic == topic)
+                unknown = set(sources) - set(conn.execute(query).scalars())
+                if unknown:
+                    accepted = f"uids of labels of topic {topic} of model {model!r}"
+                    raise param_error("settle", "from_labels", sorted(unknown), accepted)
+            values.update(settled_by=who, sources=json.dumps(sources))
+            key = {"model": model, "topic": topic}
+            self._append(conn, key, values, based_on, table=_s.consensus)
+        return next(r for r in self._consensus_records(model, False) if r["topic"] == topic)
+
+    def _consensus_records(self, model: str, history: bool) -> list[dict]:
+        c = _s.consensus
+        rows = self._read(sa.select(c).where(c.c.model == model).order_by(c.c.topic, c.c.version))
+        records = [{k: v for k, v in r._mapping.items() if k != "id"} for r in rows]
+        for rec in records:
+            rec["sources"] = json.loads(rec["sources"])
+        if not history:
+            records = list({rec["topic"]: rec for rec in records}.values())
+        return records
+
+    def consensus(self, model, *, history: bool = False) -> pd.DataFrame:
+        """Settled labels: the latest per topic (or every version with ``history=True``), with
+        ``settled_by`` and ``sources`` (uids of the labels it was settled from)."""
+        columns = [c.name for c in _s.consensus.c if c.name != "id"]
+        return pd.DataFrame(self._consensus_records(model_id(model), history), columns=columns)
+
+    def carry_over(
+        self, source, target, *, alignment: pd.DataFrame | None = None, threshold: float = 0.5
+    ) -> pd.DataFrame:
+        """Suggest labels for ``target`` from ``source``'s labels through topic alignment.
+
+        ``alignment``: columns ``topic_a`` (source), ``topic_b`` (target), ``similarity``; by
+        default ``tm_compare.alignment.align_topics(source, target)`` (needs both fits). Returns
+        suggestions (nothing is stored): ``topic``, ``from_model``, ``from_topic``,
+        ``similarity``, ``kind`` ("consensus" or "label"), ``analyst``, ``name``, ``verdict``,
+        ``category``, ``note``; best match first within each target topic.
+        """
+        alignment = _f.carry_over_alignment(source, target, alignment, threshold)
+        return _f.carry_over(self, model_id(source), alignment, threshold)
+
+    # --- export and import -------------------------------------------------------------------
+
+    def export(
+        self, model, path=None, *, format: str | None = None, history: bool = False, top_words=None
+    ):
+        """Current labels (or the full ``history``) of ``model`` as JSON or CSV.
+
+        ``top_words``: a list, per topic, of its top terms, so the file reads without the model.
+        With ``path`` the file is written atomically (format from its suffix unless given) and
+        its path returned; without, the JSON document (a dict) or the CSV text is returned.
+        """
+        return _f.export_labels(
+            self, model_id(model), path, format=format, history=history, top_words=top_words
+        )
+
+    def _labels(self, model: str, history: bool) -> list[Label]:
+        """Every visible history row of ``model``, or its current rows (retracted included)."""
+        if history:
+            return [_label(r) for r in self._history_rows(model)]
+        with self._guard(), self._engine.connect() as conn:
+            return [_label(r) for r in self._current_rows(conn, model)]
+
+    def import_labels(self, path, *, model) -> dict:
+        """Import a file written by :meth:`export` into this store, for ``model`` only.
+
+        Idempotent: rows already present (same uid) are skipped; new rows are appended after the
+        key's latest version, keeping their analyst and time. Returns counts ``added``/``skipped``.
+        """
+        return _f.import_labels(self, path, model_id(model))
+
+    # --- integrity ------------------------------------------------------------------------
+
+    def check(self, *, raise_on_error: bool = False) -> CheckReport:
+        """Verify the store's invariants: schema version, contiguous versions per key in write
+        order, no orphan rows, verdicts and categories known, and SQLite's own integrity check."""
+        with self._guard(), self._engine.connect() as conn:
+            problems = _s.integrity_problems(conn, self.verdicts)
+            n = conn.execute(sa.select(sa.func.count()).select_from(_s.labels)).scalar()
+            version = _s.stored_version(conn)
+        report = CheckReport(not problems, problems, version, int(n))
+        if problems and raise_on_error:
+            msg = f"The label store {self.url} failed its integrity check: " + "; ".join(problems)
+            raise LabelStoreError(msg)
+        return report
+
+
+__all__ = ["LabelStore", "Label", "Changes", "CheckReport", "DEFAULT_VERDICTS", "model_id"]

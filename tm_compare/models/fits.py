@@ -1,0 +1,397 @@
+"""One fitted LDA model, normalised across engines: :class:`Fit` and :func:`fit_lda`.
+
+A fit is trained on the documents of a prepared corpus that are not held
+out. The held-out share is drawn once per corpus with ``holdout_seed``
+(``numpy.random.default_rng(holdout_seed)``), so every fit of a sweep, for
+every k and seed, is judged on the same held-out documents and their
+perplexities are comparable. Topic proportions are inferred for every
+document, held-out ones included, with the final topics.
+
+Held-out perplexity is per word with natural logarithms: ``exp(-b)``, where
+``b`` is the engine's variational lower bound on the log likelihood of the
+held-out documents per held-out token, with the document part scaled to the
+training corpus' size as the engines do when they evaluate (details in
+:mod:`tm_compare._engines`). gensim's ``LdaModel.log_perplexity(held,
+total_docs=n_train)`` returns ``b`` (natural log, although its log message
+calls ``2 ** -b`` the perplexity); scikit-learn's ``perplexity(held,
+sub_sampling=True)`` returns ``exp(-b)``. A bound makes this an upper bound on
+the true perplexity; compare it between fits of one engine.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+import time
+import zipfile
+from pathlib import Path
+
+import numpy as np
+import scipy.sparse as sp
+
+from .._atomic import atomic_path
+from .._hashing import fingerprint as _fingerprint
+from .._validation import check_choice, param_error
+from ..errors import CorruptArtifactError, InputError
+from . import _engines
+
+FILE_FORMAT = "tm_compare fit"
+FILE_VERSION = 1
+
+
+class Fit:
+    """One LDA model (Blei, Ng & Jordan 2003) fitted on a prepared corpus.
+
+    Attributes
+    ----------
+    k, seed, engine, engine_version, settings, fit_seconds
+        What was fitted, how, and how long it took (training and inference).
+    vocab : list of str
+        Terms; the index is the term id of the prepared dictionary.
+    doc_ids : list of str
+        Every document of the prepared corpus, in its order (rows of ``doc_topic``).
+    topic_term : ndarray (k, V)
+        Topic-word distributions (posterior mean), rows sum to 1.
+    doc_topic : ndarray (D, k)
+        Topic proportions of every document, rows sum to 1.
+    doc_dirichlet : ndarray (D, k) or None
+        Variational Dirichlet parameters (gamma) of each document's topic
+        proportions; ``doc_topic`` is gamma normalised. Both engines give them
+        (gensim ``LdaModel.inference``, scikit-learn ``transform(normalize=False)``).
+    heldout : ndarray of bool (D,)
+        Documents left out of training.
+    perplexity : float
+        Held-out per-word perplexity, natural log (see module notes); nan if none held out.
+    corpus_fingerprint : str
+        Fingerprint of the prepared corpus the model was fitted on.
+    """
+
+    def __init__(
+        self,
+        *,
+        k,
+        seed,
+        engine,
+        engine_version,
+        settings,
+        fit_seconds,
+        vocab,
+        doc_ids,
+        topic_term,
+        doc_dirichlet,
+        heldout,
+        perplexity,
+        corpus_fingerprint,
+        doc_topic=None,
+    ):
+        self.k = int(k)
+        self.seed = int(seed)
+        self.engine = engine
+        self.engine_version = engine_version
+        self.settings = dict(settings)
+        self.fit_seconds = float(fit_seconds)
+        self.vocab = list(vocab)
+        self.doc_ids = list(doc_ids)
+        self.topic_term = topic_term
+        self.doc_dirichlet = doc_dirichlet
+        if doc_topic is None:
+            doc_topic = doc_dirichlet / doc_dirichlet.sum(axis=1, keepdims=True)
+        self.doc_topic = doc_topic
+        self.heldout = np.asarray(heldout, dtype=bool)
+        self.perplexity = float(perplexity)
+        self.corpus_fingerprint = corpus_fingerprint
+        self.fingerprint = _fingerprint(
+            "fit",
+            engine,
+            self.k,
+            self.seed,
+            self.settings,
+            corpus_fingerprint,
+            self.heldout,
+            self.topic_term,
+        )
+
+    def __repr__(self) -> str:
+        return (
+            f"Fit(k={self.k}, seed={self.seed}, engine={self.engine!r}, "
+            f"perplexity={self.perplexity:.1f}, fingerprint={self.fingerprint!r})"
+        )
+
+    def top_words(self, n: int = 10) -> list[list[str]]:
+        """The ``n`` most probable words of each topic, most probable first (ties by term id)."""
+        order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n]
+        return [[self.vocab[j] for j in row] for row in order]
+
+    def save(self, path: str | os.PathLike) -> Path:
+        """Write the fit to one file atomically (a crash leaves no half file)."""
+        arrays = {"topic_term": self.topic_term, "heldout": self.heldout}
+        arrays["doc_dirichlet" if self.doc_dirichlet is not None else "doc_topic"] = (
+            self.doc_dirichlet if self.doc_dirichlet is not None else self.doc_topic
+        )
+        meta = {
+            "format": FILE_FORMAT,
+            "version": FILE_VERSION,
+            "k": self.k,
+            "seed": self.seed,
+            "engine": self.engine,
+            "engine_version": self.engine_version,
+            "settings": self.settings,
+            "fit_seconds": self.fit_seconds,
+            "perplexity": self.perplexity,
+            "corpus_fingerprint": self.corpus_fingerprint,
+            "fingerprint": self.fingerprint,
+            "vocab": self.vocab,
+            "doc_ids": self.doc_ids,
+        }
+        meta_bytes = json.dumps(meta, sort_keys=True).encode("utf-8")
+        arrays["meta"] = np.frombuffer(meta_bytes, dtype=np.uint8)
+        checksum = _checksum(arrays)
+        with atomic_path(path) as tmp:
+            with open(tmp, "wb") as fh:
+                np.savez(fh, checksum=np.frombuffer(checksum.encode(), dtype=np.uint8), **arrays)
+        return Path(path)
+
+    @classmethod
+    def load(cls, path: str | os.PathLike) -> Fit:
+        """Read a fit written by :meth:`save`; raise CorruptArtifactError if it fails its checksum."""
+        path = Path(path)
+        try:
+            with np.load(path, allow_pickle=False) as npz:
+                arrays = {name: npz[name] for name in npz.files}
+            stored = arrays.pop("checksum").tobytes().decode()
+            ok = stored == _checksum(arrays)
+            meta = json.loads(arrays["meta"].tobytes()) if ok else {}
+        except FileNotFoundError:
+            raise
+        except (OSError, ValueError, KeyError, EOFError, zipfile.BadZipFile, UnicodeError) as exc:
+            msg = (
+                f"The saved fit {str(path)!r} cannot be read ({type(exc).__name__}: {exc}); "
+                "it is corrupt or truncated. Delete it, or rerun the sweep, which refits it."
+            )
+            raise CorruptArtifactError(msg) from exc
+        if not ok or meta.get("format") != FILE_FORMAT:
+            msg = (
+                f"The saved fit {str(path)!r} fails its integrity check (its contents do not "
+                "match the checksum written with it). Delete it, or rerun the sweep, which "
+                "refits it."
+            )
+            raise CorruptArtifactError(msg)
+        fit = cls(
+            k=meta["k"],
+            seed=meta["seed"],
+            engine=meta["engine"],
+            engine_version=meta["engine_version"],
+            settings=meta["settings"],
+            fit_seconds=meta["fit_seconds"],
+            vocab=meta["vocab"],
+            doc_ids=meta["doc_ids"],
+            topic_term=arrays["topic_term"],
+            doc_dirichlet=arrays.get("doc_dirichlet"),
+            doc_topic=arrays.get("doc_topic"),
+            heldout=arrays["heldout"],
+            perplexity=meta["perplexity"],
+            corpus_fingerprint=meta["corpus_fingerprint"],
+        )
+        return fit
+
+
+def _checksum(arrays: dict[str, np.ndarray]) -> str:
+    return _fingerprint(
+        *(part for name in sorted(arrays) for part in (name, arrays[name])), length=64
+    )
+
+
+@dataclasses.dataclass
+class TrainingData:
+    """A prepared corpus as a document-term count matrix, with its held-out mask.
+
+    This is what fitting needs, in a form that is written once and read by every
+    worker (memory-mapped on one machine, scattered once on a Dask cluster).
+    """
+
+    matrix: sp.csr_matrix
+    vocab: list[str]
+    doc_ids: list[str]
+    heldout: np.ndarray
+    corpus_fingerprint: str
+
+    @classmethod
+    def from_prepared(
+        cls, prepared, holdout: float = 0.1, holdout_seed: int = 0, owner: str = "fit_lda"
+    ) -> TrainingData:
+        if not 0 <= holdout < 1:
+            raise param_error(
+                owner,
+                "holdout",
+                holdout,
+                "a share of documents in [0, 1)",
+                "Use e.g. 0.1 to hold out 10% of documents, or 0 for none.",
+            )
+        dictionary = prepared.dictionary
+        n_docs = len(prepared.bow)
+        if len(dictionary) == 0 or n_docs == 0:
+            msg = (
+                f"The prepared corpus has {len(dictionary)} terms in its vocabulary and "
+                f"{n_docs} documents; LDA needs at least one term and two documents. "
+                "Prepare the corpus with looser filters (e.g. a lower minimum document "
+                "frequency) or add documents."
+            )
+            raise InputError(msg)
+        lengths = np.fromiter((len(doc) for doc in prepared.bow), dtype=np.int64, count=n_docs)
+        indptr = np.concatenate([[0], np.cumsum(lengths)])
+        pairs = np.fromiter(
+            (v for doc in prepared.bow for pair in doc for v in pair),
+            dtype=np.int64,
+            count=2 * int(indptr[-1]),
+        ).reshape(-1, 2)
+        matrix = sp.csr_matrix(
+            (pairs[:, 1].astype(np.int32), pairs[:, 0].astype(np.int32), indptr),
+            shape=(n_docs, len(dictionary)),
+        )
+        n_held = max(1, round(holdout * n_docs)) if holdout > 0 else 0
+        heldout = np.zeros(n_docs, dtype=bool)
+        heldout[np.random.default_rng(holdout_seed).permutation(n_docs)[:n_held]] = True
+        vocab = [dictionary[i] for i in range(len(dictionary))]
+        return cls(matrix, vocab, list(prepared.doc_ids), heldout, prepared.fingerprint)
+
+    @property
+    def n_train(self) -> int:
+        return int((~self.heldout).sum())
+
+    def save(self, folder: Path) -> Path:
+        """Write the matrix as .npy files (memory-mappable) and the rest as JSON."""
+        folder.mkdir(parents=True, exist_ok=True)
+        for name in ("indptr", "indices", "data"):
+            np.save(folder / f"{name}.npy", getattr(self.matrix, name))
+        np.save(folder / "heldout.npy", self.heldout)
+        (folder / "meta.json").write_text(
+            json.dumps(
+                {
+                    "shape": self.matrix.shape,
+                    "vocab": self.vocab,
+                    "doc_ids": self.doc_ids,
+                    "corpus_fingerprint": self.corpus_fingerprint,
+                }
+            ),
+            encoding="utf-8",
+        )
+        return folder
+
+    @classmethod
+    def load(cls, folder: Path) -> TrainingData:
+        parts = {
+            n: np.load(folder / f"{n}.npy", mmap_mode="r") for n in ("indptr", "indices", "data")
+        }
+        meta = json.loads((folder / "meta.json").read_text(encoding="utf-8"))
+        matrix = sp.csr_matrix(
+            (parts["data"], parts["indices"], parts["indptr"]),
+            shape=tuple(meta["shape"]),
+            copy=False,
+        )
+        return cls(
+            matrix,
+            meta["vocab"],
+            meta["doc_ids"],
+            np.load(folder / "heldout.npy"),
+            meta["corpus_fingerprint"],
+        )
+
+
+def check_settings(owner: str, settings: dict) -> dict:
+    """Validate fit settings (gensim's names, see :mod:`tm_compare._engines`); return them complete."""
+    for name in settings:
+        check_choice(owner, "settings", name, _engines.DEFAULT_SETTINGS)
+    full = {**_engines.DEFAULT_SETTINGS, **settings}
+    for name in ("passes", "iterations", "chunksize"):
+        value = full[name]
+        if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
+            raise param_error(owner, name, value, "an integer >= 1")
+    for name in ("alpha", "eta"):
+        value = full[name]
+        if value != "symmetric" and not (isinstance(value, float | int) and value > 0):
+            raise param_error(owner, name, value, "'symmetric' (1/k) or a number > 0")
+    if not 0.5 <= full["decay"] <= 1:
+        # Hoffman et al. (2010) prove convergence for (0.5, 1]; 0.5 is gensim's default.
+        raise param_error(owner, "decay", full["decay"], "a number in [0.5, 1]")
+    for name in ("offset", "gamma_threshold"):
+        if not full[name] > 0:
+            raise param_error(owner, name, full[name], "a number > 0")
+    return {
+        name: (int(v) if name in ("passes", "iterations", "chunksize") else v)
+        for name, v in full.items()
+    }
+
+
+def check_k(owner: str, k, data: TrainingData) -> int:
+    if isinstance(k, bool) or not isinstance(k, int | np.integer) or not 2 <= k <= data.n_train:
+        raise param_error(
+            owner,
+            "k",
+            k,
+            f"integers from 2 to the number of training documents ({data.n_train})",
+            f"The corpus has {len(data.doc_ids)} documents, {int(data.heldout.sum())} of them "
+            "held out; choose fewer topics or add documents.",
+        )
+    return int(k)
+
+
+def train(data: TrainingData, k: int, seed: int, engine: str, settings: dict) -> Fit:
+    """Fit one model on ``data`` (validated already), single-threaded for reproducibility."""
+    from threadpoolctl import threadpool_limits
+
+    start = time.perf_counter()
+    # One math-library thread: results then do not depend on where or beside what a fit runs.
+    with threadpool_limits(limits=1):
+        result = _engines.run(engine, data.matrix, data.heldout, k, seed, settings, data.vocab)
+    seconds = time.perf_counter() - start
+    perplexity = float(np.exp(-result.word_bound))
+    return Fit(
+        k=k,
+        seed=seed,
+        engine=engine,
+        engine_version=result.version,
+        settings=settings,
+        fit_seconds=seconds,
+        vocab=data.vocab,
+        doc_ids=data.doc_ids,
+        topic_term=result.topic_term,
+        doc_dirichlet=result.gamma,
+        heldout=data.heldout,
+        perplexity=perplexity,
+        corpus_fingerprint=data.corpus_fingerprint,
+    )
+
+
+def fit_lda(
+    prepared,
+    k: int,
+    *,
+    seed: int = 0,
+    engine: str = "gensim",
+    holdout: float = 0.1,
+    holdout_seed: int = 0,
+    **settings,
+) -> Fit:
+    """Fit one LDA model with ``k`` topics on a prepared corpus.
+
+    Parameters
+    ----------
+    prepared : PreparedCorpus
+        Needs ``.bow``, ``.dictionary``, ``.doc_ids`` and ``.fingerprint``.
+    k : int
+        Number of topics, from 2 to the number of training documents.
+    seed : int
+        Random state of the engine.
+    engine : {"gensim", "sklearn"}
+    holdout, holdout_seed
+        Share of documents held out for perplexity, and the seed that picks them.
+    **settings
+        Fit settings with gensim's names: ``passes``, ``iterations``, ``chunksize``,
+        ``alpha``, ``eta``, ``decay``, ``offset``, ``gamma_threshold``.
+    """
+    check_choice("fit_lda", "engine", engine, _engines.ENGINES)
+    settings = check_settings("fit_lda", settings)
+    data = TrainingData.from_prepared(prepared, holdout, holdout_seed)
+    settings = {**settings, "holdout": holdout, "holdout_seed": holdout_seed}
+    return train(data, check_k("fit_lda", k, data), seed, engine, settings)

@@ -1,0 +1,526 @@
+"""The sweep: LDA over a grid of topic counts and seeds, scored for choosing k.
+
+:func:`sweep` fits one model per (k, seed), in parallel processes or on a Dask
+cluster, saves each finished fit in the project folder as soon as it ends
+(so a stopped sweep resumes where it stopped), then scores every fit with the
+statistics of :mod:`tm_compare.scores`, counted once for the whole grid.
+
+Results do not depend on where fits run: every fit is single-threaded and
+reads the same document-term matrix, so a sweep run sequentially, with
+``n_jobs``, on a Dask cluster, or resumed after a crash gives the same
+numbers.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import tempfile
+import warnings
+from collections.abc import Iterable, Iterator, Mapping
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .._atomic import atomic_path, atomic_write_json
+from .._hashing import fingerprint as _fingerprint
+from .._validation import check_choice, param_error, require
+from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
+from ..project import Project
+from . import _engines
+from .fits import Fit, TrainingData, check_k, check_settings, train
+
+MEASURES = ("npmi", "c_v", "uci", "umass")
+DIVERSITY_TOPN = 25  # Dieng, Ruiz & Blei (2020) measure diversity on each topic's top 25 words
+CONNECT_TIMEOUT = 10  # seconds to wait for a Dask scheduler
+_STATE = "sweep.json"
+
+
+class Sweep:
+    """LDA fits over a grid of topic counts and seeds, with their scores.
+
+    Parameters
+    ----------
+    k : int or iterable of int
+        Topic counts, each from 2 to the number of training documents.
+    seeds : int or iterable of int
+        ``3`` means seeds 0, 1, 2; a list gives the seeds themselves.
+    engine : {"gensim", "sklearn"}
+    project : Project or path, optional
+        Where fits (``fits/``) and score tables (``scores/``) are saved. With a
+        project, finished fits are kept and a rerun skips them.
+    n_jobs : int, optional
+        Worker processes on this machine (joblib convention: None is 1, -1 all cores).
+    client, scheduler : dask.distributed.Client or address, optional
+        Run the fits on a Dask cluster instead.
+    holdout, holdout_seed
+        Share of documents held out for perplexity, drawn once with
+        ``holdout_seed``: the same documents for every fit of the sweep.
+    topn : int
+        Top words per topic for coherence and stability (diversity uses 25).
+    measures : tuple of str
+        Coherence measures, from ``("npmi", "c_v", "uci", "umass")``.
+    passes, iterations, chunksize, alpha, eta
+        Fit settings (gensim's names, see :func:`tm_compare.fits.fit_lda`).
+    progress : bool
+        Show a progress bar of fits done and time left.
+    fallback_local : bool
+        If the scheduler does not answer, warn and run locally instead of raising.
+
+    Attributes
+    ----------
+    fits : Mapping
+        ``{(k, seed): Fit}``; fits saved in a project are read from disk when asked for.
+    scores : DataFrame
+        One row per fit: ``k``, ``seed``, ``engine``, ``fit_seconds``, mean of each
+        coherence measure, ``perplexity``, ``stability``, ``diversity``, ``fingerprint``.
+    topic_scores : DataFrame
+        One row per topic of each fit: ``k``, ``seed``, ``topic``, ``top_words``,
+        each coherence measure and ``stability``.
+    """
+
+    def __init__(
+        self,
+        k=range(5, 41, 5),
+        seeds=3,
+        engine="gensim",
+        *,
+        project=None,
+        n_jobs=None,
+        client=None,
+        scheduler=None,
+        holdout=0.1,
+        holdout_seed=0,
+        topn=10,
+        measures=MEASURES,
+        passes=_engines.DEFAULT_SETTINGS["passes"],
+        iterations=_engines.DEFAULT_SETTINGS["iterations"],
+        chunksize=_engines.DEFAULT_SETTINGS["chunksize"],
+        alpha="symmetric",
+        eta="symmetric",
+        progress=True,
+        fallback_local=False,
+    ):
+        self.k = k
+        self.seeds = seeds
+        self.engine = engine
+        self.project = project
+        self.n_jobs = n_jobs
+        self.client = client
+        self.scheduler = scheduler
+        self.holdout = holdout
+        self.holdout_seed = holdout_seed
+        self.topn = topn
+        self.measures = measures
+        self.passes = passes
+        self.iterations = iterations
+        self.chunksize = chunksize
+        self.alpha = alpha
+        self.eta = eta
+        self.progress = progress
+        self.fallback_local = fallback_local
+
+    def __repr__(self) -> str:
+        n = len(getattr(self, "fits", ()))
+        return f"Sweep(engine={self.engine!r}, fits={n})"
+
+    # -- fitting -----------------------------------------------------------------------------
+    def fit(self, prepared) -> Sweep:
+        """Fit (or reload) every model of the grid on ``prepared``, then score them all."""
+        ks, seeds, measures, settings = self._checked_options()
+        data = TrainingData.from_prepared(prepared, self.holdout, self.holdout_seed, "sweep")
+        for k in ks:
+            check_k("sweep", k, data)
+        project = self.project
+        if project is not None and not isinstance(project, Project):
+            project = Project.create(project)
+        grid = [(k, seed) for k in ks for seed in seeds]
+        files = {}
+        if project is not None:
+            folder = project.folder("fits")
+            for k, seed in grid:
+                files[(k, seed)] = _fit_file(
+                    folder, data.corpus_fingerprint, self.engine, k, seed, settings
+                )
+        summaries, kept, todo = {}, {}, []
+        for key in grid:
+            fit = _load_finished(files[key]) if files else None
+            if fit is None:
+                todo.append(key)
+            else:
+                summaries[key], kept[key] = _summary(fit, self.topn), files[key]
+
+        from tqdm.auto import tqdm
+
+        bar = tqdm(
+            total=len(grid),
+            initial=len(kept),
+            desc=f"LDA fits ({self.engine})",
+            unit="fit",
+            disable=not self.progress,
+        )
+        try:
+            for fit in self._run(data, todo, settings):
+                key = (fit.k, fit.seed)
+                summaries[key] = _summary(fit, self.topn)
+                kept[key] = _save(fit, files[key]) if files else fit
+                bar.update(1)
+        finally:
+            bar.close()
+
+        self.fits = FitShelf({key: kept[key] for key in grid})
+        self.scores, self.topic_scores = _score(
+            {key: summaries[key] for key in grid}, prepared, measures, self.topn, self.engine
+        )
+        self.settings_ = settings
+        self.corpus_fingerprint_ = data.corpus_fingerprint
+        if project is not None:
+            self._save_tables(project, files)
+        return self
+
+    def _checked_options(self):
+        """The grid, measures and fit settings, validated (nothing runs before this passes)."""
+        check_choice("sweep", "engine", self.engine, _engines.ENGINES)
+        ks = _grid("k", self.k, minimum=2)
+        if _is_int(self.seeds) and self.seeds < 1:
+            raise param_error(
+                "sweep",
+                "seeds",
+                self.seeds,
+                "a number of seeds >= 1 or a non-empty list of seeds >= 0",
+                "The grid of fits would be empty.",
+            )
+        seeds = (
+            list(range(self.seeds))
+            if _is_int(self.seeds)
+            else _grid("seeds", self.seeds, minimum=0)
+        )
+        measures = [check_choice("sweep", "measures", m, MEASURES) for m in self.measures]
+        if not _is_int(self.topn) or self.topn < 2:
+            raise param_error("sweep", "topn", self.topn, "an integer >= 2")
+        settings = check_settings(
+            "sweep",
+            {
+                "passes": self.passes,
+                "iterations": self.iterations,
+                "chunksize": self.chunksize,
+                "alpha": self.alpha,
+                "eta": self.eta,
+            },
+        )
+        settings.update(holdout=self.holdout, holdout_seed=self.holdout_seed)
+        return ks, seeds, measures, settings
+
+    def _run(self, data: TrainingData, todo: list, settings: dict) -> Iterator[Fit]:
+        """Yield fits as they finish, on a Dask cluster, in worker processes, or here."""
+        if not todo:
+            return
+        if self.client is not None or self.scheduler is not None:
+            client, own = _connect(self.client, self.scheduler, self.fallback_local)
+            if client is not None:
+                yield from _run_dask(client, own, data, todo, self.engine, settings)
+                return
+        import joblib
+
+        n_jobs = min(joblib.effective_n_jobs(self.n_jobs), len(todo))
+        if n_jobs == 1:
+            for k, seed in todo:
+                yield train(data, k, seed, self.engine, settings)
+            return
+        # Workers memory-map one copy of the matrix instead of receiving it with every task.
+        with tempfile.TemporaryDirectory(prefix="tm_compare-sweep-") as tmp:
+            shared = str(data.save(Path(tmp)))
+            tasks = (
+                joblib.delayed(_train_shared)(shared, k, seed, self.engine, settings)
+                for k, seed in todo
+            )
+            yield from joblib.Parallel(
+                n_jobs=n_jobs, backend="loky", return_as="generator_unordered"
+            )(tasks)
+
+    # -- results -----------------------------------------------------------------------------
+    def model(self, k: int, seed: int = 0) -> Fit:
+        """The fit with ``k`` topics and ``seed``."""
+        if (k, seed) not in self.fits:
+            listed = ", ".join(f"(k={a}, seed={b})" for a, b in self.fits)
+            msg = f"This sweep has no fit with k={k!r} and seed={seed!r}. Existing fits are: {listed}."
+            raise SweepError(msg)
+        return self.fits[(k, seed)]
+
+    def recommend(self, measure: str = "npmi"):
+        """Propose a k with the rule spelled out (see :func:`tm_compare.scores.recommend`)."""
+        from .scores import recommend
+
+        return recommend(self.scores, measure=measure)
+
+    def _save_tables(self, project: Project, files: dict) -> None:
+        folder = project.folder("scores")
+        for name, table in (("scores", self.scores), ("topic_scores", self.topic_scores)):
+            with atomic_path(folder / f"{name}.parquet") as tmp:
+                table.to_parquet(tmp, index=False)
+            flat = table.copy()
+            if "top_words" in flat:  # CSV cells hold the words separated by spaces
+                flat["top_words"] = flat["top_words"].map(" ".join)
+            with atomic_path(folder / f"{name}.csv") as tmp:
+                flat.to_csv(tmp, index=False)
+        atomic_write_json(
+            folder / _STATE,
+            {
+                "engine": self.engine,
+                "settings": self.settings_,
+                "topn": self.topn,
+                "corpus_fingerprint": self.corpus_fingerprint_,
+                "fits": [{"k": k, "seed": s, "file": files[(k, s)].name} for k, s in self.fits],
+            },
+        )
+
+    @classmethod
+    def load(cls, project) -> Sweep:
+        """Reopen the last sweep saved in ``project`` (its fits load from disk when asked for)."""
+        project = project if isinstance(project, Project) else Project.open(project)
+        folder = project.path / "scores"
+        try:
+            state = json.loads((folder / _STATE).read_text(encoding="utf-8"))
+            scores = pd.read_parquet(folder / "scores.parquet")
+            topic_scores = pd.read_parquet(folder / "topic_scores.parquet")
+        except FileNotFoundError as exc:
+            msg = (
+                f"The project {str(project.path)!r} has no saved sweep ({exc.filename} is "
+                "missing). Run `tm-compare sweep PROJECT` or sweep(prepared, project=...) first."
+            )
+            raise ProjectError(msg) from exc
+        except (OSError, ValueError) as exc:  # a damaged score table or sweep.json
+            msg = (
+                f"The sweep saved in {str(folder)!r} cannot be read ({type(exc).__name__}: "
+                f"{exc}). Run the sweep again (`tm-compare sweep {project.path}` with the same "
+                "grid): finished fits are reused."
+            )
+            raise CorruptArtifactError(msg) from exc
+        topic_scores["top_words"] = topic_scores["top_words"].map(list)
+        s = state["settings"]
+        self = cls(
+            sorted({f["k"] for f in state["fits"]}),
+            sorted({f["seed"] for f in state["fits"]}),
+            state["engine"],
+            project=project,
+            holdout=s["holdout"],
+            holdout_seed=s["holdout_seed"],
+            topn=state["topn"],
+            passes=s["passes"],
+            iterations=s["iterations"],
+            chunksize=s["chunksize"],
+            alpha=s["alpha"],
+            eta=s["eta"],
+        )
+        self.fits = FitShelf(
+            {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]}
+        )
+        self.scores, self.topic_scores = scores, topic_scores
+        self.settings_, self.corpus_fingerprint_ = s, state["corpus_fingerprint"]
+        return self
+
+
+def sweep(prepared, k=range(5, 41, 5), seeds=3, engine="gensim", **options) -> Sweep:
+    """Fit and score LDA over a grid of topic counts and seeds; see :class:`Sweep`.
+
+    >>> result = sweep(prepared, k=range(5, 41, 5), seeds=3, project="study")  # doctest: +SKIP
+    >>> result.scores                 # one row per fit                            # doctest: +SKIP
+    >>> result.recommend().rule       # the k proposed, and why, in words          # doctest: +SKIP
+    """
+    return Sweep(k, seeds, engine, **options).fit(prepared)
+
+
+class FitShelf(Mapping):
+    """Fits of a sweep by ``(k, seed)``; those saved in a project are read when asked for."""
+
+    def __init__(self, entries: dict):
+        self._entries = entries
+
+    def __getitem__(self, key) -> Fit:
+        entry = self._entries[key]
+        return Fit.load(entry) if isinstance(entry, Path) else entry
+
+    def __contains__(self, key) -> bool:  # without reading the file
+        return key in self._entries
+
+    def __iter__(self):
+        return iter(self._entries)
+
+    def __len__(self) -> int:
+        return len(self._entries)
+
+
+# -- grid and storage helpers --------------------------------------------------------------------
+def _is_int(value) -> bool:
+    return isinstance(value, int | np.integer) and not isinstance(value, bool)
+
+
+def _grid(name: str, values, minimum: int) -> list[int]:
+    items = [values] if _is_int(values) else list(values) if isinstance(values, Iterable) else None
+    accepted = f"an integer or a non-empty list of integers >= {minimum}"
+    if not items:
+        raise param_error("sweep", name, values, accepted, "The grid of fits would be empty.")
+    for item in items:
+        if not _is_int(item) or item < minimum:
+            raise param_error("sweep", name, item, accepted)
+    return sorted({int(item) for item in items})
+
+
+def _fit_file(folder: Path, corpus: str, engine: str, k: int, seed: int, settings: dict) -> Path:
+    # Keyed by everything that changes the model: other settings make other files.
+    key = _fingerprint("sweep fit", corpus, engine, k, seed, settings)
+    return folder / f"{engine}-k{k}-seed{seed}-{key}.npz"
+
+
+def _load_finished(path: Path) -> Fit | None:
+    if not path.exists():
+        return None
+    try:
+        return Fit.load(path)
+    except CorruptArtifactError as exc:
+        aside = path.with_name(path.name + ".corrupt")
+        os.replace(path, aside)
+        warnings.warn(f"{exc} It was moved to {str(aside)!r} and will be refit.", stacklevel=3)
+        return None
+
+
+def _save(fit: Fit, path: Path) -> Path:
+    try:
+        return fit.save(path)
+    except OSError as exc:
+        msg = (
+            f"Could not save the fit k={fit.k}, seed={fit.seed} to {str(path)!r}: {exc}. "
+            f"Fits finished before it are kept in {str(path.parent)!r}; free disk space and "
+            "run the same sweep again to resume."
+        )
+        raise SweepError(msg) from exc
+
+
+def _summary(fit: Fit, topn: int) -> dict:
+    return {
+        "fit_seconds": fit.fit_seconds,
+        "perplexity": fit.perplexity,
+        "fingerprint": fit.fingerprint,
+        "top": fit.top_words(max(topn, DIVERSITY_TOPN)),
+    }
+
+
+# -- running fits elsewhere ----------------------------------------------------------------------
+_SHARED: dict[str, TrainingData] = {}
+
+
+def _train_shared(shared, k, seed, engine, settings) -> Fit:
+    """Worker side: ``shared`` is a folder written by TrainingData.save (read once per process)."""
+    if isinstance(shared, TrainingData):  # scattered to Dask workers
+        return train(shared, k, seed, engine, settings)
+    if shared not in _SHARED:
+        _SHARED.clear()
+        _SHARED[shared] = TrainingData.load(Path(shared))
+    return train(_SHARED[shared], k, seed, engine, settings)
+
+
+def _connect(client, scheduler, fallback_local: bool):
+    """Return (client, owned) or (None, False) when falling back to local fits."""
+    if client is not None:
+        return client, False
+    distributed = require("distributed", "dask")
+    try:
+        return distributed.Client(scheduler, timeout=CONNECT_TIMEOUT, set_as_default=False), True
+    except (OSError, TimeoutError) as exc:
+        msg = (
+            f"The Dask scheduler at {scheduler!r} did not answer within {CONNECT_TIMEOUT} s "
+            f"({type(exc).__name__}). Check the address (e.g. 'tcp://HOST:8786') and that the "
+            "scheduler is running, or pass fallback_local=True to fit on this machine instead."
+        )
+        if not fallback_local:
+            raise ClusterUnavailableError(msg) from exc
+        warnings.warn(f"{msg} Fitting on this machine.", stacklevel=4)
+        return None, False
+
+
+def _run_dask(client, own: bool, data: TrainingData, todo: list, engine: str, settings: dict):
+    from distributed import as_completed
+
+    futures = []
+    try:
+        # Sent once to every worker, not once per fit.
+        shared = client.scatter(data, broadcast=True)
+        futures = [
+            client.submit(_train_shared, shared, k, seed, engine, settings, pure=False)
+            for k, seed in todo
+        ]
+        for future in as_completed(futures):
+            yield future.result()
+    finally:
+        client.cancel(futures)
+        if own:
+            client.close()
+
+
+# -- scoring -------------------------------------------------------------------------------------
+def _score(summaries: dict, prepared, measures: list[str], topn: int, engine: str):
+    """Score tables for the fits; word statistics are counted once for the whole grid."""
+    from .scores import CoherenceScorer, diversity, stability
+
+    keys = list(summaries)
+    top = {key: [words[:topn] for words in summaries[key]["top"]] for key in keys}
+    scorer = CoherenceScorer(
+        prepared.texts, prepared.dictionary, measures=tuple(measures), topn=topn
+    ).fit([top[key] for key in keys])
+    rows, topic_rows = [], []
+    for key in keys:
+        k, seed = key
+        per_topic = scorer.score(top[key])
+        frame = pd.DataFrame(
+            {
+                "k": k,
+                "seed": seed,
+                "topic": np.arange(k),
+                "top_words": top[key],
+                **{m: per_topic[m] for m in measures},
+            }
+        )
+        topic_rows.append(frame)
+        rows.append(
+            {
+                "k": k,
+                "seed": seed,
+                "engine": engine,
+                "fit_seconds": summaries[key]["fit_seconds"],
+                **{m: float(np.mean(per_topic[m])) for m in measures},
+                "perplexity": summaries[key]["perplexity"],
+                "diversity": diversity(summaries[key]["top"], topn=DIVERSITY_TOPN),
+                "fingerprint": summaries[key]["fingerprint"],
+            }
+        )
+    fit_stability, topic_stability = {}, {}
+    for k in sorted({k for k, _ in keys}):
+        by_seed = {seed: top[(kk, seed)] for kk, seed in keys if kk == k}
+        fit_table, topic_table, _ = stability(by_seed, depth=topn)  # NaN with one seed
+        for row in fit_table.itertuples():
+            fit_stability[(k, row.seed)] = row.stability
+        for row in topic_table.itertuples():
+            topic_stability[(k, row.seed, row.topic)] = row.stability
+    scores = pd.DataFrame(rows)
+    scores.insert(len(scores.columns) - 2, "stability", [float(fit_stability[key]) for key in keys])
+    topic_scores = pd.concat(topic_rows, ignore_index=True)
+    topic_scores["stability"] = [
+        float(topic_stability[key])
+        for key in zip(topic_scores["k"], topic_scores["seed"], topic_scores["topic"], strict=True)
+    ]
+    return scores, topic_scores
+
+
+def load_sweep(project) -> Sweep:
+    """The sweep saved in ``project`` (its fits load from disk when asked for)."""
+    return Sweep.load(project)
+
+
+def load_fit(project, k: int | None = None, seed: int | None = None) -> Fit:
+    """One fit of ``project``'s saved sweep; by default the one the sweep recommends."""
+    result = Sweep.load(project)
+    if k is None:
+        pick = result.recommend()
+        k, seed = pick.k, pick.seed if seed is None else seed
+    return result.model(k, 0 if seed is None else seed)

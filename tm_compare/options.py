@@ -1,0 +1,116 @@
+"""Every choice a user makes, with its one name, its one default and what it accepts.
+
+The Python API, the command line and the views read this table; none keeps a copy. A function
+signature takes its default from here (``n_boot=default("n_boot")``), a CLI flag takes its
+default, choices and help text from here (:func:`cli_help`), and a view offers the choices
+listed here. Change a default in this file and every surface follows.
+
+Names for "how many to show" are one per kind: ``n_terms`` (terms of a topic), ``n_docs``
+(documents per topic and source), ``n_groups`` (readers or outlets listed), ``n_topics``
+(topics listed). Randomness is always ``random_state``; a fitted model is always ``fit``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from ._validation import check_choice
+
+__all__ = ["OPTIONS", "Option", "check", "choices", "cli_help", "default"]
+
+
+@dataclass(frozen=True)
+class Option:
+    """One user choice: its name, default, accepted values (None: any of its type) and help."""
+
+    name: str
+    default: Any
+    choices: tuple | None
+    help: str
+
+
+_TABLE = (
+    # -- comparison between sources
+    Option(
+        "weighting",
+        "exposure",
+        ("exposure", "unique"),
+        "count documents by exposure (their weight) or each article once",
+    ),
+    Option(
+        "cluster",
+        "group",
+        ("group", "outlet", None),
+        "what the bootstrap resamples: readers ('group'), outlets, or documents (None); "
+        "'group' falls back to documents when the corpus has no group column, and says so",
+    ),
+    Option("n_boot", 1000, None, "bootstrap replicates"),
+    Option("ci", 0.95, None, "coverage of the intervals"),
+    Option("interval", "percentile", ("percentile", "bca"), "bootstrap interval method"),
+    Option(
+        "resampling",
+        "multinomial",
+        ("multinomial", "poisson"),
+        "how replicates draw units (Poisson is faster on many units)",
+    ),
+    Option("fdr", 0.05, None, "false discovery rate of the Benjamini-Hochberg adjustment"),
+    Option(
+        "against",
+        "each",
+        ("each", "rest"),
+        "compare every pair of sources, or each source with all others pooled",
+    ),
+    Option("random_state", 0, None, "seed of every random draw (bootstrap, fits, held-out set)"),
+    # -- terms and documents
+    Option(
+        "method",
+        "probability",
+        ("probability", "lift", "frex", "relevance"),
+        "term ranking: p(term|topic), lift (Taddy 2012), FREX (Bischof & Airoldi 2012), "
+        "relevance (Sievert & Shirley 2014)",
+    ),
+    Option("frex_weight", 0.5, None, "FREX: weight of exclusivity against frequency (0-1)"),
+    Option("lam", 0.6, None, "relevance: weight of p(term|topic) against lift (0-1)"),
+    Option("n_terms", 10, None, "terms shown per topic"),
+    Option("n_docs", 5, None, "representative documents shown per topic and source"),
+    Option("n_groups", 5, None, "heaviest readers or outlets listed per source"),
+    Option("n_topics", 5, None, "most different topics listed per comparison"),
+    # -- the sweep and its fits
+    Option("k", tuple(range(5, 41, 5)), None, "numbers of topics to fit"),
+    Option("seeds", 3, None, "fits per k: a count (3 means 0, 1, 2) or a list of seeds"),
+    Option("engine", "gensim", ("gensim", "sklearn"), "LDA implementation"),
+    Option("measure", "npmi", ("npmi", "c_v", "uci", "umass"), "coherence measure"),
+    Option("holdout", 0.1, None, "share of documents held out for perplexity"),
+    Option("passes", 10, None, "passes over the corpus per fit"),
+    Option("iterations", 50, None, "inference iterations per document"),
+    Option("chunksize", 2000, None, "documents per online update"),
+    Option("alpha", "symmetric", None, "document-topic prior"),
+    Option("eta", "symmetric", None, "topic-word prior"),
+)
+
+OPTIONS: dict[str, Option] = {o.name: o for o in _TABLE}
+
+
+def default(name: str) -> Any:
+    """The default of option ``name``."""
+    return OPTIONS[name].default
+
+
+def choices(name: str) -> tuple:
+    """The accepted values of option ``name`` (only for options with a fixed list)."""
+    return OPTIONS[name].choices
+
+
+def check(owner: str, name: str, value: Any) -> Any:
+    """``value`` if option ``name`` accepts it, else the one message template of
+    :func:`tm_compare._validation.check_choice` (naming ``owner``, the value and the choices)."""
+    allowed = OPTIONS[name].choices
+    return value if allowed is None else check_choice(owner, name, value, allowed)
+
+
+def cli_help(name: str) -> str:
+    """Help text for the CLI flag of option ``name``: the help, then the default in brackets."""
+    option = OPTIONS[name]
+    shown = "none" if option.default is None else option.default
+    return f"{option.help} [{shown}]"

@@ -1,0 +1,636 @@
+"""Results that leave the notebook: tables as CSV and Parquet, charts as PNG and SVG.
+
+:func:`collect` gathers every table of one model of a project's sweep in a
+:class:`Results`; :func:`write_tables`, :func:`write_charts` and the report
+(:func:`tm_compare.report.write_report`) all read those same table objects,
+so a number in the report is the number in the exported file.
+
+:func:`document_topics` joins each document's topic shares back to the
+user's own document ids and metadata, one row per document, ready for a
+regression in another package. :data:`COLUMNS` documents every column of
+every exported table; :func:`data_dictionary` writes it as ``columns.md``.
+
+Charts are converted with vl-convert, which runs offline.
+"""
+
+from __future__ import annotations
+
+import os
+import warnings
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from .._atomic import atomic_path, atomic_write_bytes, atomic_write_text
+from .._validation import check_choice, param_error
+from ..errors import ProjectError
+
+TABLE_FORMATS = ("csv", "parquet")
+CHART_FORMATS = ("png", "svg")
+EXPORT_FOLDER = "report"  # inside the project
+TERM_METHODS = ("probability", "frex", "relevance", "lift")
+_SETTINGS = {"weighting": "exposure", "cluster": "group", "n_boot": 1000, "random_state": 0}
+
+
+class Results:
+    """Every table of one model of a project's sweep; see :func:`collect`.
+
+    Attributes
+    ----------
+    project, sweep, fit, prepared, corpus
+        Where the tables come from (``corpus`` is None when the project holds none).
+    recommendation
+        ``sweep.recommend()``: the proposed k, its seed and the rule in words.
+    settings : dict
+        Weighting, cluster column, bootstrap replicates and seed of the comparison.
+    tables : dict of DataFrame
+        By name, the tables :data:`COLUMNS` describes.
+    captions : dict
+        Topic number -> a short caption (the settled label, else the top three words).
+    """
+
+    def __init__(self, project, sweep, fit, prepared, corpus, settings):
+        from ..results import ModelTables
+
+        self.project, self.sweep, self.fit = project, sweep, fit
+        self.prepared, self.corpus, self.settings = prepared, corpus, settings
+        self.recommendation = sweep.recommend()
+        # The widgets' table cache: the report's source chart is drawn from these same objects.
+        self.model_tables = ModelTables(
+            fit, prepared, n_boot=settings["n_boot"], random_state=settings["random_state"]
+        )
+        self.tables: dict[str, pd.DataFrame] = {}
+        self._build()
+        self.read_labels()
+
+    def __repr__(self) -> str:
+        return f"Results(k={self.fit.k}, seed={self.fit.seed}, tables={sorted(self.tables)})"
+
+    @property
+    def sources(self) -> list[str]:
+        return np.unique(np.asarray(self.prepared.sources).astype(str)).tolist()
+
+    def _build(self) -> None:
+        from ..compare.documents import representative_documents
+        from ..compare.prevalence import cap_effect
+        from ..compare.terms import term_rankings
+
+        fit, prepared, s = self.fit, self.prepared, self.settings
+        t = self.tables
+        t["scores"] = self.sweep.scores.copy()
+        t["topic_scores"] = self.sweep.topic_scores.query(
+            "k == @fit.k and seed == @fit.seed"
+        ).reset_index(drop=True)
+        t["recommendation"] = self.recommendation.table.copy()
+        if len(self.sources) > 1:
+            tables = self.model_tables.comparison(s["weighting"], s["cluster"])
+            t["prevalence"], t["differences"] = tables["prevalence"], tables["differences"]
+            if tables["influence"] is not None:  # None when documents are resampled
+                t["influence"] = tables["influence"]
+            if "influence" in t and t["influence"]["flagged"].any():
+                threshold = float(t["influence"]["threshold"].iloc[0])
+                t["cap_effect"] = cap_effect(
+                    fit,
+                    prepared,
+                    cap_group_share=threshold,
+                    weighting=s["weighting"],
+                    cluster=s["cluster"],
+                )
+        else:
+            from ..compare.prevalence import prevalence
+
+            t["prevalence"] = prevalence(fit, prepared, **s)
+        t["terms"] = pd.concat(
+            [term_rankings(fit, m, topn=15, prepared=prepared) for m in TERM_METHODS],
+            ignore_index=True,
+        )
+        t["documents"] = representative_documents(fit, prepared, per_source=3)
+        t["document_topics"] = document_topics(fit, prepared, self.corpus)
+        t["removals"] = prepared.report.to_frame()
+
+    def read_labels(self, store=None) -> None:
+        """(Re)read labels, consensus and agreement of this model from the project's store."""
+        from ..labels.store import LabelStore
+
+        path = Path(self.project.path) / "labels.sqlite"
+        t = self.tables
+        if store is None and not path.exists():
+            t["labels"], t["consensus"], t["agreement"] = _empty_labels()
+        else:
+            own = store is None
+            store = store or LabelStore(path, read_only=True)
+            try:
+                t["labels"] = store.current(self.fit)
+                t["consensus"] = store.consensus(self.fit)
+                t["consensus"]["sources"] = t["consensus"]["sources"].map("; ".join)
+                t["agreement"] = _agreement(store, self.fit, t["labels"])
+            finally:
+                if own:
+                    store.close()
+        names = dict(zip(t["consensus"]["topic"], t["consensus"]["name"], strict=True))
+        words = self.fit.top_words(3)
+        self.captions = {
+            i: f"{i} · {names.get(i) or ' '.join(words[i])}" for i in range(self.fit.k)
+        }
+        # The chart adapter reads captions from the table cache.
+        self.model_tables.captions = self.captions
+
+    def chart_frames(self, pair=None):
+        """Prevalence and difference frames of :func:`tm_compare.charts.source_chart`."""
+        s = self.settings
+        pairs = self.model_tables.pairs(s["weighting"], s["cluster"])
+        return self.model_tables.chart_frames(s["weighting"], s["cluster"], pair or pairs[0])
+
+
+def _empty_labels():
+    from ..labels.store import COLUMNS as LABEL_COLUMNS
+
+    labels = pd.DataFrame(columns=list(LABEL_COLUMNS))
+    consensus = pd.DataFrame(columns=list(COLUMNS["consensus"][1]))
+    agreement = pd.DataFrame(
+        columns=["field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units"]
+    )
+    return labels, consensus, agreement
+
+
+def _agreement(store, fit, labels: pd.DataFrame) -> pd.DataFrame:
+    if labels.empty or store.in_blind_round(fit):
+        return _empty_labels()[2]
+    fields = [f for f in ("verdict", "category") if labels[f].notna().any()]
+    return store.agreement(fit, fields=fields) if fields else _empty_labels()[2]
+
+
+def collect(project, k: int | None = None, seed: int | None = None, **settings) -> Results:
+    """Every table of one model of ``project``'s sweep (default: the recommended model).
+
+    Parameters
+    ----------
+    project : Project or path
+    k, seed : int, optional
+        The model; ``k`` alone takes seed 0. Both None: the sweep's recommendation.
+    weighting, cluster, n_boot, random_state
+        Settings of the comparison (defaults: exposure weighting, clusters of ``group``,
+        1000 bootstrap replicates, seed 0).
+    """
+    from ..models.sweeps import load_sweep
+    from ..project import Project
+    from ..text.corpus import load_corpus
+    from ..text.prepared import load_prepared
+
+    unknown = set(settings) - set(_SETTINGS)
+    if unknown:
+        accepted = "keywords " + ", ".join(map(repr, _SETTINGS))
+        raise param_error("collect", sorted(unknown)[0], settings[sorted(unknown)[0]], accepted)
+    s = {**_SETTINGS, **settings}
+    project = project if isinstance(project, Project) else Project.open(project)
+    result = load_sweep(project)
+    if seed is not None and k is None:
+        raise param_error("collect", "k", k, "an integer when seed is given", "Give --k too.")
+    if k is None:
+        pick = result.recommend()
+        k, seed = pick.k, pick.seed
+    fit = result.model(int(k), int(seed or 0))
+    prepared = load_prepared(project, fit.corpus_fingerprint)
+    try:
+        corpus = load_corpus(project)
+    except ProjectError:
+        corpus = None  # the prepared corpus alone has ids, sources and titles
+    groups = np.asarray(prepared.groups, dtype=object)
+    if s["cluster"] == "group" and not any(g is not None and g == g for g in groups):
+        s["cluster"] = None  # no groups given: resample documents
+    return Results(project, result, fit, prepared, corpus, s)
+
+
+def document_topics(fit, prepared, corpus=None) -> pd.DataFrame:
+    """Each document's topic shares with its own id and metadata, one row per document.
+
+    Parameters
+    ----------
+    fit : Fit with ``doc_topic``, ``doc_ids`` and ``heldout``.
+    prepared : PreparedCorpus the fit was trained on.
+    corpus : Corpus, optional
+        Adds the user's own metadata columns (those beyond the canonical ones) from
+        ``corpus.frame``, matched on ``id``.
+
+    Returns
+    -------
+    DataFrame: ``id``, ``source``, ``weight``, ``group``, ``title``, ``url``, ``date``,
+    any metadata columns, ``merged_ids`` (ids of copies merged into this document, ``"; "``
+    separated), ``heldout`` (left out of training), then ``topic_0`` ... ``topic_{k-1}``
+    (the document's share of each topic; each row sums to 1).
+    """
+    ids = list(prepared.doc_ids)
+    if list(fit.doc_ids) != ids:
+        msg = (
+            "The model's doc_ids do not match the prepared corpus's documents (document_topics). "
+            "Use the prepared corpus the model was fitted on (load_prepared(project, "
+            "fit.corpus_fingerprint))."
+        )
+        raise ProjectError(msg)
+    meta = prepared.meta.reset_index(drop=True)
+    keep = [c for c in ("id", "source", "weight", "group", "title", "url", "date") if c in meta]
+    out = meta[keep].copy()
+    extra = [c for c in meta.columns if c not in keep and c not in _PREPARED_ONLY]
+    if corpus is not None:
+        from ..text.corpus import CANONICAL
+
+        frame = corpus.frame
+        extra = [c for c in frame.columns if c not in CANONICAL and c not in out]
+        out = out.merge(frame[["id", *extra]], on="id", how="left", validate="one_to_one")
+    else:
+        for column in extra:
+            out[column] = meta[column]
+    out["merged_ids"] = meta["duplicate_ids"].map(lambda v: "; ".join(map(str, v)))
+    out["heldout"] = np.asarray(fit.heldout, dtype=bool)
+    shares = pd.DataFrame(
+        np.asarray(fit.doc_topic, dtype=float), columns=[f"topic_{t}" for t in range(fit.k)]
+    )
+    return pd.concat([out, shares], axis=1)
+
+
+_PREPARED_ONLY = ("text", "canonical_url", "duplicate_ids", "cross_source_duplicate")
+
+
+def write_tables(results: Results, folder, formats=TABLE_FORMATS) -> list[Path]:
+    """Write every table of ``results`` to ``folder`` as ``NAME.csv`` / ``NAME.parquet``."""
+    formats = _formats("write_tables", "formats", formats, TABLE_FORMATS)
+    folder = Path(folder)
+    written = []
+    for name, table in results.tables.items():
+        flat = _flat(table)
+        for fmt in formats:
+            target = folder / f"{name}.{fmt}"
+            with atomic_path(target) as tmp:
+                if fmt == "csv":
+                    flat.to_csv(tmp, index=False)
+                else:
+                    flat.to_parquet(tmp, index=False)
+            written.append(target)
+    written.append(data_dictionary(folder / "columns.md", list(results.tables)))
+    return written
+
+
+def _flat(table: pd.DataFrame) -> pd.DataFrame:
+    """Lists in cells become space-separated text, so CSV and Parquet hold the same values."""
+    out = table.copy()
+    for column in out.columns:
+        if out[column].map(lambda v: isinstance(v, list | tuple | np.ndarray)).any():
+            out[column] = out[column].map(
+                lambda v: " ".join(map(str, v)) if isinstance(v, list | tuple | np.ndarray) else v
+            )
+    return out
+
+
+def charts(results: Results, measure: str = "npmi") -> dict:
+    """The charts of ``results`` by file stem: the sweep, the sources, each topic's terms."""
+    from ..views import charts as ch
+
+    pick = results.recommendation
+    scores = results.tables["scores"]
+    out = {}
+    for column, title in ((measure, measure.upper()), ("stability", "stability")):
+        if column in scores and scores[column].notna().any():  # one seed: no stability
+            out[f"sweep-{column}"] = ch.sweep_chart(
+                scores.assign(value=scores[column]),
+                title=title,
+                recommended_k=pick.k,
+                rule=pick.rule if column == measure else None,
+                picked=(results.fit.k, results.fit.seed),
+            )
+    if "differences" in results.tables:
+        prev, diff = results.chart_frames()
+        out["sources"] = ch.source_chart(prev, diff, contrast=_contrast(results))
+    terms = results.tables["terms"].query("method == 'frex'")
+    for topic in range(results.fit.k):
+        out[f"terms-topic{topic}"] = ch.terms_chart(
+            terms[["topic", "term", "score", "rank"]], focus=topic, title="FREX score"
+        )
+    return out
+
+
+def _contrast(results: Results) -> str:
+    diff = results.tables["differences"]
+    return f"{diff['source'].iloc[0]} minus {diff['other'].iloc[0]}"
+
+
+def chart_svg(chart) -> str:
+    """An Altair chart as SVG text (offline, via vl-convert)."""
+    import vl_convert
+
+    return vl_convert.vegalite_to_svg(chart.to_dict())
+
+
+def write_charts(results: Results, folder, formats=CHART_FORMATS) -> list[Path]:
+    """Write every chart of :func:`charts` to ``folder`` as PNG (2x scale) and SVG."""
+    import vl_convert
+
+    formats = _formats("write_charts", "formats", formats, CHART_FORMATS)
+    written = []
+    for stem, chart in charts(results).items():
+        spec = chart.to_dict()
+        for fmt in formats:
+            data = (
+                vl_convert.vegalite_to_png(spec, scale=2)
+                if fmt == "png"
+                else vl_convert.vegalite_to_svg(spec).encode("utf-8")
+            )
+            written.append(atomic_write_bytes(Path(folder) / "charts" / f"{stem}.{fmt}", data))
+    return written
+
+
+def export(
+    project,
+    k: int | None = None,
+    seed: int | None = None,
+    *,
+    charts=CHART_FORMATS,
+    tables=TABLE_FORMATS,
+    out: str | os.PathLike | None = None,
+    results: Results | None = None,
+) -> list[Path]:
+    """Write tables, the data dictionary and charts of one model; return the paths written.
+
+    ``out`` defaults to ``PROJECT/report``; pass ``results`` (from :func:`collect`) to reuse
+    tables already computed. Empty ``charts`` or ``tables`` skips them.
+    """
+    if results is None:
+        results = collect(project, k, seed)
+    folder = Path(out) if out is not None else results.project.folder(EXPORT_FOLDER)
+    written = []
+    if tables:
+        written += write_tables(results, folder, tables)
+    if charts:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", UserWarning)
+            written += write_charts(results, folder, charts)
+    return written
+
+
+def _formats(owner, name, formats, accepted) -> list[str]:
+    items = [formats] if isinstance(formats, str) else list(formats)
+    for item in items:
+        check_choice(owner, name, item, accepted)
+    return items
+
+
+def data_dictionary(path=None, tables=None) -> str | Path:
+    """The columns of each exported table, as Markdown (written to ``path`` when given)."""
+    lines = [
+        "# Exported tables and their columns",
+        "",
+        "Each table is written as NAME.csv and NAME.parquet with the same values. "
+        "Lists in cells (top words, ids) are space- or '; '-separated text.",
+    ]
+    for name in tables or COLUMNS:
+        about, columns = COLUMNS[name]
+        lines += ["", f"## {name}", "", about, "", "| column | meaning |", "|---|---|"]
+        lines += [f"| `{c}` | {d} |" for c, d in columns.items()]
+    text = "\n".join(lines) + "\n"
+    return text if path is None else atomic_write_text(path, text)
+
+
+def undocumented(name: str, table: pd.DataFrame) -> list[str]:
+    """Columns of ``table`` that :data:`COLUMNS` does not describe (``topic_N`` count as one)."""
+    known = COLUMNS[name][1]
+    return [
+        c
+        for c in table.columns
+        if c not in known and not (c.startswith("topic_") and name == "document_topics")
+    ]
+
+
+_SETTING_COLUMNS = {
+    "weighting": "'exposure' (documents count with their weight) or 'unique' (each once)",
+    "cluster": "column whose values were resampled as clusters, or 'document'",
+    "interval": "bootstrap interval method ('percentile' or 'bca')",
+    "ci_level": "interval level, e.g. 0.95",
+    "n_boot": "bootstrap replicates",
+    "resampling": "'multinomial' or 'poisson' bootstrap weights",
+    "model_uncertainty": "whether each document's topic shares were also redrawn",
+    "cap_group_share": "cap on a cluster's share of its source's weight, if any",
+}
+
+#: name -> (what the table is, {column: meaning}).
+COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
+    "scores": (
+        "One row per fitted model of the sweep.",
+        {
+            "k": "number of topics",
+            "seed": "random seed of the fit",
+            "engine": "LDA implementation ('gensim' or 'sklearn')",
+            "fit_seconds": "seconds spent fitting",
+            "npmi": "mean NPMI coherence of the topics' top words (window 10; higher is better)",
+            "c_v": "mean C_V coherence (window 110)",
+            "uci": "mean UCI coherence (PMI, window 10)",
+            "umass": "mean UMass coherence (document co-occurrence)",
+            "perplexity": "held-out per-word perplexity, natural log (lower is better)",
+            "stability": "mean agreement of the topics' top words with the other seeds' fits at the same k (0-1)",
+            "diversity": "share of distinct words among all topics' top 25 words (0-1)",
+            "fingerprint": "content hash of the fitted model (labels refer to it)",
+        },
+    ),
+    "topic_scores": (
+        "One row per topic of the chosen model.",
+        {
+            "k": "number of topics",
+            "seed": "random seed of the fit",
+            "topic": "topic number (0-based)",
+            "top_words": "the topic's most probable words, space-separated",
+            "npmi": "NPMI coherence of the topic",
+            "c_v": "C_V coherence of the topic",
+            "uci": "UCI coherence of the topic",
+            "umass": "UMass coherence of the topic",
+            "stability": "how well the topic is found again by the other seeds (0-1)",
+        },
+    ),
+    "recommendation": (
+        "The per-k summary the recommended k was chosen from.",
+        {
+            "k": "number of topics",
+            "fits": "fits (seeds) at this k",
+            "npmi_mean": "mean NPMI over seeds",
+            "stability_mean": "mean stability over seeds",
+            "stability_se": "standard error of stability over seeds",
+            "c_v_mean": "mean C_V over seeds",
+            "uci_mean": "mean UCI over seeds",
+            "umass_mean": "mean UMass over seeds",
+            "perplexity_mean": "mean held-out perplexity over seeds",
+            "diversity_mean": "mean diversity over seeds",
+            "candidate": "stability within one standard error of the most stable k",
+            "chosen": "the recommended k",
+        },
+    ),
+    "prevalence": (
+        "Share of each source that each topic takes, with bootstrap intervals.",
+        {
+            "source": "source",
+            "topic": "topic number",
+            "prevalence": "weighted mean share of the topic over the source's documents",
+            "ci_low": "lower end of the interval",
+            "ci_high": "upper end of the interval",
+            "std_error": "standard deviation of the bootstrap replicates",
+            "n_documents": "documents of the source",
+            "n_units": "clusters (or documents) resampled",
+            "total_weight": "sum of the weights counted",
+            **_SETTING_COLUMNS,
+        },
+    ),
+    "differences": (
+        "Differences in prevalence between sources, most different first.",
+        {
+            "source": "first source",
+            "other": "second source ('rest': all others pooled)",
+            "topic": "topic number",
+            "prevalence": "prevalence in the first source",
+            "prevalence_other": "prevalence in the second source",
+            "difference": "prevalence minus prevalence_other",
+            "diff_ci_low": "lower end of the difference's interval",
+            "diff_ci_high": "upper end of the difference's interval",
+            "ratio": "prevalence / prevalence_other",
+            "ratio_ci_low": "lower end of the ratio's interval",
+            "ratio_ci_high": "upper end of the ratio's interval",
+            "p_value": "two-sided bootstrap p-value of 'no difference'",
+            "p_adjusted": "p-value adjusted across topics (Benjamini-Hochberg)",
+            "significant": "p_adjusted <= fdr",
+            "rank": "1 = most different in this comparison",
+            "test": "the test in words",
+            "fdr": "false discovery rate used",
+            **_SETTING_COLUMNS,
+        },
+    ),
+    "influence": (
+        "The heaviest clusters (e.g. readers) of each source, and any above the threshold.",
+        {
+            "source": "source",
+            "group": "cluster value (e.g. a reader id)",
+            "rank": "1 = heaviest in the source",
+            "n_documents": "documents of the cluster in the source",
+            "weight": "summed weight of those documents",
+            "share": "the cluster's share of the source's weight",
+            "flagged": "share above the threshold",
+            "threshold": "share above which a cluster is flagged",
+            "weighting": "'exposure' or 'unique'",
+            "cluster": "column holding the clusters",
+        },
+    ),
+    "cap_effect": (
+        "Prevalence before and after capping every cluster's share at the influence threshold.",
+        {
+            "source": "source",
+            "topic": "topic number",
+            "prevalence_before": "prevalence as reported",
+            "prevalence_after": "prevalence with cluster shares capped",
+            "change": "after minus before",
+            "cap_group_share": "the cap",
+            "weighting": "'exposure' or 'unique'",
+            "cluster": "column holding the clusters",
+        },
+    ),
+    "terms": (
+        "The top 15 terms of every topic under four rankings.",
+        {
+            "topic": "topic number",
+            "rank": "1 = first",
+            "term": "the term",
+            "term_id": "its id in the prepared dictionary",
+            "score": "the ranking's score",
+            "probability": "p(term | topic)",
+            "method": "'probability', 'frex', 'relevance' or 'lift'",
+            "parameter": "FREX weight or relevance lambda (empty otherwise)",
+        },
+    ),
+    "documents": (
+        "The documents that show each topic best, per source.",
+        {
+            "topic": "topic number",
+            "source": "source",
+            "rank": "1 = highest share",
+            "id": "your document id",
+            "title": "title",
+            "outlet": "outlet, when the corpus has one",
+            "date": "date",
+            "exposure": "the document's weight",
+            "topic_share": "the document's share of the topic",
+            "snippet": "text around the densest run of the topic's top terms",
+            "matched_terms": "top terms found in the snippet",
+            "n_collapsed": "near-duplicates folded into this row",
+            "collapsed_ids": "their ids, '; '-separated",
+            "cross_source_duplicate": "a near-copy exists in another source",
+        },
+    ),
+    "document_topics": (
+        "One row per modelled document: your id and metadata, then one column per topic.",
+        {
+            "id": "your document id",
+            "source": "source",
+            "weight": "exposure weight (1 when none was given)",
+            "group": "group (e.g. reader), empty when none",
+            "title": "title",
+            "url": "URL",
+            "date": "date",
+            "outlet": "outlet (demo corpus; your own metadata columns appear likewise)",
+            "merged_ids": "ids of copies merged into this document, '; '-separated",
+            "heldout": "left out of training (used for held-out perplexity)",
+            "topic_N": "the document's share of topic N (each row sums to 1)",
+        },
+    ),
+    "removals": (
+        "What intake and preparation removed, merged or flagged, and why.",
+        {
+            "stage": "'intake' or 'prepare'",
+            "kind": "'removed', 'merged' or 'flagged'",
+            "reason": "why",
+            "source": "source",
+            "count": "rows or documents",
+            "example": "one id it happened to",
+        },
+    ),
+    "labels": (
+        "Each analyst's current label of each topic.",
+        {
+            "id": "row number of this version in the store's history",
+            "uid": "unique id of this label version",
+            "model": "fingerprint of the model",
+            "topic": "topic number",
+            "analyst": "who labelled it",
+            "version": "version of this analyst's label of the topic",
+            "name": "the topic's name",
+            "note": "free note",
+            "verdict": "'usable', 'mixed', 'noise' or a verdict of the team's codebook",
+            "category": "codebook category, if any",
+            "confidence": "0-1, if given",
+            "retracted": "withdrawn",
+            "round": "id of the coding round the label was saved in",
+            "created_at": "UTC time saved",
+        },
+    ),
+    "consensus": (
+        "The settled label of each topic.",
+        {
+            "model": "fingerprint of the model",
+            "topic": "topic number",
+            "version": "version of the settled label",
+            "name": "settled name",
+            "note": "note",
+            "verdict": "settled verdict",
+            "category": "settled category",
+            "settled_by": "who settled it",
+            "sources": "uids of the labels it was settled from, '; '-separated",
+            "uid": "unique id of this version",
+            "created_at": "UTC time settled",
+        },
+    ),
+    "agreement": (
+        "Agreement between analysts (Krippendorff's alpha, nominal), per topic and overall.",
+        {
+            "field": "label field compared ('verdict' or 'category')",
+            "scope": "'topic' or 'overall'",
+            "topic": "topic number (empty on the overall row)",
+            "alpha": "Krippendorff's alpha",
+            "percent_agreement": "share of agreeing pairs of analysts",
+            "n_coders": "analysts with a value",
+            "n_units": "topics coded by at least two analysts",
+        },
+    ),
+}

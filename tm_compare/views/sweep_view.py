@@ -1,0 +1,184 @@
+"""The sweep view: scores against k with the seed spread, the suggested k, and a fit picker."""
+
+from __future__ import annotations
+
+import ipywidgets as w
+import traitlets
+
+from . import charts
+from ._cards import esc
+from ._offline import chart_widget
+from ._row_table import RowTable
+
+#: Measures a sweep can show: score column -> (name shown, which way is better).
+MEASURES = {
+    "npmi": ("NPMI coherence", "higher"),
+    "c_v": ("C_V coherence", "higher"),
+    "uci": ("UCI (PMI) coherence", "higher"),
+    "umass": ("UMass coherence", "higher"),
+    "perplexity": ("held-out perplexity", "lower"),
+    "stability": ("stability across seeds", "higher"),
+    "diversity": ("topic diversity", "higher"),
+}
+_WHY_NPMI = (
+    "NPMI is shown first: its scale is fixed (-1 to 1) and it tracks human judgements "
+    "well, while the authors of C_V advise against relying on C_V alone."
+)
+
+
+def _measure_title(measure: str) -> str:
+    name, better = MEASURES[measure]
+    return f"{name} ({better} is better)"
+
+
+class SweepView(w.VBox):
+    """Choose the number of topics on evidence: one measure against k, the suggestion, the fits.
+
+    Click a dot (a fit) or a row of the fits table to pick that model; ``view.k`` and
+    ``view.seed`` hold the pick and :meth:`picked_model` returns it.
+
+    Parameters
+    ----------
+    sweep : Sweep or Project or path
+        A fitted sweep, or a project folder holding a saved one.
+    measure : str
+        Score shown first (default ``"npmi"``).
+    prepared, labels : optional
+        With the prepared corpus (and a label store), "Read this model" opens a
+        :class:`TopicView` of the picked fit below.
+    """
+
+    measure = traitlets.Unicode("npmi", help="Score column shown against k.")
+    k = traitlets.Int(help="k of the picked fit.")
+    seed = traitlets.Int(help="Seed of the picked fit.")
+
+    def __init__(self, sweep, *, measure="npmi", prepared=None, labels=None):
+        from ..models.sweeps import Sweep
+
+        if not hasattr(sweep, "scores"):
+            sweep = Sweep.load(sweep)
+        self.sweep = sweep
+        self.prepared = prepared
+        self.labels = labels
+        scores = sweep.scores
+        present = [m for m in MEASURES if m in scores.columns and scores[m].notna().any()]
+        self.suggestion = sweep.recommend()
+        self.heading = w.HTML("<h3 style='margin:4px 0'>How many topics?</h3>")
+        self.measure_choice = w.Dropdown(
+            options=[(MEASURES[m][0], m) for m in present],
+            value=measure if measure in present else present[0],
+            description="Score shown",
+            style={"description_width": "initial"},
+        )
+        self.advice = w.HTML(self._advice_html())
+        self.picked = w.HTML()
+        self.use_suggested = w.Button(
+            description="Pick the suggested fit", icon="star", layout=w.Layout(width="200px")
+        )
+        self.use_suggested.on_click(lambda _: self._pick(self.suggestion.k, self.suggestion.seed))
+        self.open_model = w.Button(
+            description="Read this model", icon="book", disabled=prepared is None
+        )
+        self.open_model.on_click(lambda _: self.show_model())
+        self.model_area = w.VBox()
+        self.fits_table = RowTable(caption="Fits of the sweep (click a row to pick it)")
+        self.fits_table.show_frame(
+            self._table_frame(),
+            [charts.fit_key(k, s) for k, s in zip(scores["k"], scores["seed"], strict=True)],
+        )
+        self.fits_table.observe(self._row_clicked, names="selected")
+        self.k, self.seed = int(self.suggestion.k), int(self.suggestion.seed)
+        self.measure = self.measure_choice.value
+        self.chart = chart_widget(self._chart())
+        self.chart.selections.observe(self._clicked, names=[charts.FIT_PICK])
+        self.measure_choice.observe(lambda ch: setattr(self, "measure", ch["new"]), names="value")
+        super().__init__(
+            [
+                self.heading,
+                self.measure_choice,
+                self.chart,
+                self.advice,
+                w.HBox([self.picked, self.use_suggested, self.open_model]),
+                self.fits_table,
+                self.model_area,
+            ]
+        )
+        self.add_class("tmc-sweep-view")
+        self._show_pick()
+
+    def _advice_html(self) -> str:
+        s = self.suggestion
+        return (
+            f'<div style="font-size:13px;border-left:4px solid {charts.ACCENT};padding:4px 10px">'
+            f"<b>Suggested: k = {int(s.k)}</b> (seed {int(s.seed)}). Rule: {esc(s.rule)}"
+            f'<br><span style="color:#6b7078">{_WHY_NPMI}</span></div>'
+        )
+
+    def _table_frame(self):
+        scores = self.sweep.scores
+        cols = (
+            ["k", "seed"]
+            + [m for m in MEASURES if m in scores.columns]
+            + [c for c in ("fit_seconds", "engine") if c in scores.columns]
+        )
+        frame = scores[cols].copy()
+        for col in frame.columns:
+            if frame[col].dtype.kind == "f":
+                frame[col] = frame[col].round(4)
+        return frame
+
+    def _chart(self):
+        data = self.sweep.scores[["k", "seed", self.measure]].rename(
+            columns={self.measure: "value"}
+        )
+        return charts.sweep_chart(
+            data,
+            title=_measure_title(self.measure),
+            recommended_k=self.suggestion.k,
+            rule=self.suggestion.rule,
+            picked=(self.k, self.seed),
+        )
+
+    @traitlets.observe("measure")
+    def _measure_changed(self, change):
+        if hasattr(self, "chart"):
+            self.chart.chart = self._chart()
+
+    @traitlets.observe("k", "seed")
+    def _pick_changed(self, change):
+        if hasattr(self, "chart"):
+            self._show_pick()
+
+    def _show_pick(self):
+        key = charts.fit_key(self.k, self.seed)
+        self.chart.params.picked = key
+        self.fits_table.selected = key
+        self.picked.value = f"<b>Picked:</b> k = {self.k}, seed {self.seed}&nbsp;&nbsp;"
+
+    def _pick(self, k, seed):
+        with self.hold_trait_notifications():
+            self.k, self.seed = int(k), int(seed)
+
+    def _clicked(self, change):
+        value = change["new"].value
+        if value:
+            self._pick(value[0]["k"], value[0]["seed"])
+
+    def _row_clicked(self, change):
+        if change["new"]:
+            k, seed = str(change["new"]).split(":")
+            self._pick(k, seed)
+
+    def picked_model(self):
+        """The picked fit (``sweep.model(view.k, view.seed)``)."""
+        return self.sweep.model(self.k, self.seed)
+
+    def show_model(self, **options):
+        """Open a :class:`TopicView` of the picked fit under the sweep view and return it."""
+        from .topic_view import TopicView
+
+        view = TopicView(self.picked_model(), self.prepared, labels=self.labels, **options)
+        for old in self.model_area.children:
+            old.close()
+        self.model_area.children = [view]
+        return view

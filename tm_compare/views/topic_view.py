@@ -1,0 +1,147 @@
+"""The topic view: one fitted model read side by side across sources, topic by topic."""
+
+from __future__ import annotations
+
+import ipywidgets as w
+import traitlets
+
+from .._validation import param_error
+from ..results import ModelTables
+from ._cards import esc
+from ._labels_panel import LabelsPanel
+from ._reading_panel import DocumentsPanel, TermsPanel
+from ._sources_panel import SourcesPanel
+
+
+def _section(title: str, hint: str) -> w.HTML:
+    return w.HTML(
+        f'<h3 style="margin:14px 0 2px 0">{title}</h3>'
+        f'<div style="color:#6b7078;font-size:12px;margin-bottom:4px">{hint}</div>'
+    )
+
+
+class TopicView(w.VBox):
+    """Read one model: sources side by side, the selected topic's terms and documents, labels.
+
+    One trait, ``topic``, is the selected topic; clicking a topic in any chart or table sets it,
+    and every panel follows it. Set it from Python (``view.topic = 3``) to the same effect.
+
+    Parameters
+    ----------
+    fit : Fit
+    prepared : PreparedCorpus
+        The prepared corpus the fit was trained on.
+    labels : LabelStore, optional
+        Show the labelling form, writing to this store.
+    weighting : "exposure" or "unique"
+    cluster : str or None
+        Column whose clusters the bootstrap resamples (default ``"group"`` when given).
+    ranking : "probability", "lift", "frex" or "relevance"
+    n_boot, n_terms, n_docs : int
+        Bootstrap replicates; terms per topic; documents per topic and source.
+    poll_seconds : float or None
+        How often the labelling form looks for colleagues' labels.
+    """
+
+    topic = traitlets.Int(0, help="The selected topic, shared by every panel.")
+
+    def __init__(
+        self,
+        fit,
+        prepared,
+        labels=None,
+        *,
+        weighting="exposure",
+        cluster="group",
+        ranking="probability",
+        n_boot=1000,
+        n_terms=12,
+        n_docs=4,
+        poll_seconds=3.0,
+        random_state=0,
+    ):
+        self.tables = ModelTables(
+            fit, prepared, n_boot=n_boot, n_terms=n_terms, n_docs=n_docs, random_state=random_state
+        )
+        if len(self.tables.sources) < 2:
+            raise param_error(
+                "TopicView",
+                "prepared",
+                f"a corpus with sources {self.tables.sources}",
+                "a prepared corpus with at least two sources to compare",
+            )
+        self.fit = fit
+        self.sources_panel = SourcesPanel(
+            self.tables, self._pick, weighting=weighting, cluster=cluster
+        )
+        self.terms_panel = TermsPanel(self.tables, self._pick, ranking=ranking)
+        self.documents_panel = DocumentsPanel(self.tables)
+        self.labels_panel = (
+            None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
+        )
+        self.sources_panel.contrast.observe(self._contrast_changed, names="value")
+        self.reading_title = w.HTML()
+        children = [
+            w.HTML(
+                f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
+                f"(seed {int(fit.seed)})</h2>"
+            ),
+            _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
+            self.sources_panel,
+            self.reading_title,
+            _section(
+                "Terms",
+                "The topic's top terms, and the terms each source uses more when it writes on this topic.",
+            ),
+            self.terms_panel,
+            _section("Documents", "Articles most devoted to the topic, per source."),
+            self.documents_panel,
+        ]
+        if self.labels_panel is not None:
+            children += [
+                _section("Label", "Name the topic; colleagues' labels appear as they save them."),
+                self.labels_panel,
+            ]
+        super().__init__(children, layout=w.Layout(width="100%"))
+        self.add_class("tmc-topic-view")
+        first = int(self.sources_panel._diff["topic"].iloc[0])
+        if first == self.topic:
+            self._update_panels(first)
+        self.topic = first
+
+    @traitlets.validate("topic")
+    def _check_topic(self, proposal):
+        value = proposal["value"]
+        if not 0 <= value < self.tables.k:
+            raise param_error(
+                "TopicView", "topic", value, f"a topic number from 0 to {self.tables.k - 1}"
+            )
+        return value
+
+    @traitlets.observe("topic")
+    def _topic_changed(self, change):
+        self._update_panels(change["new"])
+
+    def _update_panels(self, topic: int) -> None:
+        self.reading_title.value = (
+            f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
+            f"Reading topic <b>{esc(self.tables.captions[topic])}</b></div>"
+        )
+        panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
+        for panel in panels:
+            if panel is not None:
+                panel.show_topic(topic)
+
+    def _pick(self, topic: int) -> None:
+        self.topic = int(topic)
+
+    def _contrast_changed(self, change):
+        if self.sources_panel.pair is None:
+            return
+        self.terms_panel.pair = self.sources_panel.pair
+        self.terms_panel.show_topic(self.topic)
+
+    def close(self):
+        if getattr(self, "labels_panel", None) is not None:
+            self.labels_panel.close()
+        super().close()
