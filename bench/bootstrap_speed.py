@@ -11,12 +11,13 @@ from __future__ import annotations
 
 import argparse
 import time
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
 
 from tm_compare.compare.prevalence import prevalence
+from tm_compare.models.fits import Fit
+from tm_compare.text.prepared import PreparedCorpus
 
 
 def synthetic(n_docs, k, n_sources, n_clusters, seed=0):
@@ -28,20 +29,19 @@ def synthetic(n_docs, k, n_sources, n_clusters, seed=0):
     ]
     weights = rng.integers(1, 20, n_docs).astype(float)
     ids = [f"d{i}" for i in range(n_docs)]
-    fit = SimpleNamespace(k=k, doc_topic=shares, doc_dirichlet=None, doc_ids=ids)
     meta = pd.DataFrame({"id": ids, "source": sources, "weight": weights, "group": groups})
-    prepared = SimpleNamespace(
-        doc_ids=ids, sources=sources, weights=weights, groups=groups, meta=meta
-    )
-    return fit, prepared
+    # Prevalence reads no words: empty documents over a one-term vocabulary.
+    prepared = PreparedCorpus.from_texts([[] for _ in ids], meta, vocab=["w"])
+    return Fit.from_arrays(prepared, np.ones((k, 1)), shares), prepared
 
 
 def naive(fit, prepared, n_boot, seed=0):
     rng = np.random.default_rng(seed)
+    sources, groups, weights = prepared.sources, prepared.groups, prepared.weights
     members = {}  # source -> list of document index arrays, one per cluster (built once)
-    for source in np.unique(prepared.sources):
-        in_source = np.flatnonzero(prepared.sources == source)
-        frame = pd.Series(in_source).groupby(prepared.groups[in_source])
+    for source in np.unique(sources):
+        in_source = np.flatnonzero(sources == source)
+        frame = pd.Series(in_source).groupby(groups[in_source])
         members[source] = [idx.to_numpy() for _, idx in frame]
     out = []
     for _ in range(n_boot):
@@ -49,7 +49,7 @@ def naive(fit, prepared, n_boot, seed=0):
         for clusters in members.values():
             drawn = rng.integers(0, len(clusters), len(clusters))
             docs = np.concatenate([clusters[i] for i in drawn])
-            rows.append(np.average(fit.doc_topic[docs], axis=0, weights=prepared.weights[docs]))
+            rows.append(np.average(fit.doc_topic[docs], axis=0, weights=weights[docs]))
         out.append(rows)
     return np.array(out)
 

@@ -24,16 +24,15 @@ import argparse
 import shutil
 import tempfile
 import time
-from types import SimpleNamespace
 
 import numpy as np
 
 
 def synthetic_corpus(n_docs: int, doc_length: int, vocab_size: int, n_topics: int, seed: int):
     """Documents drawn from LDA: topics ~ Dir(0.05) over invented words, mixes ~ Dir(0.1)."""
-    from gensim.corpora import Dictionary
+    import pandas as pd
 
-    from tm_compare._hashing import fingerprint
+    from tm_compare.text.prepared import PreparedCorpus
 
     rng = np.random.default_rng(seed)
     syllables = ["ka", "lo", "mir", "ten", "qua", "vel", "dor", "sa", "pin", "ruk", "ye", "zo"]
@@ -46,14 +45,8 @@ def synthetic_corpus(n_docs: int, doc_length: int, vocab_size: int, n_topics: in
         ids = np.repeat(np.arange(len(words)), counts)
         rng.shuffle(ids)
         texts.append([words[i] for i in ids])
-    dictionary = Dictionary(texts)
-    return SimpleNamespace(
-        texts=texts,
-        dictionary=dictionary,
-        bow=[dictionary.doc2bow(t) for t in texts],
-        doc_ids=[f"doc{i}" for i in range(n_docs)],
-        fingerprint=fingerprint("bench", n_docs, doc_length, vocab_size, seed),
-    )
+    meta = pd.DataFrame({"id": [f"doc{i}" for i in range(n_docs)], "source": "synthetic"})
+    return PreparedCorpus.from_texts(texts, meta)
 
 
 def run_ours(prepared, grid, seeds, jobs, settings, project):
@@ -156,7 +149,7 @@ def main(argv=None) -> None:
     result, ours_total, ours_scoring = run_ours(
         prepared, grid, args.seeds, args.jobs, settings, project
     )
-    fit_sum = float(result.scores["fit_seconds"].sum())
+    fit_sum = float(result.scores_["fit_seconds"].sum())
     print(
         f"\nOurs ({args.jobs} processes): {ours_total:.1f} s end to end, of which scoring "
         f"(NPMI, C_V, UCI, UMass, stability, diversity for all {n_models} models) "
@@ -169,12 +162,12 @@ def main(argv=None) -> None:
 
     picks = np.linspace(0, n_models - 1, args.baseline_models).round().astype(int)
     models = [[(k, s) for k in grid for s in range(args.seeds)][i] for i in sorted(set(picks))]
-    heldout = result.model(*models[0]).heldout
+    heldout = result.get_fit(*models[0]).heldout
     base = run_baseline(prepared, models, heldout, settings)
     per_model = np.mean([b["fit"] + b["c_v"] for b in base])
     base_total = per_model * n_models
     ours_cv = {
-        (b["k"], b["seed"]): result.topic_scores.query(f"k == {b['k']} and seed == {b['seed']}")[
+        (b["k"], b["seed"]): result.topic_scores_.query(f"k == {b['k']} and seed == {b['seed']}")[
             "c_v"
         ].to_numpy()
         for b in base

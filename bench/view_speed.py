@@ -14,10 +14,12 @@ from __future__ import annotations
 import argparse
 import statistics
 import time
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
+
+from tm_compare.models.fits import Fit
+from tm_compare.text.prepared import PreparedCorpus
 
 
 def synthetic(n_docs: int, k: int, vocab: int, seed: int = 0):
@@ -29,7 +31,7 @@ def synthetic(n_docs: int, k: int, vocab: int, seed: int = 0):
     terms_per_doc = 20
     ids = rng.integers(0, vocab, size=(n_docs, terms_per_doc))
     counts = rng.integers(1, 4, size=(n_docs, terms_per_doc))
-    bow = [list(zip(r.tolist(), c.tolist(), strict=True)) for r, c in zip(ids, counts, strict=True)]
+    tokens = [words[np.repeat(r, c)].tolist() for r, c in zip(ids, counts, strict=True)]
     text = [" ".join(words[r]) for r in ids[:, :12]]
     sources = np.where(rng.random(n_docs) < 0.4, "shared", "visited")
     groups = np.array([f"reader_{g:04d}" for g in rng.integers(0, 2000, n_docs)], dtype=object)
@@ -47,21 +49,8 @@ def synthetic(n_docs: int, k: int, vocab: int, seed: int = 0):
             "outlet": rng.choice(["Gull Post", "Harbour Times"], n_docs),
         }
     )
-    prepared = SimpleNamespace(
-        doc_ids=doc_ids, sources=sources, weights=weights, groups=groups, meta=meta, bow=bow
-    )
-    fit = SimpleNamespace(
-        k=k,
-        seed=0,
-        vocab=words.tolist(),
-        doc_ids=doc_ids,
-        topic_term=topic_term,
-        doc_topic=doc_topic,
-        doc_dirichlet=None,
-        fingerprint="bench",
-        top_words=lambda n=10: [words[np.argsort(-row)[:n]].tolist() for row in topic_term],
-    )
-    return fit, prepared
+    prepared = PreparedCorpus.from_texts(tokens, meta, vocab=words.tolist())
+    return Fit.from_arrays(prepared, topic_term, doc_topic), prepared
 
 
 def from_scratch(fit, prepared, topic: int, n_boot: int) -> None:

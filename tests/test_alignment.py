@@ -1,10 +1,10 @@
 """Topic alignment and lineage (tm_compare.alignment)."""
 
 import itertools
-from types import SimpleNamespace
 
 import numpy as np
 import pytest
+from _builders import topics_fit
 from scipy.spatial import distance
 
 from tm_compare.errors import ComparisonError, SettingsError
@@ -15,9 +15,7 @@ VOCAB = [f"t{i}" for i in range(30)]
 
 def fit_of(phi, seed=0, vocab=VOCAB):
     phi = np.asarray(phi, dtype=float)
-    return SimpleNamespace(
-        k=len(phi), seed=seed, vocab=list(vocab), topic_term=phi / phi.sum(axis=1, keepdims=True)
-    )
+    return topics_fit(phi / phi.sum(axis=1, keepdims=True), vocab, random_state=seed)
 
 
 def random_topics(k, seed):
@@ -90,6 +88,6 @@ def test_bad_input():
         align_topics(a, a, metric="euclid")
     with pytest.raises(ComparisonError, match="at least two values of k"):
         lineage({3: a})
-    broken = SimpleNamespace(k=3, seed=0, vocab=VOCAB[:5], topic_term=a.topic_term)
+    broken = topics_fit(a.topic_term, VOCAB[:5])  # 30 columns for 5 terms
     with pytest.raises(ComparisonError, match="shape"):
         align_topics(a, broken)

@@ -3,6 +3,7 @@
 import numpy as np
 import pytest
 from scipy import stats
+from statsmodels.stats.multitest import multipletests
 
 from tm_compare.compare import _bootstrap as bs
 
@@ -42,14 +43,69 @@ BH_1995 = np.array(
 )
 
 
-def test_benjamini_hochberg_matches_paper_and_scipy():
+def _statsmodels_bh(p, q):
+    # Reference: statsmodels' multipletests(method="fdr_bh") (Benjamini & Hochberg 1995).
+    reject, adjusted, _, _ = multipletests(p, alpha=q, method="fdr_bh")
+    return reject, adjusted
+
+
+def test_benjamini_hochberg_matches_paper_and_statsmodels():
     adjusted = bs.benjamini_hochberg(BH_1995)
     assert (adjusted <= 0.05).sum() == 4  # Benjamini & Hochberg 1995: 4 rejections
-    np.testing.assert_allclose(adjusted, stats.false_discovery_control(BH_1995), rtol=1e-12)
+    reject, expected = _statsmodels_bh(BH_1995, 0.05)
+    np.testing.assert_allclose(adjusted, expected, rtol=1e-12)
+    assert ((adjusted <= 0.05) == reject).all()
     shuffled = np.random.default_rng(1).permutation(BH_1995)  # order must not matter
     np.testing.assert_allclose(
-        bs.benjamini_hochberg(shuffled), stats.false_discovery_control(shuffled)
+        bs.benjamini_hochberg(shuffled), _statsmodels_bh(shuffled, 0.05)[1], rtol=1e-12
     )
+
+
+@pytest.mark.parametrize(
+    ("p", "q"),
+    [
+        ([1 / 60, 2 / 60, 3 / 60], 0.05),  # each p exactly on its boundary j q / m
+        ([0.01, 0.02, 0.03, 0.04, 0.05], 0.05),
+        ([0.05], 0.05),
+    ],
+)
+def test_benjamini_hochberg_rejects_p_values_on_the_boundary(p, q):
+    # Benjamini & Hochberg (1995) reject H_(j) for j <= max{j : p_(j) <= j q / m}: a p-value
+    # equal to its boundary is rejected; statsmodels' fdr_bh agrees (the reference here).
+    reject, expected = _statsmodels_bh(np.array(p), q)
+    adjusted = bs.benjamini_hochberg(p)
+    assert reject.all()
+    assert (adjusted <= q).all()
+    np.testing.assert_allclose(adjusted, expected, rtol=1e-12)
+
+
+def _random_p(seed, m):
+    return np.random.default_rng(seed).uniform(size=m)
+
+
+def _tied_p(seed, m):
+    rng = np.random.default_rng(seed)
+    return rng.choice(rng.uniform(0, 0.2, size=max(1, m // 4)), size=m)
+
+
+def _small_p(seed, m):
+    # A few strong effects among many nulls, as in a comparison of k topics.
+    rng = np.random.default_rng(seed)
+    return np.concatenate([rng.uniform(0, 0.01, size=m // 5), rng.uniform(size=m - m // 5)])
+
+
+@pytest.mark.parametrize("make", [_random_p, _tied_p, _small_p])
+@pytest.mark.parametrize("m", [1, 2, 7, 40, 500])
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_benjamini_hochberg_equals_statsmodels(make, m, seed):
+    # Reference: statsmodels' multipletests(method="fdr_bh"); tolerance: float rounding.
+    p = make(seed, m)
+    adjusted = bs.benjamini_hochberg(p)
+    for q in (0.01, 0.05, 0.1):
+        reject, expected = _statsmodels_bh(p, q)
+        np.testing.assert_allclose(adjusted, expected, rtol=1e-12)
+        assert ((adjusted <= q) == reject).all()
+    assert ((adjusted >= p) & (adjusted <= 1)).all()
 
 
 @pytest.mark.parametrize("method", ["percentile", "bca"])

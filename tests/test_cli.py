@@ -164,3 +164,26 @@ def test_a_damaged_score_table_is_one_line_error(capsys, tmp_path):
     (copy / "scores" / "scores.parquet").write_bytes(b"not a parquet file")
     line = _error(["report", str(copy)], capsys)
     assert "cannot be read" in line and "tm-compare sweep" in line
+
+
+def test_sweep_and_demo_flags_are_the_python_names_and_old_spellings_still_work():
+    parser = build_parser()
+    args = parser.parse_args(["sweep", "p", "--n-terms", "7", "--holdout-random-state", "3"])
+    assert (args.n_terms, args.holdout_random_state, args.n_jobs) == (7, 3, -1)
+    with pytest.warns(FutureWarning, match="--topn is deprecated.*use --n-terms instead"):
+        assert parser.parse_args(["sweep", "p", "--topn", "5"]).n_terms == 5
+    with pytest.warns(FutureWarning, match="--seed is deprecated.*use --random-state instead"):
+        assert parser.parse_args(["demo", "--seed", "4"]).random_state == 4
+    assert "(n_jobs in the Python API" in _subparsers()["sweep"].format_help()
+
+
+def test_labels_model_flag_still_works_with_a_future_warning(tmp_path, capsys):
+    from tm_compare.labels.store import LabelStore
+    from tm_compare.project import Project
+
+    project = Project.create(tmp_path / "p")
+    with LabelStore(project, analyst="Ana Quill") as store:
+        store.save("fit-1", 0, name="Harbour")
+    with pytest.warns(FutureWarning, match="--model is deprecated.*use --fit instead"):
+        assert main(["labels", str(project.path), "list", "--model", "fit-1"]) == 0
+    assert "Harbour" in capsys.readouterr().out

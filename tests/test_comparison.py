@@ -1,8 +1,9 @@
 """Prevalence, differences and the influence check (tm_compare.comparison)."""
 
+import dataclasses
+import inspect
 import os
 import warnings
-from types import SimpleNamespace
 
 import gensim
 import numpy as np
@@ -10,8 +11,16 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from tm_compare.compare.prevalence import cap_effect, differences, influence, prevalence
+from tm_compare.compare.prevalence import (
+    Bootstrap,
+    cap_effect,
+    differences,
+    influence,
+    prevalence,
+)
 from tm_compare.errors import ComparisonError, SettingsError
+from tm_compare.models.fits import Fit
+from tm_compare.text.prepared import PreparedCorpus
 
 
 def make_case(n_docs=240, k=4, seed=0, sources=("left", "right"), n_groups=12, planted=2):
@@ -23,17 +32,10 @@ def make_case(n_docs=240, k=4, seed=0, sources=("left", "right"), n_groups=12, p
     groups = np.array([f"reader{g}" for g in rng.integers(0, n_groups, n_docs)], dtype=object)
     ids = [f"d{i}" for i in range(n_docs)]
     weights = rng.integers(1, 6, n_docs).astype(float)
-    fit = SimpleNamespace(
-        k=k,
-        seed=0,
-        doc_ids=ids,
-        doc_dirichlet=gamma,
-        doc_topic=gamma / gamma.sum(axis=1, keepdims=True),
-        topic_term=np.full((k, 3), 1 / 3),
-        vocab=["a", "b", "c"],
-    )
     meta = pd.DataFrame({"id": ids, "source": src, "weight": weights, "group": groups})
-    prepared = SimpleNamespace(doc_ids=ids, sources=src, weights=weights, groups=groups, meta=meta)
+    prepared = PreparedCorpus.from_texts([[] for _ in ids], meta, vocab=["a", "b", "c"])
+    doc_topic = gamma / gamma.sum(axis=1, keepdims=True)
+    fit = Fit.from_arrays(prepared, np.full((k, 3), 1 / 3), doc_topic, doc_dirichlet=gamma)
     return fit, prepared
 
 
@@ -60,7 +62,7 @@ def test_cluster_resampling_widens_intervals_when_clusters_share_a_topic():
     fit, prep = make_case(n_docs=600, n_groups=15, seed=4)
     lean = rng.dirichlet(np.ones(fit.k) * 0.3, 15)
     codes = np.array([int(g[6:]) for g in prep.groups])
-    fit.doc_topic = 0.2 * fit.doc_topic + 0.8 * lean[codes]
+    fit = Fit.from_arrays(prep, fit.topic_term, 0.2 * fit.doc_topic + 0.8 * lean[codes])
     by_doc = prevalence(fit, prep, cluster=None, n_boot=300)
     by_group = prevalence(fit, prep, cluster="group", n_boot=300)
     assert (by_group.std_error.to_numpy() > 1.5 * by_doc.std_error.to_numpy()).mean() > 0.8
@@ -79,14 +81,12 @@ def test_cluster_intervals_keep_their_coverage_when_documents_do_not():
     sources = np.repeat(["a", "b"], n_clusters * per_cluster)
     ids = [f"d{i}" for i in range(len(groups))]
     meta = pd.DataFrame({"id": ids, "source": sources, "weight": 1.0, "group": groups})
-    prep = SimpleNamespace(
-        doc_ids=ids, sources=sources, weights=np.ones(len(ids)), groups=groups, meta=meta
-    )
+    prep = PreparedCorpus.from_texts([[] for _ in ids], meta, vocab=["a"])
     n_sims = 120
     for _ in range(n_sims):
         lean = np.repeat(rng.normal(0, 0.1, 2 * n_clusters), per_cluster)
         theta = 0.5 + lean + rng.normal(0, 0.05, len(ids))
-        fit = SimpleNamespace(k=2, doc_ids=ids, doc_topic=np.column_stack([theta, 1 - theta]))
+        fit = Fit.from_arrays(prep, np.ones((2, 1)), np.column_stack([theta, 1 - theta]))
         for cluster in hits:
             row = prevalence(fit, prep, weighting="unique", cluster=cluster, n_boot=200).iloc[0]
             hits[cluster] += row.ci_low <= 0.5 <= row.ci_high
@@ -184,7 +184,7 @@ def test_bca_and_poisson_run_and_bracket_the_estimate():
 
 def test_influence_flags_a_heavy_reader_and_capping_bounds_shares():
     fit, prep = make_case()
-    prep.weights[prep.groups == "reader3"] *= 40
+    prep.meta.loc[prep.groups == "reader3", "weight"] *= 40
     with pytest.warns(UserWarning, match="reader3"):
         table = influence(prep, threshold=0.10)
     flagged = table[table.flagged]
@@ -198,6 +198,17 @@ def test_influence_flags_a_heavy_reader_and_capping_bounds_shares():
     capped = prevalence(fit, prep, n_boot=20, cap_group_share=0.10)
     np.testing.assert_allclose(effect.prevalence_after, capped.prevalence)
     assert (capped.cap_group_share == 0.10).all() and effect.change.abs().max() > 0
+
+
+def test_old_and_unknown_keywords():
+    fit, prep = make_case()
+    with pytest.warns(FutureWarning, match=r"influence\(top=...\) is deprecated.*n_groups=..."):
+        old = influence(prep, top=2, warn=False)
+    pd.testing.assert_frame_equal(old, influence(prep, n_groups=2, warn=False))
+    with pytest.raises(TypeError, match=r"prevalence\(\) got unexpected keyword.*'n_boots'"):
+        prevalence(fit, prep, n_boots=20)
+    shown = inspect.signature(differences).parameters  # the bootstrap settings, for help()
+    assert list(shown)[-8:] == [f.name for f in dataclasses.fields(Bootstrap)]
 
 
 def test_capping_redistributes_iteratively_by_hand():
@@ -227,7 +238,7 @@ def test_source_with_no_documents_is_named():
 
 def test_all_weights_zero():
     fit, prep = make_case()
-    prep.weights[prep.sources == "right"] = 0
+    prep.meta.loc[prep.sources == "right", "weight"] = 0
     with pytest.raises(ComparisonError, match="'right' have weight 0.*weighting='unique'"):
         prevalence(fit, prep, n_boot=20)
     assert len(prevalence(fit, prep, weighting="unique", n_boot=20)) == 2 * fit.k
@@ -235,20 +246,18 @@ def test_all_weights_zero():
 
 def test_negative_weights_and_a_lone_document_are_refused():
     fit, prep = make_case()
-    prep.weights[3] = -1.0
+    prep.meta.loc[3, "weight"] = -1.0
     with pytest.raises(ComparisonError, match="1 document.*-1.0"):
         prevalence(fit, prep, n_boot=20)
     fit, prep = make_case()
-    prep.sources = prep.sources.copy()
-    prep.sources[prep.sources == "right"] = "left"
-    prep.sources[0] = "right"
+    prep.meta["source"] = np.where(np.arange(len(prep)) == 0, "right", "left")
     with pytest.raises(ComparisonError, match="single resampling unit"):
         prevalence(fit, prep, cluster=None, n_boot=20)
 
 
 def test_one_group_cannot_be_resampled():
     fit, prep = make_case()
-    prep.groups = np.array(["everyone"] * len(prep.groups), dtype=object)
+    prep.meta["group"] = "everyone"
     with pytest.raises(ComparisonError, match="single cluster.*cluster=None"):
         prevalence(fit, prep, n_boot=20)
     with pytest.raises(SettingsError, match="'cluster' parameter"):
@@ -306,19 +315,12 @@ def test_sentence_polarity_end_to_end():
     lda = LdaModel(bow, id2word=dictionary, num_topics=4, passes=5, random_state=1)
     gamma = lda.inference(bow)[0].astype(float)
     ids = [f"s{i}" for i in range(len(lines))]
-    fit = SimpleNamespace(
-        k=4,
-        seed=1,
-        doc_ids=ids,
-        doc_dirichlet=gamma,
-        doc_topic=gamma / gamma.sum(axis=1, keepdims=True),
-        topic_term=lda.get_topics(),
-        vocab=[dictionary[i] for i in range(len(dictionary))],
-    )
-    groups = np.full(len(ids), None, dtype=object)
-    meta = pd.DataFrame({"id": ids, "source": labels, "weight": 1.0, "group": groups})
-    prep = SimpleNamespace(
-        doc_ids=ids, sources=labels, weights=np.ones(len(ids)), groups=groups, meta=meta
+    meta = pd.DataFrame({"id": ids, "source": labels})
+    vocab = [dictionary[i] for i in range(len(dictionary))]
+    prep = PreparedCorpus.from_texts(texts, meta, vocab=vocab)
+    doc_topic = gamma / gamma.sum(axis=1, keepdims=True)
+    fit = Fit.from_arrays(
+        prep, lda.get_topics(), doc_topic, doc_dirichlet=gamma, random_state=1, engine="gensim"
     )
     table = differences(fit, prep, n_boot=500, interval="bca").sort_values("topic")
     direct = fit.doc_topic[labels == "neg"].mean(axis=0) - fit.doc_topic[labels == "pos"].mean(
@@ -342,14 +344,14 @@ def test_demo_scenario_planted_theme_and_heavy_reader(tmp_path, capsys):
     from tm_compare.text.corpus import Corpus
     from tm_compare.text.prepared import prepare
 
-    frame, truth = demo.scenario(1500, seed=0)
+    frame, truth = demo.scenario(1500, random_state=0)
     project = tmp_path / "quillhaven"
     prepared = prepare(
         Corpus.from_frame(frame, **demo.CORPUS_COLUMNS), project=project, progress=False
     )
     fit = sweep(
         prepared, k=[9], seeds=[0], project=project, measures=("umass",), progress=False
-    ).model(9, 0)
+    ).get_fit(9, 0)
 
     # The planted theme is the one whose top words hold most of its planted words (demo truth).
     planted = set(truth.theme_words[truth.source_heavy_theme])
@@ -367,13 +369,14 @@ def test_demo_scenario_planted_theme_and_heavy_reader(tmp_path, capsys):
     # The CLI writes the tables and prints the summary (its own parser, as tm-compare builds it).
     parser = argparse.ArgumentParser()
     _compare.register(parser.add_subparsers())
-    args = parser.parse_args(["compare", str(project), "--k", "9", "--by-group", "--n-boot", "200"])
+    args = parser.parse_args(["compare", str(project), "--k", "9", "--n-boot", "200"])
     assert args.func(args) == 0
     written = sorted(p.name for p in (project / "comparison" / "k9_seed0").iterdir())
     assert written == [
+        "cap_effect-exposure-group.csv",  # the heavy reader is flagged, so the cap is tried
         "differences-exposure-group.csv",
         "documents.csv",
-        "influence-exposure.csv",
+        "influence-exposure-group.csv",
         "prevalence-exposure-group.csv",
         "terms.csv",
     ]

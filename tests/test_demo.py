@@ -24,7 +24,7 @@ N = 3000
 
 @pytest.fixture(scope="module")
 def planted():
-    return demo.scenario(N, seed=0)
+    return demo.scenario(N, random_state=0)
 
 
 def _body(text: str, truth: demo.DemoTruth) -> str:
@@ -48,10 +48,10 @@ def _jaccard(a: set, b: set) -> float:
 
 def test_same_seed_same_data_and_truth_matches_frame(planted):
     frame, truth = planted
-    pd.testing.assert_frame_equal(frame, demo.make_frame(N, seed=0))
-    pd.testing.assert_frame_equal(truth.docs, demo.truth(N, seed=0).docs)
-    assert truth.to_dict() == demo.truth(N, seed=0).to_dict()
-    other = demo.make_frame(N, seed=1)
+    pd.testing.assert_frame_equal(frame, demo.make_frame(N, random_state=0))
+    pd.testing.assert_frame_equal(truth.docs, demo.truth(N, random_state=0).docs)
+    assert truth.to_dict() == demo.truth(N, random_state=0).to_dict()
+    other = demo.make_frame(N, random_state=1)
     assert (other["text"] != frame["text"]).mean() > 0.99
     pd.testing.assert_frame_equal(
         frame[["id", "source", "outlet", "reader", "weight"]],
@@ -96,8 +96,10 @@ def test_bad_arguments_get_clear_errors():
         demo.scenario(50)
     with pytest.raises(SettingsError, match=r"'n_docs' parameter of demo.truth .* Got True"):
         demo.truth(True)
-    with pytest.raises(SettingsError, match=r"'seed' parameter .* non-negative integer\. Got -1"):
-        demo.make_frame(300, seed=-1)
+    with pytest.raises(
+        SettingsError, match=r"'random_state' parameter .* non-negative integer\. Got -1"
+    ):
+        demo.make_frame(300, random_state=-1)
 
 
 # --- planted facts -------------------------------------------------------------------------------
@@ -122,7 +124,7 @@ def test_dominant_theme_can_be_read_from_the_words(planted):
 def test_source_heavy_theme_ratio():
     # Planted: SOURCE_HEAVY = housing 3x among shared. On 60,000 rows the binomial standard
     # error of the ratio of dominant-theme shares is about 2.5%, so +-10% is four of them.
-    truth = demo.truth(60_000, seed=2)
+    truth = demo.truth(60_000, random_state=2)
     share = truth.docs.groupby("source")["theme"].apply(
         lambda t: (t == truth.source_heavy_theme).mean()
     )
@@ -238,8 +240,8 @@ def test_fixture_equals_what_the_generator_writes():
 def prepared_demo():
     from tm_compare import prepare
 
-    truth = demo.truth(400, seed=4)
-    return truth, prepare(demo.make_corpus(400, seed=4))
+    truth = demo.truth(400, random_state=4)
+    return truth, prepare(demo.make_corpus(400, random_state=4))
 
 
 @pytest.mark.slow
@@ -277,12 +279,14 @@ def test_run_demo_runs_every_step_and_stores_the_planted_facts(tmp_path):
     from tm_compare.demo.run import STEPS, run_demo
 
     seen = []
-    run = run_demo(tmp_path / "p", n_docs=300, seed=2, echo=lambda title, text: seen.append(title))
+    run = run_demo(
+        tmp_path / "p", n_docs=300, random_state=2, echo=lambda title, text: seen.append(title)
+    )
     assert seen == [title for title, _ in STEPS]
     assert run.prepared is not None and len(run.prepared) < len(run.corpus) < 300
     stored = json.loads((tmp_path / "p" / "demo" / "truth.json").read_text(encoding="utf-8"))
     assert stored["heavy_reader"] == demo.truth(300, 2).heavy_reader
-    assert run.project.manifest["settings"]["demo"] == {"n_docs": 300, "seed": 2}
+    assert run.project.manifest["settings"]["demo"] == {"n_docs": 300, "random_state": 2}
 
 
 # --- the command line ----------------------------------------------------------------------------
@@ -302,7 +306,7 @@ def main(monkeypatch):
 def test_cli_demo_builds_and_prepares_a_project(tmp_path, capsys, main):
     project = tmp_path / "qh"
     fast = ["--k", "4,6", "--seeds", "2", "--passes", "2", "--n-boot", "100", "--no-progress"]
-    args = ["demo", "--project", str(project), "--docs", "300", "--seed", "1", *fast]
+    args = ["demo", "--project", str(project), "--docs", "300", "--random-state", "1", *fast]
     assert main(args) == 0
     out = capsys.readouterr().out
     for expected in (

@@ -1,13 +1,13 @@
 """Representative documents (tm_compare.documents)."""
 
-from types import SimpleNamespace
-
 import numpy as np
 import pandas as pd
 import pytest
 
 from tm_compare.compare.documents import representative_documents, snippet_around
 from tm_compare.errors import ComparisonError, SettingsError
+from tm_compare.models.fits import Fit
+from tm_compare.text.prepared import PreparedCorpus
 
 FILLER = "The weather in Quillhaven stayed grey all week and the ferry ran late again. " * 4
 
@@ -45,21 +45,15 @@ def make_case():
             "cross_source_duplicate": [True, False, False, False, False, True, False],
         }
     )
-    fit = SimpleNamespace(
-        k=2,
-        doc_topic=shares,
-        vocab=["toll", "levy", "council", "market"],
-        topic_term=np.array([[0.4, 0.3, 0.2, 0.1], [0.1, 0.1, 0.1, 0.7]]),
-    )
-    prepared = SimpleNamespace(
-        sources=meta.source.to_numpy(), weights=meta.weight.to_numpy(), meta=meta
-    )
-    return fit, prepared
+    vocab = ["toll", "levy", "council", "market"]
+    prepared = PreparedCorpus.from_texts([[] for _ in ids], meta, vocab=vocab)
+    topic_term = [[0.4, 0.3, 0.2, 0.1], [0.1, 0.1, 0.1, 0.7]]
+    return Fit.from_arrays(prepared, topic_term, shares), prepared
 
 
 def test_order_ties_and_collapsed_titles():
     fit, prepared = make_case()
-    table = representative_documents(fit, prepared, topic=0, per_source=3)
+    table = representative_documents(fit, prepared, topic=0, n_docs=3)
     web = table[table.source == "web"]
     # a1 and a2 tie at 0.9: the one with more exposure (a2) first; a3's title equals a2's
     # up to case and spacing, so it folds into a2; a4 (0.8) is next; a5, a copy merged into a4
@@ -76,14 +70,14 @@ def test_order_ties_and_collapsed_titles():
 
 def test_merged_duplicates_fold_into_the_kept_document():
     fit, prepared = make_case()
-    table = representative_documents(fit, prepared, topic=0, per_source=5)
+    table = representative_documents(fit, prepared, topic=0, n_docs=5)
     web = table[table.source == "web"].set_index("id")
     assert "a5" not in web.index and web.loc["a4", "collapsed_ids"] == "a5"
 
 
 def test_snippet_is_plain_text_around_the_top_terms():
     fit, prepared = make_case()
-    table = representative_documents(fit, prepared, topic=0, per_source=2, snippet_chars=120)
+    table = representative_documents(fit, prepared, topic=0, n_docs=2, snippet_chars=120)
     row = table.set_index("id").loc["a1"]
     assert "harbour levy" in row.snippet.lower() and "bridge tolls" in row.snippet.lower()
     assert row.snippet.startswith("…") and row.snippet.endswith("…")
@@ -137,3 +131,16 @@ def test_densest_window_equals_brute_force():
             for h in hits
         ]
         assert _densest_window(hits, width) == hits[int(np.argmax(counts))].start()
+
+
+def test_rows_restrict_the_candidates_and_keep_the_full_answer_when_they_hold_it():
+    fit, prepared = make_case()
+    full = representative_documents(fit, prepared, topic=0, n_docs=2)
+    # The rows of each source's best documents hold the answer: the same table comes back.
+    best = representative_documents(fit, prepared, topic=0, n_docs=2, rows=[0, 1, 2, 3, 5, 6])
+    pd.testing.assert_frame_equal(best, full)
+    # Without a1 and a2, the next best of "web" come first; positions are the corpus's.
+    rest = representative_documents(fit, prepared, topic=0, n_docs=2, rows=[6, 3, 2, 5])
+    assert rest[rest.source == "web"].id.tolist() == ["a4", "a3"]
+    with pytest.raises(SettingsError, match="'rows' parameter of representative_documents"):
+        representative_documents(fit, prepared, topic=0, rows=[0, 7])

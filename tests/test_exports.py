@@ -15,14 +15,9 @@ import pandas as pd
 import pytest
 from test_pipeline import small_demo
 
+from tm_compare.compare.documents import document_topics
 from tm_compare.errors import SettingsError
-from tm_compare.report.exports import (
-    COLUMNS,
-    data_dictionary,
-    document_topics,
-    export,
-    undocumented,
-)
+from tm_compare.report.exports import COLUMNS, data_dictionary, export, undocumented
 
 pytestmark = pytest.mark.slow
 

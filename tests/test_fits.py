@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 import errno
+import json
 import os
-from types import SimpleNamespace
 
 import gensim
 import numpy as np
 import pytest
+from _builders import build_prepared
 from gensim.corpora import Dictionary
 from gensim.models import LdaModel
 from scipy.optimize import linear_sum_assignment
@@ -16,21 +17,19 @@ from sklearn.decomposition import LatentDirichletAllocation
 
 from tm_compare.errors import CorruptArtifactError, InputError, SettingsError
 from tm_compare.models.fits import Fit, TrainingData, fit_lda
+from tm_compare.text.prepared import PreparedCorpus
 
 
-def stand_in(texts: list[list[str]], name: str) -> SimpleNamespace:
-    """The attributes of a PreparedCorpus that fitting and scoring read (DEVELOPERS.md)."""
+def corpus_of(texts: list[list[str]], name: str) -> PreparedCorpus:
+    """``texts`` as a prepared corpus of source ``name``, term ids in ``Dictionary(texts)`` order
+    (so its bags of words equal gensim's ``doc2bow``)."""
     dictionary = Dictionary(texts)
-    return SimpleNamespace(
-        texts=texts,
-        dictionary=dictionary,
-        bow=[dictionary.doc2bow(t) for t in texts],
-        doc_ids=[f"{name}-{i}" for i in range(len(texts))],
-        fingerprint=name,
-    )
+    vocab = [dictionary[i] for i in range(len(dictionary))]
+    ids = [f"{name}-{i}" for i in range(len(texts))]
+    return build_prepared([name] * len(texts), texts, ids=ids, vocab=vocab)
 
 
-def lee_corpus(n_docs: int | None = None) -> SimpleNamespace:
+def lee_corpus(n_docs: int | None = None) -> PreparedCorpus:
     """The first ``n_docs`` documents of gensim's bundled news corpus ``lee_background.cor``
     (300 in all), lower-cased, words of 3+ letters, a few function words dropped (common
     practice)."""
@@ -48,7 +47,7 @@ def lee_corpus(n_docs: int | None = None) -> SimpleNamespace:
             ]
             for line in fh
         ][:n_docs]
-    return stand_in(texts, f"lee{len(texts)}")
+    return corpus_of(texts, f"lee{len(texts)}")
 
 
 def bars_corpus(n_docs: int, seed: int = 2004):
@@ -66,7 +65,7 @@ def bars_corpus(n_docs: int, seed: int = 2004):
     for _ in range(n_docs):
         topics = rng.choice(10, size=100, p=rng.dirichlet(np.ones(10)))
         texts.append([words[rng.choice(25, p=bars[t])] for t in topics])
-    return stand_in(texts, f"bars{n_docs}"), words, bars
+    return corpus_of(texts, f"bars{n_docs}"), words, bars
 
 
 @pytest.fixture(scope="module")
@@ -89,7 +88,7 @@ BARS_DOCS = 400  # fewer than the paper's 2000, to keep the test short
 @pytest.mark.parametrize("engine", ["gensim", "sklearn"])
 def test_bars_topics_are_recovered(engine):
     prepared, words, bars = bars_corpus(BARS_DOCS)
-    fit = fit_lda(prepared, 10, seed=0, engine=engine, holdout=0, passes=10, chunksize=20)
+    fit = fit_lda(prepared, 10, random_state=0, engine=engine, holdout=0, passes=10, chunksize=20)
     topic_term = fit.topic_term[:, [prepared.dictionary.token2id[w] for w in words]]
     rows, cols, distances = hellinger_matched(topic_term, bars)
     exact = sum(
@@ -111,7 +110,7 @@ SETTINGS = {"passes": 3, "iterations": 50, "chunksize": 100}
 
 
 def test_gensim_fit_equals_plain_ldamodel_and_its_perplexity(lee):
-    fit = fit_lda(lee, 5, seed=3, engine="gensim", holdout=0.2, **SETTINGS)
+    fit = fit_lda(lee, 5, random_state=3, engine="gensim", holdout=0.2, **SETTINGS)
     train = [doc for doc, held in zip(lee.bow, fit.heldout, strict=True) if not held]
     held = [doc for doc, h in zip(lee.bow, fit.heldout, strict=True) if h]
     # Reference: gensim's LdaModel called directly with the same settings (gensim 4.x API).
@@ -138,7 +137,7 @@ def test_gensim_fit_equals_plain_ldamodel_and_its_perplexity(lee):
 
 
 def test_sklearn_fit_equals_plain_estimator_and_its_perplexity(lee):
-    fit = fit_lda(lee, 4, seed=7, engine="sklearn", holdout=0.2, **SETTINGS)
+    fit = fit_lda(lee, 4, random_state=7, engine="sklearn", holdout=0.2, **SETTINGS)
     x = TrainingData.from_prepared(lee, 0.2).matrix.astype(float)
     # Reference: scikit-learn's LatentDirichletAllocation with gensim's online schedule.
     lda = LatentDirichletAllocation(
@@ -166,7 +165,7 @@ def test_sklearn_fit_equals_plain_estimator_and_its_perplexity(lee):
 
 
 def test_outputs_are_normalised_and_cover_every_document(lee):
-    fit = fit_lda(lee, 6, seed=0, holdout=0.1, **SETTINGS)
+    fit = fit_lda(lee, 6, random_state=0, holdout=0.1, **SETTINGS)
     assert fit.topic_term.shape == (6, len(lee.dictionary))
     assert fit.doc_topic.shape == fit.doc_dirichlet.shape == (len(lee.bow), 6)
     np.testing.assert_allclose(fit.topic_term.sum(1), 1, rtol=1e-12)
@@ -180,16 +179,16 @@ def test_outputs_are_normalised_and_cover_every_document(lee):
 
 
 def test_heldout_documents_do_not_depend_on_k_or_seed(lee):
-    a = fit_lda(lee, 3, seed=0, passes=1)
-    b = fit_lda(lee, 5, seed=9, engine="sklearn", passes=1)
-    c = fit_lda(lee, 3, seed=0, passes=1, holdout_seed=1)
+    a = fit_lda(lee, 3, random_state=0, passes=1)
+    b = fit_lda(lee, 5, random_state=9, engine="sklearn", passes=1)
+    c = fit_lda(lee, 3, random_state=0, passes=1, holdout_random_state=1)
     assert (a.heldout == b.heldout).all() and (a.heldout != c.heldout).any()
 
 
 # -- saving and loading --------------------------------------------------------------------------
 @pytest.fixture(scope="module")
 def small_fit(lee):
-    return fit_lda(lee, 3, seed=1, passes=1)
+    return fit_lda(lee, 3, random_state=1, passes=1)
 
 
 def test_save_and_load_round_trip(small_fit, tmp_path):
@@ -198,7 +197,7 @@ def test_save_and_load_round_trip(small_fit, tmp_path):
     assert loaded.fingerprint == small_fit.fingerprint
     for name in ("topic_term", "doc_topic", "doc_dirichlet", "heldout"):
         np.testing.assert_array_equal(getattr(loaded, name), getattr(small_fit, name))
-    for name in ("k", "seed", "engine", "settings", "vocab", "doc_ids", "perplexity"):
+    for name in ("k", "random_state", "engine", "settings", "vocab", "doc_ids", "perplexity"):
         assert getattr(loaded, name) == getattr(small_fit, name)
 
 
@@ -236,6 +235,41 @@ def test_disk_full_while_saving_leaves_no_file(small_fit, tmp_path, monkeypatch)
     assert list(tmp_path.iterdir()) == []
 
 
+def test_saved_names_and_fingerprint_are_those_of_the_first_release(small_fit, tmp_path):
+    # Labels are stored under a fit's fingerprint, so renaming seed/holdout_seed in the API must
+    # not change it: the fingerprint is still taken over the first release's names, and files
+    # keep them, so fits saved before and after the rename read alike in either version.
+    from tm_compare._hashing import fingerprint
+
+    path = small_fit.save(tmp_path / "fit.npz")
+    with np.load(path) as npz:
+        meta = json.loads(npz["meta"].tobytes())
+    assert meta["seed"] == 1 and "random_state" not in meta
+    assert meta["settings"]["holdout_seed"] == 0 and meta["fingerprint"] == small_fit.fingerprint
+    settings = dict(small_fit.settings)
+    settings["holdout_seed"] = settings.pop("holdout_random_state")
+    fit = small_fit
+    parts = (fit.corpus_fingerprint, fit.heldout, fit.topic_term)
+    assert fit.fingerprint == fingerprint("fit", "gensim", 3, 1, settings, *parts)
+
+
+def test_old_names_work_with_a_future_warning_naming_the_new_one(lee, small_fit):
+    with pytest.warns(FutureWarning) as caught:
+        old = fit_lda(lee, 3, seed=1, passes=1, holdout_seed=0)
+    assert [str(w.message).split(" is ")[0] for w in caught] == [
+        "fit_lda(seed=...)",
+        "fit_lda(holdout_seed=...)",
+    ]
+    assert "use holdout_random_state=... instead" in str(caught[1].message)
+    assert old.fingerprint == small_fit.fingerprint
+    with pytest.warns(FutureWarning, match=r"Fit.seed is deprecated.*use .random_state"):
+        assert small_fit.seed == 1
+    with pytest.warns(FutureWarning, match=r"top_words\(n=...\).*use n_terms=..."):
+        assert small_fit.top_words(n=3) == small_fit.top_words(n_terms=3)
+    with pytest.raises(TypeError, match="got both 'seed' and its new name 'random_state'"):
+        fit_lda(lee, 3, seed=1, random_state=1)
+
+
 # -- bad input -----------------------------------------------------------------------------------
 @pytest.mark.parametrize("k", [1, 0, 109, 2.5, True])
 def test_k_outside_two_to_training_documents(lee, k):
@@ -244,8 +278,20 @@ def test_k_outside_two_to_training_documents(lee, k):
         fit_lda(lee, k)
 
 
+def test_fit_from_arrays_reads_like_a_fit_of_its_corpus(lee, tmp_path):
+    rng = np.random.default_rng(0)
+    phi = rng.dirichlet(np.ones(len(lee.dictionary)), 3)
+    gamma = rng.gamma(1.0, size=(len(lee), 3))
+    fit = Fit.from_arrays(lee, phi, doc_dirichlet=gamma, engine="mallet")
+    assert fit.vocab == [lee.dictionary[i] for i in range(len(lee.dictionary))]
+    assert fit.doc_ids == lee.doc_ids and fit.corpus_fingerprint == lee.fingerprint
+    np.testing.assert_allclose(fit.doc_topic, gamma / gamma.sum(axis=1, keepdims=True))
+    assert fit.k == 3 and not fit.heldout.any() and np.isnan(fit.perplexity)
+    assert Fit.load(fit.save(tmp_path / "fit.npz")).fingerprint == fit.fingerprint
+
+
 def test_empty_vocabulary_is_refused():
-    empty = stand_in([[], []], "empty")
+    empty = corpus_of([[], []], "empty")
     with pytest.raises(InputError, match="0 terms in its vocabulary"):
         fit_lda(empty, 2)
 

@@ -9,12 +9,12 @@ import logging
 import socket
 import sqlite3
 import traceback
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
 import pytest
 import sqlalchemy as sa
+from _builders import topics_fit
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -120,15 +120,46 @@ def test_bad_values_are_refused_with_clear_errors(ana):
         ana.save(MODEL, 0, name="x", confidence=1.5)
     with pytest.raises(SettingsError, match="'topic' parameter"):
         ana.save(MODEL, -1, name="x")
-    with pytest.raises(SettingsError, match="'model' parameter"):
+    with pytest.raises(SettingsError, match="'fit' parameter"):
         ana.save("", 0, name="x")
     assert ana.history().empty
 
 
 def test_model_given_as_fit_like_object(ana):
-    fit = SimpleNamespace(fingerprint=MODEL)
+    fit = topics_fit(np.full((4, 3), 1 / 3), ["tram", "line", "stop"])
     ana.save(fit, 2, name="Tram line")
-    assert ana.label(MODEL, 2).name == "Tram line"
+    assert ana.label(fit.fingerprint, 2).name == "Tram line"
+
+
+def test_old_model_names_work_with_a_future_warning(ana, tmp_path):
+    from tm_compare.labels.store import fit_id, model_id
+
+    with pytest.warns(FutureWarning, match=r"LabelStore.save\(model=...\).*use fit=..."):
+        saved = ana.save(model=MODEL, topic=0, name="Harbour")
+    with pytest.warns(FutureWarning, match=r"Label.model is deprecated.*use .fit"):
+        assert saved.model == saved.fit == MODEL
+    with pytest.warns(FutureWarning, match=r"LabelStore.current\(model=...\).*use fit=..."):
+        pd.testing.assert_frame_equal(ana.current(model=MODEL), ana.current(fit=MODEL))
+    with pytest.warns(FutureWarning, match=r"model_id\(\) is deprecated.*use fit_id\(\)"):
+        assert model_id(MODEL) == fit_id(MODEL)
+    with pytest.warns(FutureWarning, match=r"export\(fit\) without a path.*export_text\(fit\)"):
+        doc = ana.export(MODEL)
+    assert doc == json.loads(ana.export_text(MODEL)) | {"exported_at": doc["exported_at"]}
+    # A label file of format 1 names the fit "model"; it still imports.
+    doc["format_version"] = 1
+    doc["model"] = doc.pop("fit")
+    for record in doc["labels"]:
+        record["model"] = record.pop("fit")
+    old = tmp_path / "format1.json"
+    old.write_text(json.dumps(doc))
+    with LabelStore(tmp_path / "fresh.sqlite", analyst="Cleo Marsh") as fresh:
+        with pytest.warns(FutureWarning, match=r"import_labels\(model=...\)"):
+            assert fresh.import_labels(old, model=MODEL) == {"added": 1, "skipped": 0}
+        assert fresh.current(MODEL)["fit"].tolist() == [MODEL]
+        text = ana.export_text(MODEL, format="csv")
+        assert text.startswith("fit,")
+        (tmp_path / "format1.csv").write_text("model," + text.removeprefix("fit,"))
+        assert fresh.import_labels(tmp_path / "format1.csv", fit=MODEL)["skipped"] == 1
 
 
 def test_reader_without_analyst_cannot_write(store_url, ana):
@@ -225,7 +256,7 @@ def test_carry_over_suggests_without_storing(ana, ben):
     assert suggestions["topic"].tolist() == [4, 4, 4]  # topic 1 is below the threshold
     assert suggestions["kind"].tolist() == ["consensus", "label", "label"]
     assert suggestions["name"].iloc[0] == "Harbour and port"
-    assert (suggestions["similarity"] == 0.91).all() and (suggestions["from_model"] == MODEL).all()
+    assert (suggestions["similarity"] == 0.91).all() and (suggestions["from_fit"] == MODEL).all()
     assert len(ana.history()) == before and ana.current(OTHER_MODEL).empty
     low = ana.carry_over(MODEL, OTHER_MODEL, alignment=alignment, threshold=0.2)
     assert set(low["topic"]) == {4, 9}
@@ -273,8 +304,8 @@ def test_export_import_round_trip_is_idempotent(ana, ben, tmp_path, fmt):
     fresh = LabelStore(tmp_path / "fresh.sqlite", analyst="Cleo Marsh")
     if fmt == "csv":
         fresh.define_category("Transport")  # CSV carries no codebook
-    assert fresh.import_labels(path, model=MODEL) == {"added": 4, "skipped": 0}
-    assert fresh.import_labels(path, model=MODEL)["added"] == 0
+    assert fresh.import_labels(path, fit=MODEL) == {"added": 4, "skipped": 0}
+    assert fresh.import_labels(path, fit=MODEL)["added"] == 0
     cols = [
         "uid",
         "topic",
@@ -289,7 +320,7 @@ def test_export_import_round_trip_is_idempotent(ana, ben, tmp_path, fmt):
     pd.testing.assert_frame_equal(fresh.history(MODEL)[cols], ana.history(MODEL)[cols])
     assert fresh.check().ok
     with pytest.raises(LabelStoreError, match=f"belongs to model.*{MODEL}.*not '{OTHER_MODEL}'"):
-        fresh.import_labels(path, model=OTHER_MODEL)
+        fresh.import_labels(path, fit=OTHER_MODEL)
     fresh.close()
 
 
@@ -297,8 +328,8 @@ def test_json_export_carries_top_words_analysts_and_consensus(ana, ben):
     ana.save(MODEL, 2, name="Flooding", verdict="usable")
     ben.save(MODEL, 2, name="Storm damage", verdict="usable")
     ana.settle(MODEL, 2, name="Floods and storms", verdict="usable")
-    doc = ana.export(MODEL, top_words=[["a"], ["b"], ["flood", "storm", "levee"]])
-    assert doc["model"] == MODEL and doc["content"] == "current"
+    doc = json.loads(ana.export_text(MODEL, top_words=[["a"], ["b"], ["flood", "storm", "levee"]]))
+    assert doc["fit"] == MODEL and doc["content"] == "current"
     assert doc["analysts"] == ["Ana Quill", "Ben Harrow"]
     assert doc["top_words"]["2"] == ["flood", "storm", "levee"]
     assert doc["consensus"][0]["settled_by"] == "Ana Quill"
@@ -309,14 +340,14 @@ def test_import_refuses_non_export_files_and_bad_rows(ana, tmp_path):
     bad = tmp_path / "notes.json"
     bad.write_text('{"hello": 1}')
     with pytest.raises(LabelStoreError, match="not a label export"):
-        ana.import_labels(bad, model=MODEL)
+        ana.import_labels(bad, fit=MODEL)
     ana.save(MODEL, 0, name="Harbour")
-    doc = ana.export(MODEL)
+    doc = json.loads(ana.export_text(MODEL))
     doc["labels"][0]["topic"] = "three"
     broken = tmp_path / "broken.json"
     broken.write_text(json.dumps(doc))
     with pytest.raises(LabelStoreError, match="broken.json' has an unreadable row"):
-        ana.import_labels(broken, model=MODEL)
+        ana.import_labels(broken, fit=MODEL)
     assert len(ana.history()) == 1
 
 
@@ -348,13 +379,15 @@ def test_sql_and_html_payloads_round_trip_unchanged(store_url, tmp_path):
             assert (label.analyst, label.name, label.note) == (payload, payload, payload)
     path = store.export(MODEL, tmp_path / "payloads.csv")
     with LabelStore(tmp_path / "other.sqlite", analyst="Cleo Marsh") as other:
-        other.import_labels(path, model=MODEL)
+        other.import_labels(path, fit=MODEL)
         got = other.current(MODEL).sort_values("topic")[["analyst", "name", "note"]].values.tolist()
     assert got == [[p] * 3 for p in PAYLOADS]
     assert store.check().ok and store.check().n_labels == len(PAYLOADS)  # every table intact
 
 
-_TEXT = st.text(st.characters(exclude_characters="\x00"), max_size=60)
+# Unicode text: every character but NUL (see below) and lone surrogates (category Cs, not
+# characters; refused with a clear error like NUL).
+_TEXT = st.text(st.characters(exclude_categories=("Cs",), exclude_characters="\x00"), max_size=60)
 
 
 @settings(
@@ -372,6 +405,10 @@ def test_nul_character_gives_a_clear_error(ana):
     # PostgreSQL text cannot hold NUL; every back end refuses it so that stores stay exchangeable.
     with pytest.raises(LabelStoreError, match="'note' of a label contains a NUL character"):
         ana.save(MODEL, 0, name="ok", note="a\x00b")
+    with pytest.raises(
+        LabelStoreError, match="'name' of a label contains '\\\\ud800' at position 1"
+    ):
+        ana.save(MODEL, 0, name="a\ud800")
     assert ana.history().empty
 
 
@@ -465,7 +502,7 @@ def test_check_reports_tampered_version_order(ana):
     report = ana.check()
     assert not report.ok
     assert (
-        "versions of (model='quillhaven-k12-s1', topic=5, analyst='Ana Quill') in write order are [1, 7, 3]"
+        "versions of (fit='quillhaven-k12-s1', topic=5, analyst='Ana Quill') in write order are [1, 7, 3]"
         in report.problems[0]
     )
     with pytest.raises(LabelStoreError, match="failed its integrity check"):
@@ -568,16 +605,14 @@ def test_carry_over_through_topic_alignment(ana):
     vocab = [f"w{i}" for i in range(40)]
     phi = rng.dirichlet(np.full(40, 0.1), size=4)
     order = [2, 0, 3, 1]  # new topic j is old topic order[j]
-    old = SimpleNamespace(fingerprint=MODEL, vocab=vocab, topic_term=phi, k=4, seed=0)
-    new = SimpleNamespace(
-        fingerprint=OTHER_MODEL, vocab=vocab, k=4, seed=1, topic_term=0.95 * phi[order] + 0.05 / 40
-    )
+    old = topics_fit(phi, vocab)
+    new = topics_fit(0.95 * phi[order] + 0.05 / 40, vocab, random_state=1)
     for topic, name in enumerate(["Harbour", "Council", "Schools", "Weather"]):
         ana.save(old, topic, name=name, verdict="usable")
     suggestions = ana.carry_over(old, new, threshold=0.5)
     assert suggestions["name"].tolist() == ["Schools", "Harbour", "Weather", "Council"]
     assert suggestions["topic"].tolist() == [0, 1, 2, 3]
-    assert ana.current(OTHER_MODEL).empty  # suggestions only
+    assert ana.current(new.fingerprint).empty  # suggestions only
 
 
 # --- command line ------------------------------------------------------------------------------
@@ -595,24 +630,24 @@ def test_cli_list_export_import_agreement(tmp_path, capsys):
         with LabelStore(project, analyst=analyst) as store:
             for topic, verdict in enumerate(verdicts):
                 store.save(MODEL, topic, name=f"<b>{analyst} {topic}</b>\x1b[31m", verdict=verdict)
-    assert main(["labels", str(project.path), "list", "--model", MODEL]) == 0
+    assert main(["labels", str(project.path), "list", "--fit", MODEL]) == 0
     shown = capsys.readouterr().out
     assert "<b>Ana Quill 0</b>\\x1b[31m" in shown and "\x1b" not in shown  # escapes shown, not run
     out = tmp_path / "labels.json"
-    assert main(["labels", str(project.path), "export", "--model", MODEL, "--out", str(out)]) == 0
-    assert json.loads(out.read_text())["model"] == MODEL
+    assert main(["labels", str(project.path), "export", "--fit", MODEL, "--out", str(out)]) == 0
+    assert json.loads(out.read_text())["fit"] == MODEL
     other = Project.create(tmp_path / "other")
-    assert main(["labels", str(other.path), "import", str(out), "--model", MODEL]) == 0
+    assert main(["labels", str(other.path), "import", str(out), "--fit", MODEL]) == 0
     assert "Imported 4 label rows, skipped 0" in capsys.readouterr().out
-    assert main(["labels", str(other.path), "agreement", "--model", MODEL, "--format", "csv"]) == 0
+    assert main(["labels", str(other.path), "agreement", "--fit", MODEL, "--format", "csv"]) == 0
     table = pd.read_csv(io.StringIO(capsys.readouterr().out))
     overall = table[(table["scope"] == "overall") & (table["field"] == "verdict")].iloc[0]
     # 2 coders x 2 units, one agreement: percent agreement 0.5 (common practice definition).
     assert overall["percent_agreement"] == 0.5 and overall["n_units"] == 2
-    assert main(["labels", str(other.path), "import", str(out), "--model", OTHER_MODEL]) == 1
+    assert main(["labels", str(other.path), "import", str(out), "--fit", OTHER_MODEL]) == 1
     assert "belongs to model" in capsys.readouterr().err
     assert main(["labels", str(project.path), "list"]) == 1
-    assert "--model FINGERPRINT, or --k K --seed S" in capsys.readouterr().err
+    assert "--fit FINGERPRINT, or --k K --seed S" in capsys.readouterr().err
 
 
 @pytest.mark.parametrize(

@@ -20,7 +20,7 @@ from tm_compare.demo import quillhaven as demo
 from tm_compare.demo.run import ANALYSTS, STEPS, demo_labels, run_demo, summary
 from tm_compare.errors import SettingsError
 
-SMALL = {"n_docs": 400, "seed": 0, "k": (4, 6), "seeds": 2, "passes": 2, "n_boot": 100}
+SMALL = {"n_docs": 400, "random_state": 0, "k": (4, 6), "seeds": 2, "passes": 2, "n_boot": 100}
 
 
 @functools.cache
@@ -51,19 +51,19 @@ def test_every_step_runs_and_reports():
 
 def test_sweep_grid_and_recommendation_follow_the_saved_scores():
     run, _ = small_demo()
-    scores = run.sweep.scores
+    scores = run.sweep.scores_
     assert sorted(zip(scores["k"], scores["seed"], strict=True)) == [(4, 0), (4, 1), (6, 0), (6, 1)]
     from tm_compare.models.scores import recommend
 
     again = recommend(scores)  # the rule re-applied to the scores as saved
-    assert (run.results.fit.k, run.results.fit.seed) == (again.k, again.seed)
+    assert (run.results.fit.k, run.results.fit.random_state) == (again.k, again.seed)
     assert again.rule in summary(run)
 
 
 def test_planted_heavy_reader_is_flagged_and_named_in_the_summary():
     # The planted fact: one reader visits one outlet thousands of times (demo.DemoTruth).
     run, _ = small_demo()
-    truth = demo.truth(SMALL["n_docs"], SMALL["seed"])
+    truth = demo.truth(SMALL["n_docs"], SMALL["random_state"])
     heavy = run.results.tables["influence"]
     flagged = heavy[heavy["flagged"] & (heavy["source"] == "visited")]
     assert truth.heavy_reader in set(flagged["group"])

@@ -226,3 +226,24 @@ def test_cli_prepare_reads_saves_and_caches(tmp_path, capsys):
     assert "Error: The 'near_duplicate_threshold' parameter of prepare" in err and "Got 2.0" in err
     assert main([*args[:2], "--text", "nope", *args[4:]]) == 1
     assert "nope" in capsys.readouterr().err
+
+
+def test_from_texts_counts_as_gensim_and_round_trips(tmp_path):
+    texts = [["harbour", "levy", "harbour"], ["tram", "levy"], []]
+    meta = pd.DataFrame({"id": [1, 2, 3], "source": ["web", "print", "web"]})
+    prepared = PreparedCorpus.from_texts(texts, meta)
+    # Reference: gensim's Dictionary and doc2bow on the same token lists, compared by word.
+    ref = Dictionary(texts)
+    ours = prepared.dictionary
+    for bag, ref_bag in zip(prepared.bow, (ref.doc2bow(t) for t in texts), strict=True):
+        assert {ours[i]: c for i, c in bag} == {ref[i]: c for i, c in ref_bag}
+    assert {ours[i]: n for i, n in ours.dfs.items()} == {ref[i]: n for i, n in ref.dfs.items()}
+    assert (ours.num_docs, ours.num_pos, ours.num_nnz) == (ref.num_docs, ref.num_pos, ref.num_nnz)
+    assert prepared.doc_ids == ["1", "2", "3"] and prepared.weights.tolist() == [1.0, 1.0, 1.0]
+    assert prepared.groups.tolist() == [None, None, None] and prepared.texts == texts
+    loaded = PreparedCorpus.load(prepared.save(tmp_path / "given"))
+    assert loaded.fingerprint == prepared.fingerprint and loaded.bow == prepared.bow
+    with pytest.raises(CorpusError, match="missing from vocab.*'tram'"):
+        PreparedCorpus.from_texts(texts, meta, vocab=["harbour", "levy"])
+    with pytest.raises(CorpusError, match="2 texts and 3 rows"):
+        PreparedCorpus.from_texts(texts[:2], meta)

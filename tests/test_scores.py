@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import itertools
 import os
+import re
 import warnings
 
 import gensim
@@ -138,7 +139,7 @@ def test_adversarial_small_corpora_equal_gensim(texts, topics, windows):
     assume(topics and (len(known[0]) > 4 or all(len(k) <= 4 for k in known)))
     small, large = windows
     sizes = {"npmi": small, "uci": small, "c_v": large}
-    scorer = CoherenceScorer(texts, dictionary, topn=4, window_sizes=sizes).fit([topics])
+    scorer = CoherenceScorer(texts, dictionary, n_terms=4, window_sizes=sizes).fit([topics])
     got = scorer.score(topics)
     for measure, name in GENSIM_NAMES.items():
         with warnings.catch_warnings():
@@ -193,8 +194,8 @@ def test_scorer_refuses_bad_input():
     texts = [list("abcab")]
     with pytest.raises(SettingsError, match="'measures'"):
         CoherenceScorer(texts, measures=("nmpi",)).fit([[["a", "b"]]])
-    with pytest.raises(SettingsError, match="'topn'"):
-        CoherenceScorer(texts, topn=0).fit([[["a", "b"]]])
+    with pytest.raises(SettingsError, match="'n_terms'"):
+        CoherenceScorer(texts, n_terms=0).fit([[["a", "b"]]])
     with pytest.raises(SettingsError, match="'window_sizes'"):
         CoherenceScorer(texts, window_sizes={"npmi": 0}).fit([[["a", "b"]]])
     with pytest.raises(SettingsError, match=r"'models_top_words\[0\]'"):
@@ -217,8 +218,8 @@ def test_average_jaccard_by_hand():
     b = ["sport", "best", "win", "medal", "award"]
     assert average_jaccard(a, b) == pytest.approx((0.2 + 1 / 7 + 3 / 7) / 5)
     assert round(average_jaccard(a, b), 3) == 0.154
-    with pytest.raises(SettingsError, match="'depth'"):
-        average_jaccard(a, b, depth=6)
+    with pytest.raises(SettingsError, match="'n_terms'"):
+        average_jaccard(a, b, n_terms=6)
 
 
 def test_match_topics_is_the_best_one_to_one_matching():
@@ -227,7 +228,7 @@ def test_match_topics_is_the_best_one_to_one_matching():
     vocab = [f"w{i}" for i in range(12)]
     a = [list(rng.choice(vocab, 5, replace=False)) for _ in range(4)]
     b = [list(rng.choice(vocab, 5, replace=False)) for _ in range(4)]
-    pairs, scores = match_topics(a, b, depth=5)
+    pairs, scores = match_topics(a, b, n_terms=5)
     best = max(
         sum(average_jaccard(a[i], b[j], 5) for i, j in enumerate(perm))
         for perm in itertools.permutations(range(4))
@@ -245,7 +246,7 @@ def test_stability_by_hand():
     # Per topic: seed 0 T0 = (0.5 + 1)/2 = 0.75, T1 = (2/3 + 1)/2 = 5/6; seed 1 U0 = 2/3, U1 = 0.5.
     run = [["a", "b"], ["c", "d"]]
     by_seed = {0: run, 1: [["c", "e"], ["b", "a"]], 2: run}
-    per_fit, per_topic, per_pair = stability(by_seed, depth=2)
+    per_fit, per_topic, per_pair = stability(by_seed, n_terms=2)
     assert per_pair["stability"].tolist() == pytest.approx([7 / 12, 1.0, 7 / 12])
     assert per_pair[["seed_a", "seed_b"]].values.tolist() == [[0, 1], [0, 2], [1, 2]]
     assert per_fit.set_index("seed")["stability"].to_dict() == pytest.approx(
@@ -264,8 +265,8 @@ def test_diversity_by_hand():
     # Dieng, Ruiz & Blei 2020: unique words / all words among the topics' top 25.
     # By hand: {a, b, c, d, e} over 6 words = 5/6.
     assert diversity([["a", "b", "c"], ["a", "d", "e"]]) == pytest.approx(5 / 6)
-    # Only the top `topn` count: top 2 -> {a, b, d} over 4.
-    assert diversity([["a", "b", "c"], ["a", "d", "e"]], topn=2) == pytest.approx(3 / 4)
+    # Only the top `n_terms` count: top 2 -> {a, b, d} over 4.
+    assert diversity([["a", "b", "c"], ["a", "d", "e"]], n_terms=2) == pytest.approx(3 / 4)
     # 40 topics of 25 distinct words each, no overlap -> 1.
     assert diversity([[f"t{i}w{j}" for j in range(30)] for i in range(40)]) == 1.0
 
@@ -329,3 +330,25 @@ def test_recommend_says_two_seeds_give_no_spread(crafted):
     rec = recommend(two)
     assert rec.k == 5  # only the most stable k qualifies when the spread is 0
     assert "with two seeds k = 5 has one pair of runs, so its standard error is 0" in rec.rule
+
+
+def test_old_names_of_n_terms_work_with_a_future_warning():
+    texts = [list("abcab"), list("bcd")]
+    topics = [["a", "b", "c"], ["b", "d", "c"]]
+    calls = [
+        ("CoherenceScorer(topn=...)", lambda **kw: CoherenceScorer(texts, **kw).n_terms),
+        ("coherence(topn=...)", lambda **kw: coherence(texts, topics, **kw).tolist()),
+        ("diversity(topn=...)", lambda **kw: diversity(topics, **kw)),
+        ("average_jaccard(depth=...)", lambda **kw: average_jaccard(*topics, **kw)),
+        ("match_topics(depth=...)", lambda **kw: match_topics(topics, topics, **kw)[1].tolist()),
+        ("stability(depth=...)", lambda **kw: stability({0: topics, 1: topics}, **kw)[0]),
+    ]
+    for old, call in calls:
+        name = old.split("(")[1].split("=")[0]
+        with pytest.warns(FutureWarning, match=rf"{re.escape(old)} is deprecated.*n_terms=..."):
+            before = call(**{name: 2})
+        after = call(n_terms=2)
+        if isinstance(after, pd.DataFrame):
+            pd.testing.assert_frame_equal(before, after)
+        else:
+            assert before == after

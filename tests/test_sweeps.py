@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 import pytest
 from gensim.models import CoherenceModel
-from test_fits import lee_corpus, stand_in
+from test_fits import corpus_of, lee_corpus
 
 import tm_compare.models.sweeps as sweep_module
 from tm_compare.errors import ClusterUnavailableError, InputError, SettingsError, SweepError
@@ -40,12 +40,12 @@ def saved(small, tmp_path_factory):
 
 def test_tables_have_one_row_per_fit_and_per_topic(saved):
     result, _ = saved
-    assert list(result.scores.columns[:4]) == ["k", "seed", "engine", "fit_seconds"]
+    assert list(result.scores_.columns[:4]) == ["k", "seed", "engine", "fit_seconds"]
     for column in ("npmi", "c_v", "uci", "umass", "perplexity", "stability", "diversity"):
-        assert result.scores[column].notna().all(), column
-    assert result.scores[["k", "seed"]].values.tolist() == [[3, 0], [3, 1], [4, 0], [4, 1]]
-    assert len(result.topic_scores) == 3 + 3 + 4 + 4
-    assert list(result.topic_scores.columns) == [
+        assert result.scores_[column].notna().all(), column
+    assert result.scores_[["k", "seed"]].values.tolist() == [[3, 0], [3, 1], [4, 0], [4, 1]]
+    assert len(result.topic_scores_) == 3 + 3 + 4 + 4
+    assert list(result.topic_scores_.columns) == [
         "k",
         "seed",
         "topic",
@@ -56,29 +56,29 @@ def test_tables_have_one_row_per_fit_and_per_topic(saved):
         "umass",
         "stability",
     ]
-    assert all(len(words) == 10 for words in result.topic_scores["top_words"])
-    means = result.topic_scores.groupby(["k", "seed"])[["npmi", "umass"]].mean().reset_index()
-    np.testing.assert_allclose(means[["npmi", "umass"]], result.scores[["npmi", "umass"]])
+    assert all(len(words) == 10 for words in result.topic_scores_["top_words"])
+    means = result.topic_scores_.groupby(["k", "seed"])[["npmi", "umass"]].mean().reset_index()
+    np.testing.assert_allclose(means[["npmi", "umass"]], result.scores_[["npmi", "umass"]])
 
 
 def test_a_fit_of_the_sweep_is_the_fit_run_alone(saved, small):
     result, _ = saved
-    alone = fit_lda(small, 4, seed=1, passes=1, chunksize=100)
-    fit = result.model(k=4, seed=1)
+    alone = fit_lda(small, 4, random_state=1, passes=1, chunksize=100)
+    fit = result.get_fit(k=4, seed=1)
     np.testing.assert_array_equal(fit.topic_term, alone.topic_term)
     assert fit.fingerprint == alone.fingerprint
-    row = result.scores.query("k == 4 and seed == 1").iloc[0]
+    row = result.scores_.query("k == 4 and seed == 1").iloc[0]
     assert row["perplexity"] == fit.perplexity
-    assert result.topic_scores.query("k == 4 and seed == 1")["top_words"].tolist() == fit.top_words(
-        10
-    )
+    assert result.topic_scores_.query("k == 4 and seed == 1")[
+        "top_words"
+    ].tolist() == fit.top_words(10)
     with pytest.raises(SweepError, match=r"no fit with k=5 .* Existing fits are: \(k=3, seed=0\)"):
-        result.model(k=5, seed=0)
+        result.get_fit(k=5, seed=0)
 
 
 def test_coherence_and_diversity_against_their_definitions(saved, small):
     result, _ = saved
-    fit = result.model(k=3, seed=0)
+    fit = result.get_fit(k=3, seed=0)
     # Reference: gensim's CoherenceModel, one model, its default NPMI window (10).
     reference = CoherenceModel(
         topics=fit.top_words(10),
@@ -88,7 +88,7 @@ def test_coherence_and_diversity_against_their_definitions(saved, small):
         topn=10,
         processes=1,
     ).get_coherence()
-    row = result.scores.query("k == 3 and seed == 0").iloc[0]
+    row = result.scores_.query("k == 3 and seed == 0").iloc[0]
     assert row["npmi"] == pytest.approx(reference, abs=1e-9)
     # Dieng, Ruiz & Blei (2020): unique words among all topics' top 25, over 25 k.
     top25 = fit.top_words(25)
@@ -100,12 +100,28 @@ def test_tables_are_saved_and_the_sweep_reopens(saved):
     for name in ("scores.csv", "scores.parquet", "topic_scores.csv", "topic_scores.parquet"):
         assert (project / "scores" / name).stat().st_size > 0
     csv = pd.read_csv(project / "scores" / "scores.csv")
-    np.testing.assert_allclose(csv["npmi"], result.scores["npmi"])
+    np.testing.assert_allclose(csv["npmi"], result.scores_["npmi"])
     again = Sweep.load(project)
-    pd.testing.assert_frame_equal(again.scores, result.scores)
-    pd.testing.assert_frame_equal(again.topic_scores, result.topic_scores)
-    assert again.model(k=3, seed=1).fingerprint == result.model(k=3, seed=1).fingerprint
+    pd.testing.assert_frame_equal(again.scores_, result.scores_)
+    pd.testing.assert_frame_equal(again.topic_scores_, result.topic_scores_)
+    assert again.get_fit(k=3, seed=1).fingerprint == result.get_fit(k=3, seed=1).fingerprint
     assert again.recommend().k in (3, 4) and "stability" in again.recommend().rule
+
+
+def test_old_names_work_with_a_future_warning_naming_the_new_one(saved):
+    result, _ = saved
+    for old, new in (("scores", "scores_"), ("topic_scores", "topic_scores_"), ("fits", "fits_")):
+        with pytest.warns(FutureWarning, match=rf"Sweep.{old} is deprecated.*use .{new} instead"):
+            assert getattr(result, old) is getattr(result, new)
+    with pytest.warns(FutureWarning, match=r"Sweep.model\(k, seed\).*use Sweep.get_fit"):
+        assert result.model(3, 1).fingerprint == result.get_fit(3, 1).fingerprint
+    with pytest.warns(FutureWarning) as caught:
+        old = Sweep(k=[3], holdout_seed=2, topn=5)
+    assert (old.holdout_random_state, old.n_terms) == (2, 5)
+    assert "use holdout_random_state=... instead" in str(caught[0].message)
+    assert "use n_terms=... instead" in str(caught[1].message)
+    with pytest.warns(FutureWarning, match="use .n_terms instead"):
+        assert old.topn == 5
 
 
 def test_rerun_skips_finished_fits_and_new_settings_make_new_fits(saved, small, monkeypatch):
@@ -118,7 +134,7 @@ def test_rerun_skips_finished_fits_and_new_settings_make_new_fits(saved, small, 
 
     monkeypatch.setattr(sweep_module, "train", refuse)
     again = sweep(small, **GRID, project=project, **FAST)
-    pd.testing.assert_frame_equal(again.scores, result.scores)
+    pd.testing.assert_frame_equal(again.scores_, result.scores_)
     assert [f.stat().st_mtime_ns for f in files] == stamps
     monkeypatch.undo()
     sweep(small, k=[3], seeds=1, project=project, **{**FAST, "passes": 2})
@@ -142,7 +158,7 @@ def test_a_corrupt_saved_fit_is_refit(small, tmp_path, monkeypatch):
     assert calls == [(3, 1)]
     assert victim.with_name(victim.name + ".corrupt").exists()  # kept aside, not deleted
     pd.testing.assert_frame_equal(
-        again.scores.drop(columns="fit_seconds"), first.scores.drop(columns="fit_seconds")
+        again.scores_.drop(columns="fit_seconds"), first.scores_.drop(columns="fit_seconds")
     )
 
 
@@ -167,15 +183,15 @@ def test_disk_full_mid_save_keeps_earlier_fits_and_leaves_no_half_file(
     left = sorted(p.name for p in (tmp_path / "fits").iterdir())
     assert len(left) == 1 and left[0].endswith(".npz") and "seed0" in left[0]
     resumed = sweep(small, k=[3], seeds=2, project=tmp_path, **FAST)
-    assert len(resumed.scores) == 2
+    assert len(resumed.scores_) == 2
 
 
 def test_sklearn_engine_sweeps_like_gensim(small, tmp_path):
     result = sweep(small, k=[3], seeds=2, engine="sklearn", project=tmp_path, **FAST)
-    assert result.scores["engine"].tolist() == ["sklearn", "sklearn"]
+    assert result.scores_["engine"].tolist() == ["sklearn", "sklearn"]
     assert sorted(p.name[:11] for p in (tmp_path / "fits").glob("*.npz")) == ["sklearn-k3-"] * 2
-    alone = fit_lda(small, 3, seed=1, engine="sklearn", passes=1, chunksize=100)
-    np.testing.assert_array_equal(result.model(k=3, seed=1).topic_term, alone.topic_term)
+    alone = fit_lda(small, 3, random_state=1, engine="sklearn", passes=1, chunksize=100)
+    np.testing.assert_array_equal(result.get_fit(k=3, seed=1).topic_term, alone.topic_term)
 
 
 def test_progress_bar_counts_fits_done_of_total(small, capsys):
@@ -215,7 +231,7 @@ def test_bad_grid_is_refused_before_any_fit(small, tmp_path, options, match):
 
 def test_empty_vocabulary_is_refused():
     with pytest.raises(InputError, match="0 terms in its vocabulary"):
-        sweep(stand_in([[], [], []], "empty"), k=[2], **FAST)
+        sweep(corpus_of([[], [], []], "empty"), k=[2], **FAST)
 
 
 def _closed_port() -> int:
@@ -232,7 +248,7 @@ def test_unreachable_scheduler_names_the_address(small, monkeypatch):
         sweep(small, k=[3], seeds=1, scheduler=address, **FAST)
     with pytest.warns(UserWarning, match="Fitting on this machine"):
         local = sweep(small, k=[3], seeds=1, scheduler=address, fallback_local=True, **FAST)
-    assert len(local.scores) == 1
+    assert len(local.scores_) == 1
 
 
 # -- processes -----------------------------------------------------------------------------------
@@ -241,7 +257,7 @@ def test_worker_processes_give_the_sequential_results(saved, small):
     result, _ = saved
     parallel = sweep(small, **GRID, n_jobs=2, **FAST)
     pd.testing.assert_frame_equal(
-        parallel.scores.drop(columns="fit_seconds"), result.scores.drop(columns="fit_seconds")
+        parallel.scores_.drop(columns="fit_seconds"), result.scores_.drop(columns="fit_seconds")
     )
 
 
@@ -274,10 +290,10 @@ def test_sweep_killed_mid_way_resumes_to_the_uninterrupted_result(small, tmp_pat
     whole = sweep(small, project=tmp_path / "whole", progress=False, **KILLED_GRID)
     assert [f.stat().st_mtime_ns for f in finished] == stamps  # kept, not refit
     pd.testing.assert_frame_equal(
-        resumed.scores.drop(columns="fit_seconds"), whole.scores.drop(columns="fit_seconds")
+        resumed.scores_.drop(columns="fit_seconds"), whole.scores_.drop(columns="fit_seconds")
     )
-    for key in whole.fits:
-        np.testing.assert_array_equal(resumed.fits[key].doc_topic, whole.fits[key].doc_topic)
+    for key in whole.fits_:
+        np.testing.assert_array_equal(resumed.fits_[key].doc_topic, whole.fits_[key].doc_topic)
 
 
 # -- command line --------------------------------------------------------------------------------
@@ -310,7 +326,7 @@ def test_cli_sweeps_the_projects_prepared_corpus(tmp_path, capsys):
     assert code == 0
     assert "Scores of 4 fits (gensim)" in out and "Proposed: k = " in out
     reopened = Sweep.load(tmp_path)
-    assert reopened.scores[["k", "seed"]].values.tolist() == [[3, 0], [3, 1], [4, 0], [4, 1]]
+    assert reopened.scores_[["k", "seed"]].values.tolist() == [[3, 0], [3, 1], [4, 0], [4, 1]]
     assert reopened.corpus_fingerprint_ == prepared.fingerprint
     assert k_grid("5:40:5") == list(range(5, 41, 5)) and k_grid("5,10") == [5, 10]
     assert main(["sweep", str(tmp_path), "--k", "1:3", "--no-progress"]) == 1

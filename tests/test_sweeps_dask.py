@@ -30,12 +30,12 @@ def test_cluster_results_equal_the_local_run():
     ran = [task["key"] for task in stream.data]
     assert sum("_train_shared" in str(key) for key in ran) == 2  # both fits ran on the workers
     pd.testing.assert_frame_equal(
-        on_client.scores.drop(columns="fit_seconds"), local.scores.drop(columns="fit_seconds")
+        on_client.scores_.drop(columns="fit_seconds"), local.scores_.drop(columns="fit_seconds")
     )
-    for key in local.fits:
+    for key in local.fits_:
         np.testing.assert_array_equal(
-            on_client.fits[key].doc_dirichlet, local.fits[key].doc_dirichlet
+            on_client.fits_[key].doc_dirichlet, local.fits_[key].doc_dirichlet
         )
     np.testing.assert_array_equal(
-        by_address.model(k=4, seed=0).topic_term, local.model(k=4, seed=0).topic_term
+        by_address.get_fit(k=4, seed=0).topic_term, local.get_fit(k=4, seed=0).topic_term
     )

@@ -1,10 +1,9 @@
 """Term rankings and source wording (tm_compare.terms), against hand-computed cases."""
 
-from types import SimpleNamespace
-
 import numpy as np
 import pandas as pd
 import pytest
+from _builders import build_prepared, topics_fit
 
 from tm_compare.compare.terms import (
     log_odds_with_prior,
@@ -13,23 +12,19 @@ from tm_compare.compare.terms import (
     topic_term_counts,
 )
 from tm_compare.errors import ComparisonError, SettingsError
+from tm_compare.models.fits import Fit
 
 PHI = np.array([[0.4, 0.3, 0.2, 0.1], [0.6, 0.1, 0.1, 0.2]])
-FIT = SimpleNamespace(
-    k=2,
-    topic_term=PHI,
-    vocab=["w0", "w1", "w2", "w3"],
-    doc_topic=np.array([[0.5, 0.5], [0.5, 0.5]]),
-)
+FIT = topics_fit(PHI, ["w0", "w1", "w2", "w3"], doc_topic=[[0.5, 0.5], [0.5, 0.5]])
 
 
 def scores(method, **kwargs):
-    table = term_rankings(FIT, method, topn=4, **kwargs)
+    table = term_rankings(FIT, method=method, n_terms=4, **kwargs)
     return table.pivot(index="topic", columns="term_id", values="score").to_numpy(), table
 
 
 def test_probability_order_with_ties_by_term_id():
-    table = term_rankings(FIT, topn=3)
+    table = term_rankings(FIT, n_terms=3)
     assert table[table.topic == 1].term.tolist() == ["w0", "w3", "w1"]  # 0.6, 0.2, 0.1 (tie: id)
     assert table["rank"].tolist() == [1, 2, 3, 1, 2, 3]
 
@@ -46,8 +41,8 @@ def test_lift_and_relevance_by_hand():
     assert (table.parameter == 0.6).all()
     # lam = 1 is the probability order, lam = 0 the lift order (Sievert & Shirley 2014, sec. 3.1).
     for lam, method in ((1.0, "probability"), (0.0, "lift")):
-        a = term_rankings(FIT, "relevance", lam=lam, topn=4).term.tolist()
-        assert a == term_rankings(FIT, method, topn=4).term.tolist()
+        a = term_rankings(FIT, method="relevance", lam=lam, n_terms=4).term.tolist()
+        assert a == term_rankings(FIT, method=method, n_terms=4).term.tolist()
 
 
 def test_frex_by_hand():
@@ -69,42 +64,36 @@ def test_frex_by_hand():
 
 
 def test_empirical_term_share_from_prepared():
-    prepared = SimpleNamespace(bow=[[(0, 3), (1, 1)], [(2, 4), (3, 2)]])  # counts 3, 1, 4, 2
+    texts = [["w0"] * 3 + ["w1"], ["w2"] * 4 + ["w3"] * 2]  # counts 3, 1, 4, 2
+    prepared = build_prepared(["a", "a"], texts, vocab=FIT.vocab)
     lift, _ = scores("lift", prepared=prepared)
     np.testing.assert_allclose(lift[1], PHI[1] / (np.array([3, 1, 4, 2]) / 10))  # by hand
 
 
 def test_bad_parameters():
     with pytest.raises(SettingsError, match="'method'"):
-        term_rankings(FIT, "salience")
+        term_rankings(FIT, method="salience")
     with pytest.raises(SettingsError, match="'lam'"):
-        term_rankings(FIT, "relevance", lam=1.5)
-    broken = SimpleNamespace(k=3, topic_term=PHI, vocab=FIT.vocab)
+        term_rankings(FIT, method="relevance", lam=1.5)
+    broken = topics_fit(PHI, FIT.vocab)
+    broken.k = 3  # a fit whose k disagrees with its topic_term
     with pytest.raises(ComparisonError, match="k=3"):
         term_rankings(broken)
 
 
 def wording_case(theta=1.0):
     """Source a: counts (10, 5, 0); source b: (2, 8, 4); topic 0 share ``theta`` everywhere."""
-    bow = [[(0, 10), (1, 5)], [(0, 2), (1, 8), (2, 4)]]
-    fit = SimpleNamespace(
-        k=2,
-        topic_term=np.full((2, 3), 1 / 3),
-        vocab=["tax", "levy", "toll"],
-        doc_topic=np.array([[theta, 1 - theta], [theta, 1 - theta]]),
+    texts = [["tax"] * 10 + ["levy"] * 5, ["tax"] * 2 + ["levy"] * 8 + ["toll"] * 4]
+    prepared = build_prepared(
+        ["a", "b"], texts, ids=["x", "y"], weights=[1.0, 3.0], vocab=["tax", "levy", "toll"]
     )
-    prepared = SimpleNamespace(
-        bow=bow,
-        sources=np.array(["a", "b"]),
-        weights=np.array([1.0, 3.0]),
-        meta=pd.DataFrame({"id": ["x", "y"]}),
-    )
+    fit = Fit.from_arrays(prepared, np.full((2, 3), 1 / 3), [[theta, 1 - theta]] * 2)
     return fit, prepared
 
 
 def test_log_odds_with_informative_prior_by_hand():
     fit, prepared = wording_case()
-    table = source_wording(fit, prepared, 0, against="each")
+    table = source_wording(fit, prepared, 0, against="each", weighting="unique")
     a = table[table.source == "a"].set_index("term")
     # Monroe, Colaresi & Quinn 2008, eqs. 16-22, by hand: prior a_w = y_w = (12, 13, 4),
     # a_0 = 29, n_a = 15, n_b = 14. For "tax":
@@ -163,3 +152,13 @@ def test_wording_needs_two_sources_and_a_valid_topic():
         source_wording(fit, prepared, 0, sources=["a"])
     with pytest.raises(ComparisonError, match="'c'"):
         source_wording(fit, prepared, 0, sources=["a", "c"])
+
+
+def test_old_argument_order_and_names_still_work_with_a_warning():
+    # Old spellings keep working for one release (issue 10), with a FutureWarning naming the new.
+    with pytest.warns(FutureWarning, match=r"use term_rankings\(fit, prepared, method=\.\.\.\)"):
+        old = term_rankings(FIT, "frex", prepared=None)
+    pd.testing.assert_frame_equal(old, term_rankings(FIT, None, "frex"))
+    with pytest.warns(FutureWarning, match=r"term_rankings\(topn=\.\.\.\).*n_terms=\.\.\."):
+        short = term_rankings(FIT, method="frex", topn=3)
+    pd.testing.assert_frame_equal(short, term_rankings(FIT, method="frex", n_terms=3))

@@ -12,7 +12,7 @@ from __future__ import annotations
 import html
 import re
 import time
-from types import SimpleNamespace
+from dataclasses import replace
 
 import numpy as np
 import pandas as pd
@@ -22,6 +22,8 @@ from tm_compare.compare import documents, terms
 from tm_compare.compare import prevalence as comparison
 from tm_compare.labels.store import LabelStore
 from tm_compare.models.fits import Fit
+from tm_compare.models.sweeps import sweep
+from tm_compare.text.prepared import PreparedCorpus
 from tm_compare.views import SweepView, TopicView, charts
 from tm_compare.views._cards import emphasise
 from tm_compare.views._offline import bundle_path, cache_dir, chart_widget
@@ -54,12 +56,8 @@ def planted():
     for t in range(K):
         topic_term[t, t * PER_TOPIC : (t + 1) * PER_TOPIC] = np.linspace(0.2, 0.05, PER_TOPIC)
     topic_term /= topic_term.sum(axis=1, keepdims=True)
-    texts, bow = [], []
-    for d in range(n):
-        words = rng.choice(V, 30, p=doc_topic[d] @ topic_term)
-        counts = np.bincount(words, minlength=V)
-        bow.append([(int(i), int(c)) for i, c in enumerate(counts) if c])
-        texts.append(" ".join(vocab[i] for i in words))
+    tokens = [[vocab[i] for i in rng.choice(V, 30, p=doc_topic[d] @ topic_term)] for d in range(n)]
+    texts = [" ".join(t) for t in tokens]
     ids = [f"d{d:03d}" for d in range(n)]
     titles = [f"Article {d} on topic {dominant[d]}" for d in range(n)]
     texts[0], titles[0] = HOSTILE_TEXT + " " + texts[0], HOSTILE_TITLE
@@ -79,31 +77,8 @@ def planted():
             "outlet": np.where(np.arange(n) % 2, "Harbour <Times>", "Gull Post"),
         }
     )
-    prepared = SimpleNamespace(
-        doc_ids=ids,
-        sources=sources,
-        weights=weights,
-        groups=groups,
-        meta=meta,
-        bow=bow,
-        texts=[t.split() for t in texts],
-    )
-    fit = Fit(
-        k=K,
-        seed=0,
-        engine="planted",
-        engine_version="0",
-        settings={},
-        fit_seconds=0.0,
-        vocab=vocab,
-        doc_ids=ids,
-        topic_term=topic_term,
-        doc_dirichlet=doc_topic * 50,
-        heldout=np.zeros(n, bool),
-        perplexity=float("nan"),
-        corpus_fingerprint="planted",
-        doc_topic=doc_topic,
-    )
+    prepared = PreparedCorpus.from_texts(tokens, meta, vocab=vocab)
+    fit = Fit.from_arrays(prepared, topic_term, doc_topic, doc_dirichlet=doc_topic * 50)
     return fit, prepared
 
 
@@ -140,11 +115,11 @@ def test_one_topic_trait_moves_every_panel(view, planted):
     assert view.terms_panel.terms_chart.params.focus == 2
     assert view.sources_panel.topic_list.selected == 2
     assert "Reading topic <b>2 · w20 w21 w22</b>" in view.reading_title.value
-    expected = documents.representative_documents(fit, prepared, 2, per_source=3)
+    expected = documents.representative_documents(fit, prepared, 2, n_docs=3)
     for source, box in view.documents_panel.columns.items():
         for title in expected[expected["source"] == source]["title"]:
             assert html.escape(title) in box.value
-    wording = terms.source_wording(fit, prepared, 2, against="each", topn=8)
+    wording = terms.source_wording(fit, prepared, 2, against="each", n_terms=8)
     first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
     rows = next(iter(view.terms_panel.wording_chart.spec["datasets"].values()))
     assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
@@ -185,15 +160,15 @@ def test_weighting_cluster_and_influence_warning(view, planted):
 def test_ranking_selector_uses_term_rankings(view, planted):
     fit, prepared = planted
     panel = view.terms_panel
-    panel.ranking.value = "relevance"
+    panel.method.value = "relevance"
     assert panel.weight.layout.display is None and panel.weight.value == 0.6
     panel.weight.value = 0.3
-    expected = terms.term_rankings(fit, "relevance", topn=12, lam=0.3, prepared=prepared)
+    expected = terms.term_rankings(fit, prepared, "relevance", lam=0.3)
     rows = next(iter(panel.terms_chart.spec["datasets"].values()))
     assert [(r["topic"], r["term"]) for r in rows] == list(
         zip(expected["topic"], expected["term"], strict=True)
     )
-    panel.ranking.value = "lift"
+    panel.method.value = "lift"
     assert panel.weight.layout.display == "none"
 
 
@@ -278,34 +253,36 @@ def test_polling_thread_brings_colleagues_labels(planted, store, tmp_path):
         view.close()
 
 
-def test_sweep_view_picks_fits_by_click_and_row(planted):
-    fit, _ = planted
-    scores = pd.DataFrame(
-        {
-            "k": [4, 4, 6, 6],
-            "seed": [0, 1, 0, 1],
-            "npmi": [0.1, 0.12, 0.2, 0.18],
-            "c_v": [0.5, 0.52, 0.6, 0.61],
-            "perplexity": [300.0, 310, 290, 295],
-            "stability": [0.8, 0.8, 0.7, 0.7],
-            "diversity": [0.9, 0.9, 0.8, 0.85],
-        }
+@pytest.mark.slow
+def test_sweep_view_picks_fits_by_click_and_row(planted, monkeypatch):
+    _, prepared = planted
+    result = sweep(
+        prepared,
+        k=[2, 3],
+        seeds=2,
+        passes=2,
+        iterations=20,
+        measures=("npmi", "c_v"),
+        progress=False,
     )
-    advice = SimpleNamespace(k=6, seed=0, rule="highest mean NPMI <among> stable k")
-    fake = SimpleNamespace(
-        scores=scores, recommend=lambda: advice, model=lambda k, seed: (k, seed), engine="planted"
-    )
-    view = SweepView(fake)
-    assert (view.k, view.seed) == (6, 0) and view.chart.params.picked == "6:0"
+    # No real rule text holds markup: the rule is set, on the sweep's own recommendation.
+    advice = replace(result.recommend(), rule="highest mean NPMI <among> stable k")
+    monkeypatch.setattr(result, "recommend", lambda measure="npmi": advice)
+    view = SweepView(result)
+    key = f"{advice.k}:{advice.seed}"
+    assert (view.k, view.seed) == (advice.k, advice.seed) and view.chart.params.picked == key
     assert "highest mean NPMI &lt;among&gt; stable k" in view.advice.value
-    _click(view.chart, charts.FIT_PICK, k=4, seed=1)
-    assert (view.k, view.seed) == (4, 1) and view.picked_model() == (4, 1)
-    assert view.fits_table.selected == "4:1"
-    view.fits_table.selected = "6:1"
-    assert (view.k, view.seed) == (6, 1)
+    other_k = 5 - advice.k  # the k of the grid [2, 3] that was not suggested
+    _click(view.chart, charts.FIT_PICK, k=other_k, seed=1)
+    assert (view.k, view.seed) == (other_k, 1)
+    assert view.picked_fit() is result.get_fit(other_k, 1)
+    assert (view.picked_fit().k, view.picked_fit().random_state) == (other_k, 1)
+    assert view.fits_table.selected == f"{other_k}:1"
+    view.fits_table.selected = f"{advice.k}:{1 - advice.seed}"
+    assert (view.k, view.seed) == (advice.k, 1 - advice.seed)
     view.measure_choice.value = "perplexity"
     rows = next(iter(view.chart.spec["datasets"].values()))
-    assert [r["value"] for r in rows] == scores["perplexity"].tolist()
+    assert [r["value"] for r in rows] == result.scores_["perplexity"].tolist()
     assert "lower is better" in str(view.chart.spec["layer"][0]["encoding"]["y"]["title"])
     assert [o[1] for o in view.measure_choice.options] == [
         "npmi",

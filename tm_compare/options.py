@@ -7,7 +7,10 @@ listed here. Change a default in this file and every surface follows.
 
 Names for "how many to show" are one per kind: ``n_terms`` (terms of a topic), ``n_docs``
 (documents per topic and source), ``n_groups`` (readers or outlets listed), ``n_topics``
-(topics listed). Randomness is always ``random_state``; a fitted model is always ``fit``.
+(topics listed). Randomness is always ``random_state`` (``holdout_random_state`` for the draw of
+held-out documents, kept apart so that every fit of a sweep is judged on the same documents); a
+fitted model is always ``fit``. CLI flags are these names with dashes, except ``--jobs``
+(``n_jobs``), whose default on the command line is all cores (-1).
 """
 
 from __future__ import annotations
@@ -61,7 +64,20 @@ _TABLE = (
         ("each", "rest"),
         "compare every pair of sources, or each source with all others pooled",
     ),
-    Option("random_state", 0, None, "seed of every random draw (bootstrap, fits, held-out set)"),
+    Option(
+        "model_uncertainty",
+        False,
+        None,
+        "also redraw each document's topic shares from its Dirichlet (slower)",
+    ),
+    Option("n_model_draws", 100, None, "batches of replicates sharing one redraw of the shares"),
+    Option(
+        "cap_group_share",
+        None,
+        None,
+        "cap every cluster's share of its source's weight (0-1), or none",
+    ),
+    Option("random_state", 0, None, "seed of every random draw (bootstrap, fits)"),
     # -- terms and documents
     Option(
         "method",
@@ -72,7 +88,7 @@ _TABLE = (
     ),
     Option("frex_weight", 0.5, None, "FREX: weight of exclusivity against frequency (0-1)"),
     Option("lam", 0.6, None, "relevance: weight of p(term|topic) against lift (0-1)"),
-    Option("n_terms", 10, None, "terms shown per topic"),
+    Option("n_terms", 10, None, "terms per topic: shown, and scored for coherence and stability"),
     Option("n_docs", 5, None, "representative documents shown per topic and source"),
     Option("n_groups", 5, None, "heaviest readers or outlets listed per source"),
     Option("n_topics", 5, None, "most different topics listed per comparison"),
@@ -82,11 +98,27 @@ _TABLE = (
     Option("engine", "gensim", ("gensim", "sklearn"), "LDA implementation"),
     Option("measure", "npmi", ("npmi", "c_v", "uci", "umass"), "coherence measure"),
     Option("holdout", 0.1, None, "share of documents held out for perplexity"),
+    Option(
+        "holdout_random_state",
+        0,
+        None,
+        "seed of the draw of held-out documents (one draw for every fit of a sweep)",
+    ),
+    Option(
+        "n_jobs",
+        None,
+        None,
+        "worker processes on this machine (joblib convention: None is 1, -1 all cores)",
+    ),
     Option("passes", 10, None, "passes over the corpus per fit"),
     Option("iterations", 50, None, "inference iterations per document"),
     Option("chunksize", 2000, None, "documents per online update"),
     Option("alpha", "symmetric", None, "document-topic prior"),
     Option("eta", "symmetric", None, "topic-word prior"),
+    # gensim's names and defaults; scikit-learn gets the same values under its own names.
+    Option("decay", 0.5, None, "learning-rate decay kappa of online LDA, in [0.5, 1]"),
+    Option("offset", 1.0, None, "learning-rate offset tau0 of online LDA, > 0"),
+    Option("gamma_threshold", 0.001, None, "convergence tolerance of each document's E-step"),
 )
 
 OPTIONS: dict[str, Option] = {o.name: o for o in _TABLE}

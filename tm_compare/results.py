@@ -1,122 +1,259 @@
-"""Per-model tables behind a topic view: computed once per setting, per topic on first use.
+"""The tables of one fitted model: the one place they are computed, with one set of defaults.
 
-Switching the selected topic must stay fast on large corpora, so everything that does not depend
-on the topic (comparison tables, term rankings of all topics) is computed once per setting, and
-what does (how sources word it, its representative documents) is cached per topic. Every number
-comes from the plain functions of :mod:`tm_compare.comparison`, :mod:`tm_compare.terms` and
-:mod:`tm_compare.documents`; this module only reshapes their output for the charts.
+:class:`ModelResults` holds a fit, its prepared corpus and the settings of the comparison
+(defaults and accepted values from :mod:`tm_compare.options`). Each method returns one table,
+computed on first use by the plain functions of :mod:`tm_compare.compare` and cached per
+setting. The command line, the views, the report and the exports all read these same objects,
+so a number is the same wherever it is shown, and every table carries the settings that shaped
+it as columns.
+
+Switching the selected topic in a view must stay fast on large corpora: what does not depend on
+the topic (comparison tables, term rankings, every topic's term counts per source) is computed
+once per setting, and what does (how sources word it, its representative documents) once per
+topic, the documents from each source's best few candidates only.
 """
 
 from __future__ import annotations
 
+import contextlib
+import copy
 import warnings
-from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
 
+from ._validation import param_error
 from .compare import documents, terms
 from .compare import prevalence as comparison
+from .errors import ComparisonError, SettingsError
+from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
+from .labels.store import COLUMNS as LABEL_COLUMNS
+from .options import check, choices, default
 
-#: Term rankings offered, with the weight each one takes (None: no weight).
-RANKINGS = {
-    "probability": None,
-    "lift": None,
-    "frex": ("FREX weight", 0.5),
-    "relevance": ("relevance weight (lambda)", 0.6),
+#: The settings of :class:`ModelResults` (defaults and accepted values: :mod:`tm_compare.options`).
+SETTINGS = (
+    "weighting",
+    "cluster",
+    "n_boot",
+    "ci",
+    "interval",
+    "resampling",
+    "fdr",
+    "against",
+    "random_state",
+    "frex_weight",
+    "lam",
+    "n_terms",
+    "n_docs",
+)
+_BOOT = ("weighting", "cluster", "n_boot", "ci", "interval", "resampling", "random_state")
+#: The settings that shape each table: they key its cache and are written beside it as columns
+#: (a term ranking's own weight is in its ``parameter`` column).
+SHAPED_BY = {
+    "prevalence": _BOOT,
+    "differences": (*_BOOT, "against", "fdr"),
+    "influence": ("weighting", "cluster"),
+    "cap_effect": ("weighting", "cluster"),
+    "terms": ("n_terms",),
+    "wording": ("weighting", "n_terms"),
+    "documents": ("n_docs",),
 }
+_COLUMN_OF = {"ci": "ci_level"}  # the column name prevalence() gives a setting
+#: The setting that weighs each term ranking that takes a weight.
+METHOD_WEIGHT = {"frex": "frex_weight", "relevance": "lam"}
+#: Candidates per document shown: representative documents are the highest shares, so only
+#: each source's best ``CANDIDATES * n_docs`` documents of a topic can be among them.
+CANDIDATES = 10
 
 
-class ModelTables:
-    """Tables of one fitted model on its prepared corpus, cached for interaction.
+class ModelResults:
+    """Every table of one fitted model on its prepared corpus, computed once per setting.
 
     Parameters
     ----------
     fit : Fit
     prepared : PreparedCorpus
-    n_boot : int
-        Bootstrap replicates for prevalence and differences.
-    n_terms, n_docs : int
-        Terms per topic and documents per topic and source shown.
-    random_state : int
+        The prepared corpus the fit was trained on.
+    corpus : Corpus, optional
+        Adds the user's own metadata columns to :meth:`document_topics`.
+    **settings
+        Any of :data:`SETTINGS`: ``weighting``, ``cluster`` (``"group"``, a column of
+        ``prepared.meta`` such as ``"outlet"``, or None for documents), ``n_boot``, ``ci``,
+        ``interval``, ``resampling``, ``fdr``, ``against``, ``random_state`` (an integer),
+        ``frex_weight``, ``lam``, ``n_terms``, ``n_docs``. Defaults: :mod:`tm_compare.options`.
+        ``cluster="group"`` on a corpus without groups resamples documents instead
+        (``settings["cluster"]`` is then None) and says so with a UserWarning.
+
+    Attributes
+    ----------
+    settings : dict
+        The settings in use; each table holds those that shaped it as columns.
+    sources : list of str
+        The sources with documents, sorted.
+
+    Examples
+    --------
+    ::
+
+        results = ModelResults(fit, prepared, n_boot=500)
+        results.differences()  # computed once, then cached
+        results.with_settings(weighting="unique").prevalence()  # shares the cache
+        results.tables()  # every table by name, as the exports write them
     """
 
-    def __init__(self, fit, prepared, *, n_boot=1000, n_terms=12, n_docs=4, random_state=0):
-        self.fit = fit
-        self.prepared = prepared
-        self.n_boot = n_boot
-        self.n_terms = n_terms
-        self.n_docs = n_docs
-        self.random_state = random_state
-        self._doc_sources = np.asarray(prepared.sources).astype(str)
-        self.sources = sorted(set(self._doc_sources))
-        self._source_rows = {s: np.flatnonzero(self._doc_sources == s) for s in self.sources}
-        self._n_candidates = 10 * n_docs
-        self._comparisons: dict = {}
-        self._terms: dict = {}
-        self._wording: dict = {}
-        self._documents: dict = {}
-        self._wording_counts = None
-        # the same 10 top terms the snippets of representative_documents are cut around
-        self._top_words = fit.top_words(10)
-        self.captions = {t: f"{t} · {' '.join(w[:3])}" for t, w in enumerate(self._top_words)}
+    def __init__(self, fit, prepared, *, corpus=None, **settings):
+        self.fit, self.prepared, self.corpus = fit, prepared, corpus
+        doc_sources = np.asarray(prepared.sources).astype(str)
+        self.sources = sorted(set(doc_sources))
+        self._source_rows = {s: np.flatnonzero(doc_sources == s) for s in self.sources}
+        self._grouped = bool(pd.notna(np.asarray(prepared.groups, dtype=object)).any())
+        self._cache: dict = {}  # shared with every with_settings() copy
+        self.settings = self._resolve({name: default(name) for name in SETTINGS} | settings)
+
+    def __repr__(self) -> str:
+        shown = ", ".join(f"{k}={v!r}" for k, v in self.settings.items())
+        return f"ModelResults(k={self.k}, seed={self.fit.random_state}, {shown})"
 
     @property
     def k(self) -> int:
         return int(self.fit.k)
 
-    def cluster_choices(self) -> list[str]:
-        """Columns the bootstrap can resample by: ``group`` when given, and ``outlet``."""
-        choices = []
-        groups = np.asarray(self.prepared.groups, dtype=object)
-        if any(g is not None and g == g for g in groups):
-            choices.append("group")
-        meta = self.prepared.meta
-        if "outlet" in meta.columns and meta["outlet"].notna().any():
-            choices.append("outlet")
-        return choices
+    def with_settings(self, **changes) -> ModelResults:
+        """The same model under other settings; tables already computed are shared, not redone."""
+        other = copy.copy(self)
+        other.settings = self._resolve({**self.settings, **changes})
+        return other
 
-    def comparison(self, weighting: str, cluster: str | None) -> dict:
-        """Prevalence, differences and the influence check for one weighting and cluster column."""
-        key = (weighting, cluster)
-        if key not in self._comparisons:
-            common = dict(
-                weighting=weighting,
-                cluster=cluster,
-                n_boot=self.n_boot,
-                random_state=self.random_state,
+    def _resolve(self, settings: dict) -> dict:
+        owner = "ModelResults"
+        unknown = sorted(set(settings) - set(SETTINGS))
+        if unknown:
+            msg = (
+                f"{owner} has no setting {unknown[0]!r}. Its settings are: "
+                f"{', '.join(SETTINGS)} (see tm_compare.options)."
             )
-            prev = comparison.prevalence(self.fit, self.prepared, **common)
-            diff = comparison.differences(self.fit, self.prepared, **common)
-            heavy = None
-            if cluster is not None:
-                with warnings.catch_warnings():
-                    warnings.simplefilter("ignore", UserWarning)
-                    heavy = comparison.influence(
-                        self.prepared, weighting=weighting, cluster=cluster, warn=False
-                    )
-            self._comparisons[key] = {"prevalence": prev, "differences": diff, "influence": heavy}
-        return self._comparisons[key]
+            raise SettingsError(msg)
+        for name, value in settings.items():
+            if name != "cluster":
+                check(owner, name, value)
+        seed = settings["random_state"]
+        if isinstance(seed, bool) or not isinstance(seed, int | np.integer):
+            accepted = "an integer (tables are cached, so a seed must give the same draws again)"
+            raise param_error(owner, "random_state", seed, accepted)
+        cluster = settings["cluster"]
+        columns = list(self.prepared.meta.columns)
+        if cluster is not None and cluster != "group" and cluster not in columns:
+            accepted = "None (documents), 'group' or a column of the prepared corpus: " + ", ".join(
+                map(repr, columns)
+            )
+            raise param_error(owner, "cluster", cluster, accepted)
+        if cluster == "group" and not self._grouped:
+            warnings.warn(
+                "The corpus has no group column, so the bootstrap cannot resample readers "
+                "(cluster='group'): it resamples documents instead (cluster=None). Give the "
+                "corpus a group column, or pass cluster=None.",
+                UserWarning,
+                stacklevel=3,
+            )
+            settings = {**settings, "cluster": None}
+        return settings
 
-    def pairs(self, weighting: str, cluster: str | None) -> list[tuple[str, str]]:
-        diff = self.comparison(weighting, cluster)["differences"]
+    def cluster_choices(self) -> list[str]:
+        """Columns the bootstrap can resample besides documents: ``group``, ``outlet`` if given."""
+        meta = self.prepared.meta
+        found = ["group"] if self._grouped else []
+        if "outlet" in meta.columns and meta["outlet"].notna().any():
+            found.append("outlet")
+        return found
+
+    # --- caching ------------------------------------------------------------------------------
+
+    def _cached(self, key: tuple, make):
+        if key not in self._cache:
+            self._cache[key] = make()
+        return self._cache[key]
+
+    def _stamp(self, name: str, table: pd.DataFrame) -> pd.DataFrame:
+        """``table`` with the settings that shaped it as columns (those it does not hold yet)."""
+        add = {_COLUMN_OF.get(s, s): self.settings[s] for s in SHAPED_BY[name]}
+        return table.assign(**{c: v for c, v in add.items() if c not in table.columns})
+
+    def _table(self, name: str, make, *extra) -> pd.DataFrame:
+        key = (name, *(self.settings[s] for s in SHAPED_BY[name]), *extra)
+        return self._cached(key, lambda: self._stamp(name, make()))
+
+    def _boot(self) -> dict:
+        return {name: self.settings[name] for name in _BOOT}
+
+    # --- comparison between sources -----------------------------------------------------------
+
+    def prevalence(self) -> pd.DataFrame:
+        """Prevalence of every topic in every source, with bootstrap intervals
+        (:func:`tm_compare.compare.prevalence.prevalence`)."""
+        return self._table(
+            "prevalence", lambda: comparison.prevalence(self.fit, self.prepared, **self._boot())
+        )
+
+    def differences(self) -> pd.DataFrame:
+        """Differences in prevalence between sources, with intervals and adjusted p-values
+        (:func:`tm_compare.compare.prevalence.differences`)."""
+        s = self.settings
+        return self._table(
+            "differences",
+            lambda: comparison.differences(
+                self.fit, self.prepared, against=s["against"], fdr=s["fdr"], **self._boot()
+            ),
+        )
+
+    def pairs(self) -> list[tuple[str, str]]:
+        """The comparisons of :meth:`differences`, as (source, other), in its order."""
+        diff = self.differences()
         return list(dict.fromkeys(zip(diff["source"], diff["other"], strict=True)))
 
-    def chart_frames(self, weighting, cluster, pair) -> tuple[pd.DataFrame, pd.DataFrame]:
-        """Frames for :func:`tm_compare.charts.source_chart`, topics ordered by difference."""
-        tables = self.comparison(weighting, cluster)
-        prev = tables["prevalence"].rename(
+    def influence(self) -> pd.DataFrame:
+        """The heaviest clusters of each source, those above the threshold flagged.
+
+        Needs a cluster column: with ``cluster=None`` there is none to check (SettingsError).
+        """
+        s = self.settings
+        return self._table(
+            "influence",
+            lambda: comparison.influence(
+                self.prepared, weighting=s["weighting"], cluster=s["cluster"], warn=False
+            ),
+        )
+
+    def cap_effect(self) -> pd.DataFrame:
+        """Prevalence before and after capping every cluster's share at the influence threshold."""
+        s = self.settings
+        cap = float(self.influence()["threshold"].iloc[0])
+        return self._table(
+            "cap_effect",
+            lambda: comparison.cap_effect(
+                self.fit,
+                self.prepared,
+                cap_group_share=cap,
+                weighting=s["weighting"],
+                cluster=s["cluster"],
+            ),
+        )
+
+    def chart_frames(self, pair: tuple[str, str] | None = None):
+        """Prevalence and difference frames of :func:`tm_compare.views.charts.source_chart`
+        for ``pair`` (default: the first comparison), topics ordered by difference."""
+        pair = tuple(pair or self.pairs()[0])
+        captions = self.captions
+        prev = self.prevalence().rename(
             columns={"prevalence": "estimate", "ci_low": "lower", "ci_high": "upper"}
         )
-        prev = prev[["topic", "source", "estimate", "lower", "upper"]].assign(
-            name=lambda f: f["topic"].map(self.captions)
-        )
-        diff = tables["differences"]
+        prev = prev[["topic", "source", "estimate", "lower", "upper"]]
+        prev = prev.assign(name=prev["topic"].map(captions))
+        diff = self.differences()
         diff = diff[(diff["source"] == pair[0]) & (diff["other"] == pair[1])]
         diff = pd.DataFrame(
             {
                 "topic": diff["topic"].to_numpy(),
-                "name": diff["topic"].map(self.captions).to_numpy(),
+                "name": diff["topic"].map(captions).to_numpy(),
                 "estimate": diff["difference"].to_numpy(),
                 "lower": diff["diff_ci_low"].to_numpy(),
                 "upper": diff["diff_ci_high"].to_numpy(),
@@ -126,87 +263,163 @@ class ModelTables:
         ).sort_values("estimate", ascending=False, kind="stable")
         return prev, diff.reset_index(drop=True)
 
-    def terms(self, ranking: str, weight: float | None) -> pd.DataFrame:
-        """Top terms of every topic under one ranking (``topic``, ``term``, ``score``, ``rank``)."""
-        key = (ranking, weight)
-        if key not in self._terms:
-            options = {"relevance": {"lam": weight}, "frex": {"frex_weight": weight}}.get(
-                ranking, {}
-            )
-            table = terms.term_rankings(
-                self.fit, ranking, topn=self.n_terms, prepared=self.prepared, **options
-            )
-            self._terms[key] = table[["topic", "term", "score", "rank"]]
-        return self._terms[key]
+    # --- terms and documents ------------------------------------------------------------------
 
-    def wording(self, topic: int, pair: tuple[str, str], per_side: int = 8) -> pd.DataFrame:
-        """Terms the topic's documents use more in ``pair[0]`` (z > 0) or ``pair[1]`` (z < 0)."""
-        key = (topic, pair)
-        if key not in self._wording:
-            table = terms.source_wording(
+    def terms(self, method: str | None = None) -> pd.DataFrame:
+        """The top ``n_terms`` terms of every topic under ``method`` (None: every method)."""
+        if method is None:
+            s = self.settings
+            return self._cached(
+                ("all terms", s["n_terms"], s["frex_weight"], s["lam"]),
+                lambda: pd.concat([self.terms(m) for m in choices("method")], ignore_index=True),
+            )
+        check("ModelResults.terms", "method", method)
+        setting = METHOD_WEIGHT.get(method)
+        weight = {} if setting is None else {setting: self.settings[setting]}
+        return self._table(
+            "terms",
+            lambda: terms.term_rankings(
+                self.fit, self.prepared, method, n_terms=self.settings["n_terms"], **weight
+            ),
+            method,
+            *weight.values(),
+        )
+
+    def wording(self, topic: int, pair: tuple[str, str] | None = None) -> pd.DataFrame:
+        """Terms each source uses more when it writes on ``topic``: the two sources of ``pair``
+        both ways, or (None) every comparison the setting ``against`` asks for."""
+        topic = self._topic("wording", topic)
+        against, sources = ("each", list(pair)) if pair else (self.settings["against"], None)
+        weighting = self.settings["weighting"]
+        counts = self._cached(
+            ("topic_counts", weighting),
+            lambda: terms.topic_term_counts(self.fit, self.prepared, weighting=weighting),
+        )
+        return self._table(
+            "wording",
+            lambda: terms.source_wording(
                 self.fit,
                 self.prepared,
-                int(topic),
-                against="each",
-                sources=list(pair),
-                topn=per_side,
-                topic_counts=self._topic_counts(),
-            )
-            first = table[(table["source"] == pair[0]) & (table["other"] == pair[1])]
-            second = table[(table["source"] == pair[1]) & (table["other"] == pair[0])]
-            self._wording[key] = pd.concat(
-                [
-                    pd.DataFrame({"term": first["term"], "score": first["z"]}),
-                    pd.DataFrame({"term": second["term"], "score": -second["z"]}),
-                ],
-                ignore_index=True,
-            )
-        return self._wording[key]
+                topic,
+                against=against,
+                sources=sources,
+                weighting=weighting,
+                n_terms=self.settings["n_terms"],
+                topic_counts=counts,
+            ),
+            topic,
+            against,
+            tuple(sources or ()),
+        )
 
-    def _topic_counts(self):
-        # Every topic's counts per source in one sparse product, once per model: a topic
-        # switch then only reads a column.
-        if self._wording_counts is None:
-            self._wording_counts = terms.topic_term_counts(self.fit, self.prepared)
-        return self._wording_counts
+    def documents(self, topic: int | None = None) -> pd.DataFrame:
+        """The ``n_docs`` documents per source that show ``topic`` best (None: every topic).
 
-    def documents(self, topic: int) -> dict[str, pd.DataFrame]:
-        """Representative documents of ``topic``, one frame per source, ready for the cards."""
-        if topic not in self._documents:
-            fit, prepared = self._candidates(int(topic))
-            table = documents.representative_documents(fit, prepared, 0, per_source=self.n_docs)
-            table["topic"] = topic
-            table = table.rename(columns={"topic_share": "share"})
-            self._documents[topic] = {s: table[table["source"] == s] for s in self.sources}
-        return self._documents[topic]
-
-    def _candidates(self, topic: int):
-        """The fit and corpus cut to each source's top documents of ``topic`` (one topic column).
-
-        Representative documents are the highest shares, so only the best few hundred per
-        source can be among them (ten times as many as shown are kept); handing :func:`representative_documents` those alone keeps a
-        switch fast on corpora of hundreds of thousands of documents. Near-duplicates are then
-        folded among these candidates only.
+        Each topic is computed once, from each source's ``CANDIDATES * n_docs`` highest shares
+        only (near-duplicates are folded among those), so a topic switch stays fast.
         """
+        if topic is None:
+            return self._cached(
+                ("all documents", self.settings["n_docs"]),
+                lambda: pd.concat([self.documents(t) for t in range(self.k)], ignore_index=True),
+            )
+        topic = self._topic("documents", topic)
+        n_docs = self.settings["n_docs"]
+        return self._table(
+            "documents",
+            lambda: documents.representative_documents(
+                self.fit,
+                self.prepared,
+                topic,
+                n_docs=n_docs,
+                rows=self._candidates(topic, CANDIDATES * n_docs),
+            ),
+            topic,
+        )
+
+    def _candidates(self, topic: int, n: int) -> np.ndarray:
         shares = np.asarray(self.fit.doc_topic[:, topic], dtype=float)
         keep = []
         for idx in self._source_rows.values():
-            if len(idx) > self._n_candidates:
-                idx = idx[np.argpartition(-shares[idx], self._n_candidates)[: self._n_candidates]]
-            keep.append(np.sort(idx))
-        keep = np.concatenate(keep)
-        fit = SimpleNamespace(
-            doc_topic=shares[keep, None],
-            topic_term=self.fit.topic_term[[topic]],
-            vocab=self.fit.vocab,
-        )
-        prepared = SimpleNamespace(
-            meta=self.prepared.meta.iloc[keep].reset_index(drop=True),
-            sources=self._doc_sources[keep],
-            weights=np.asarray(self.prepared.weights, dtype=float)[keep],
-        )
-        return fit, prepared
+            if len(idx) > n:
+                idx = idx[np.argpartition(-shares[idx], n)[:n]]
+            keep.append(idx)
+        return np.sort(np.concatenate(keep))
 
-    def emphasis_terms(self, topic: int) -> list[str]:
-        """The words emphasised in the topic's documents: its top terms by probability."""
-        return self._top_words[topic]
+    def _topic(self, owner: str, topic) -> int:
+        if not (isinstance(topic, int | np.integer) and 0 <= topic < self.k):
+            raise param_error(owner, "topic", topic, f"a topic number from 0 to {self.k - 1}")
+        return int(topic)
+
+    def top_words(self, topic: int) -> list[str]:
+        """The topic's most probable terms: those its documents' snippets are cut around."""
+        words = self._cached(("top_words",), lambda: self.fit.top_words(documents.SNIPPET_TERMS))
+        return words[self._topic("top_words", topic)]
+
+    def document_topics(self) -> pd.DataFrame:
+        """Each document's topic shares with its id and metadata, one row per document."""
+        return self._cached(
+            ("document_topics",),
+            lambda: documents.document_topics(self.fit, self.prepared, self.corpus),
+        )
+
+    # --- labels -------------------------------------------------------------------------------
+
+    def read_labels(self, store=None) -> dict[str, pd.DataFrame]:
+        """Read the labels, consensus and agreement of this model from ``store`` (a LabelStore;
+        None: no labels yet, empty tables). Each call reads the store again."""
+        if store is None:
+            read = {
+                "labels": pd.DataFrame(columns=list(LABEL_COLUMNS)),
+                "consensus": pd.DataFrame(columns=list(CONSENSUS_COLUMNS)),
+                "agreement": pd.DataFrame(columns=list(AGREEMENT_COLUMNS)),
+            }
+        else:
+            labels = store.current(self.fit)
+            consensus = store.consensus(self.fit)
+            consensus["sources"] = consensus["sources"].map("; ".join)
+            fields = [f for f in AGREEMENT_FIELDS if labels[f].notna().any()]
+            agreement = (
+                store.agreement(self.fit, fields=fields)
+                if fields and not store.in_blind_round(self.fit)
+                else pd.DataFrame(columns=list(AGREEMENT_COLUMNS))
+            )
+            read = {"labels": labels, "consensus": consensus, "agreement": agreement}
+        self._cache["labels"] = read
+        return read
+
+    @property
+    def captions(self) -> dict[int, str]:
+        """Topic -> short caption: its settled name once labels are read, else its top words."""
+        names = {}
+        if "labels" in self._cache:
+            consensus = self._cache["labels"]["consensus"]
+            names = dict(zip(consensus["topic"], consensus["name"], strict=True))
+        return {
+            t: f"{t} · {names.get(t) or ' '.join(self.top_words(t)[:3])}" for t in range(self.k)
+        }
+
+    # --- everything ---------------------------------------------------------------------------
+
+    def tables(self) -> dict[str, pd.DataFrame]:
+        """Every table by name, as the exports write them.
+
+        ``prevalence``; ``differences`` (two sources or more); ``influence`` when clusters are
+        resampled, and ``cap_effect`` when a cluster is flagged; ``terms`` (every method);
+        ``documents`` (every topic); ``document_topics``; and ``labels``, ``consensus``,
+        ``agreement`` once :meth:`read_labels` was called.
+        """
+        out = {"prevalence": self.prevalence()}
+        if len(self.sources) > 1:
+            out["differences"] = self.differences()
+        if self.settings["cluster"] is not None:
+            out["influence"] = self.influence()
+            if out["influence"]["flagged"].any():
+                with contextlib.suppress(ComparisonError):
+                    # No table when a source has too few clusters to cap each at the threshold.
+                    out["cap_effect"] = self.cap_effect()
+        out["terms"] = self.terms()
+        out["documents"] = self.documents()
+        out["document_topics"] = self.document_topics()
+        out.update(self._cache.get("labels", {}))
+        return out

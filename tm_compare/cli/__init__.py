@@ -14,7 +14,9 @@ import importlib
 import sys
 import traceback
 
+from .._deprecation import warn_renamed
 from ..errors import TmCompareError
+from ..options import OPTIONS, cli_help
 
 # Order here is the order in ``tm-compare --help``.
 COMMANDS = ("demo", "prepare", "sweep", "compare", "labels", "report", "export")
@@ -34,6 +36,48 @@ def build_parser() -> argparse.ArgumentParser:
     for name in COMMANDS:
         importlib.import_module(f"{__name__}._{name}").register(subparsers)
     return parser
+
+
+def add_option(parser, name: str, *flags: str, renamed=(), **overrides) -> None:
+    """Add the flag of option ``name`` of :mod:`tm_compare.options`, with its default, choices
+    and help (:func:`~tm_compare.options.cli_help`); ``overrides`` are argparse's keywords.
+
+    ``flags`` default to ``--name-with-dashes``; ``renamed`` are old spellings that keep working
+    with a FutureWarning naming the new one.
+    """
+    option = OPTIONS[name]
+    flags = flags or ("--" + name.replace("_", "-"),)
+    settings = {"dest": name, "default": option.default, "help": cli_help(name)}
+    if option.choices is not None:
+        settings["choices"] = [c for c in option.choices if c is not None]
+    elif type(option.default) in (int, float):
+        kind = type(option.default)
+        settings.update(type=kind, metavar="N" if kind is int else "X")
+    settings.update(overrides)
+    parser.add_argument(*flags, **settings)
+    for old in renamed:
+        kept = {k: v for k, v in settings.items() if k in ("type", "choices", "metavar")}
+        parser.add_argument(
+            old,
+            dest=name,
+            action=_Renamed,
+            new=flags[0],
+            default=argparse.SUPPRESS,
+            help=argparse.SUPPRESS,
+            **kept,
+        )
+
+
+class _Renamed(argparse.Action):
+    """The old spelling of a flag: it still works, with a FutureWarning naming the new one."""
+
+    def __init__(self, option_strings, dest, new: str, **kwargs):
+        super().__init__(option_strings, dest, **kwargs)
+        self.new = new
+
+    def __call__(self, parser, namespace, values, option_string=None):
+        warn_renamed(option_string, self.new, stacklevel=2)
+        setattr(namespace, self.dest, values)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -1,19 +1,80 @@
 """``tm-compare compare PROJECT --k K``: compare sources under one model of the sweep.
 
-A thin layer over :mod:`tm_compare.comparison`, :mod:`tm_compare.terms` and
-:mod:`tm_compare.documents`: it writes their tables as CSV files to
-``PROJECT/comparison/k{K}_seed{S}/`` and prints the most different topics.
+A thin layer over :class:`tm_compare.results.ModelResults`: it writes the model's comparison
+tables as CSV files to ``PROJECT/comparison/k{K}_seed{S}/`` and prints the most different
+topics. The flags of the settings (:func:`add_settings`) are shared with ``report`` and
+``export``; their names, defaults and help come from :mod:`tm_compare.options`.
 """
 
 from __future__ import annotations
 
+import contextlib
 import sys
 import warnings
 from pathlib import Path
 
 import pandas as pd
 
-SUMMARY_ROWS = 5
+from .._deprecation import warn_renamed
+from ..options import OPTIONS, cli_help, default
+from . import add_option
+
+#: Tables ``compare`` writes, of those :meth:`ModelResults.tables` returns.
+WRITTEN = ("prevalence", "differences", "influence", "cap_effect", "terms", "documents")
+#: Settings of ModelResults offered as flags (``--n-boot`` for ``n_boot``).
+SETTINGS = (
+    "weighting",
+    "cluster",
+    "against",
+    "n_boot",
+    "ci",
+    "interval",
+    "resampling",
+    "fdr",
+    "random_state",
+    "n_terms",
+    "n_docs",
+)
+NO_CLUSTER = "document"  # --cluster document: the API's cluster=None
+
+
+def add_settings(parser) -> None:
+    """One flag per setting of :class:`tm_compare.results.ModelResults`, from the options table."""
+    for name in SETTINGS:
+        if name == "cluster":
+            choices = [c for c in OPTIONS[name].choices if c is not None] + [NO_CLUSTER]
+            help_ = cli_help(name) + f"; '{NO_CLUSTER}' resamples documents"
+            add_option(parser, name, choices=choices, help=help_)
+        else:
+            add_option(parser, name, renamed=("--weight",) if name == "weighting" else ())
+
+
+def settings(args) -> dict:
+    """The ModelResults settings of parsed ``args``."""
+    chosen = {name: getattr(args, name) for name in SETTINGS}
+    if chosen["cluster"] == NO_CLUSTER:
+        chosen["cluster"] = None
+    return chosen
+
+
+def described(settings: dict) -> str:
+    """The comparison's settings in words, as the commands print them."""
+    cluster = settings["cluster"]
+    resampled = "documents" if cluster is None else f"clusters of {cluster!r}"
+    return (
+        f"{settings['weighting']} weighting; intervals resample {resampled} "
+        f"({settings['n_boot']} replicates, random_state {settings['random_state']})"
+    )
+
+
+@contextlib.contextmanager
+def notes():
+    """Print the warnings raised inside (e.g. a fallback to documents) as ``Note: ...`` lines."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        yield
+    for note in caught:
+        print(f"Note: {note.message}", file=sys.stderr)
 
 
 def register(subparsers) -> None:
@@ -25,33 +86,20 @@ def register(subparsers) -> None:
             "every topic in every source with bootstrap intervals, differences between "
             "sources with Benjamini-Hochberg adjusted p-values, the influence check, term "
             "rankings and representative documents, written as CSV files to "
-            "PROJECT/comparison/k{K}_seed{S}/. Prints the most different topics."
+            "PROJECT/comparison/k{K}_seed{S}/ (the settings used are columns of every table). "
+            "Prints the most different topics. The settings and their defaults are those of "
+            "the Python API (tm_compare.results.ModelResults)."
         ),
     )
     parser.add_argument("project", metavar="PROJECT", help="project folder with a sweep")
     parser.add_argument("--k", type=int, required=True, help="number of topics of the model")
-    parser.add_argument("--seed", type=int, default=0, help="seed of the model (default 0)")
-    parser.add_argument(
-        "--weight",
-        choices=("exposure", "unique"),
-        default="exposure",
-        help="count documents by exposure (their weight) or once each (default exposure)",
-    )
+    parser.add_argument("--seed", type=int, default=0, help="seed of the model [0]")
+    add_settings(parser)
     parser.add_argument(
         "--by-group",
         action="store_true",
-        help="resample whole groups (e.g. readers) instead of documents for the intervals",
+        help="deprecated: groups are resampled by default now (--cluster group)",
     )
-    parser.add_argument(
-        "--against",
-        choices=("each", "rest"),
-        default="each",
-        help="compare every pair of sources, or each source with the rest",
-    )
-    parser.add_argument(
-        "--n-boot", type=int, default=1000, help="bootstrap replicates (default 1000)"
-    )
-    parser.add_argument("--random-state", type=int, default=0, help="seed of the bootstrap")
     parser.set_defaults(func=run)
 
 
@@ -65,40 +113,10 @@ def _load(project_path: str, k: int, seed: int):
     return project, fit, load_prepared(project, fit.corpus_fingerprint)
 
 
-def tables(
-    fit, prepared, *, weighting, cluster, against, n_boot, random_state
-) -> dict[str, pd.DataFrame]:
-    """Every table of the comparison, by file stem."""
-    from ..compare.documents import representative_documents
-    from ..compare.prevalence import differences, influence, prevalence
-    from ..compare.terms import term_rankings
-
-    common = {
-        "weighting": weighting,
-        "cluster": cluster,
-        "n_boot": n_boot,
-        "random_state": random_state,
-    }
-    suffix = f"{weighting}-{cluster or 'document'}"
-    out = {f"prevalence-{suffix}": prevalence(fit, prepared, **common)}
-    if len(set(prepared.sources.tolist())) > 1:
-        out[f"differences-{suffix}"] = differences(fit, prepared, against=against, **common)
-    out[f"influence-{weighting}"] = influence(prepared, weighting=weighting, warn=False)
-    out["terms"] = pd.concat(
-        [
-            term_rankings(fit, method, topn=15, prepared=prepared)
-            for method in ("probability", "frex", "relevance", "lift")
-        ],
-        ignore_index=True,
-    )
-    out["documents"] = representative_documents(fit, prepared)
-    return out
-
-
-def summary(table: pd.DataFrame, fit, rows: int = SUMMARY_ROWS) -> pd.DataFrame:
-    """The most different topics of each comparison, for the terminal."""
+def summary(table: pd.DataFrame, fit, n_topics: int = default("n_topics")) -> pd.DataFrame:
+    """The ``n_topics`` most different topics of each comparison, for the terminal."""
     words = [" ".join(w) for w in fit.top_words(4)]
-    top = table[table["rank"] <= rows].copy()
+    top = table[table["rank"] <= n_topics].copy()
     top["top words"] = [words[t] for t in top["topic"]]
     top["difference (CI)"] = [
         f"{d:+.3f} ({lo:+.3f}, {hi:+.3f})"
@@ -119,43 +137,40 @@ def summary(table: pd.DataFrame, fit, rows: int = SUMMARY_ROWS) -> pd.DataFrame:
     ].round(3)
 
 
+def deprecated_flags(args) -> None:
+    """Apply ``--by-group`` (the old opt-in to groups), with a FutureWarning naming the new flag."""
+    if args.by_group:
+        warn_renamed("--by-group", "--cluster group (the default)", stacklevel=2)
+        args.cluster = "group"
+
+
 def run(args) -> int:
     from .._atomic import atomic_path
+    from ..results import ModelResults
 
+    deprecated_flags(args)
     project, fit, prepared = _load(args.project, args.k, args.seed)
-    cluster = "group" if args.by_group else None
-    with warnings.catch_warnings(record=True) as caught:
-        warnings.simplefilter("always")
-        made = tables(
-            fit,
-            prepared,
-            weighting=args.weight,
-            cluster=cluster,
-            against=args.against,
-            n_boot=args.n_boot,
-            random_state=args.random_state,
-        )
+    with notes():
+        results = ModelResults(fit, prepared, **settings(args))
+        made = {n: t for n, t in results.tables().items() if n in WRITTEN}
+    s = results.settings
+    suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
     folder = Path(project.folder("comparison")) / f"k{args.k}_seed{args.seed}"
-    for stem, table in made.items():
+    for name, table in made.items():
+        stem = name if name in ("terms", "documents") else f"{name}-{suffix}"
         with atomic_path(folder / f"{stem}.csv") as tmp:
             table.to_csv(tmp, index=False)
-    for note in caught:
-        print(f"Note: {note.message}", file=sys.stderr)
-    flagged = made[f"influence-{args.weight}"].query("flagged")
-    for row in flagged.itertuples(index=False):
+    heavy = made.get("influence")  # none when documents are resampled
+    for row in [] if heavy is None else heavy[heavy["flagged"]].itertuples(index=False):
         print(
             f"Note: group {row.group!r} carries {row.share:.0%} of {row.source!r} "
-            f"({args.weight} weighting).",
+            f"({s['weighting']} weighting).",
             file=sys.stderr,
         )
-    diff = next((t for s, t in made.items() if s.startswith("differences")), None)
-    print(
-        f"Model k={args.k}, seed={args.seed}; weighting: {args.weight}; intervals resample "
-        f"{'groups' if cluster else 'documents'} ({args.n_boot} replicates)."
-    )
-    if diff is None:
+    print(f"Model k={args.k}, seed={args.seed}; {described(s)}.")
+    if "differences" not in made:
         print("One source only: no differences to show.")
     else:
-        print(summary(diff, fit).to_string(index=False))
+        print(summary(made["differences"], fit).to_string(index=False))
     print(f"Wrote {len(made)} tables to {folder}")
     return 0

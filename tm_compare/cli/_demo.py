@@ -1,6 +1,6 @@
 """``tm-compare demo``: run the whole job on the invented Quillhaven corpus.
 
-A thin layer over :func:`tm_compare.pipeline.run_demo`; each step's report is
+A thin layer over :func:`tm_compare.demo.run.run_demo`; each step's report is
 printed as it finishes, then where everything is and a short summary.
 """
 
@@ -10,6 +10,7 @@ import argparse
 import time
 
 from ..demo.run import DEFAULT_PROJECT, GRID, N_BOOT
+from . import add_option
 from ._sweep import k_grid, seed_list
 
 
@@ -36,12 +37,12 @@ def register(subparsers) -> None:
         metavar="N",
         help="number of articles (at least 200; up to 200,000 for benchmarks)",
     )
-    parser.add_argument(
-        "--seed",
-        type=int,
-        default=0,
+    add_option(
+        parser,
+        "random_state",
+        renamed=("--seed",),
         metavar="S",
-        help="random seed: the same seed gives the same corpus",
+        help="seed of the invented corpus: the same seed gives the same corpus",
     )
     grid = parser.add_argument_group("sweep and comparison (smaller is faster)")
     grid.add_argument(
@@ -83,7 +84,7 @@ def run(args) -> int:
     result = run_demo(
         args.project,
         n_docs=args.docs,
-        seed=args.seed,
+        random_state=args.random_state,
         echo=section,
         k=args.k,
         seeds=args.seeds,

@@ -5,7 +5,8 @@ from __future__ import annotations
 import argparse
 
 from ..report.exports import CHART_FORMATS, TABLE_FORMATS
-from ._report import add_model_options
+from ._compare import described
+from ._report import add_model_options, collect_results
 
 
 def _formats(accepted: tuple[str, ...]):
@@ -57,15 +58,15 @@ def register(subparsers) -> None:
 
 
 def run(args) -> int:
-    from ..report.exports import collect, export
+    from ..report.exports import export
 
-    results = collect(args.project, args.k, args.seed, n_boot=args.n_boot)
+    results = collect_results(args)
     written = export(
         results.project, charts=args.charts, tables=args.tables, out=args.out, results=results
     )
     folders = sorted({str(p.parent) for p in written})
     print(
-        f"Exported {len(written)} files of the model k={results.fit.k}, seed {results.fit.seed} "
-        f"to {', '.join(folders) or 'nowhere (nothing asked for)'}"
+        f"Exported {len(written)} files of the model k={results.fit.k}, seed {results.fit.random_state} "
+        f"({described(results.settings)}) to {', '.join(folders) or 'nowhere (nothing asked for)'}"
     )
     return 0

@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
-import json
+import argparse
 import sys
 
 import pandas as pd
 
+from .._deprecation import warn_renamed
 from ..errors import LabelStoreError
+from ..labels._schema import LABEL_FIELDS
 from ..models.sweeps import load_fit
 from ..project import Project
 
@@ -20,8 +22,8 @@ def register(subparsers) -> None:
         help="list, export, import topic labels and report coder agreement",
         description=(
             "Work with a project's topic labels. The store is PROJECT/labels.sqlite unless "
-            "--store gives another (e.g. a PostgreSQL URL). Pick the model by its fingerprint "
-            "(--model) or by --k and --seed of the project's sweep."
+            "--store gives another (e.g. a PostgreSQL URL). Pick the fit by its fingerprint "
+            "(--fit; formerly --model) or by --k and --seed of the project's sweep."
         ),
     )
     parser.add_argument("project", metavar="PROJECT", help="project folder")
@@ -29,9 +31,10 @@ def register(subparsers) -> None:
     parser.add_argument(
         "file", nargs="?", metavar="FILE", help="label file to import (import only)"
     )
-    parser.add_argument("--model", metavar="FINGERPRINT", help="fingerprint of the fitted model")
-    parser.add_argument("--k", type=int, help="number of topics of the model in the sweep")
-    parser.add_argument("--seed", type=int, help="seed of the model in the sweep")
+    parser.add_argument("--fit", metavar="FINGERPRINT", help="fingerprint of the fit (the model)")
+    parser.add_argument("--model", metavar="FINGERPRINT", help=argparse.SUPPRESS)  # old --fit
+    parser.add_argument("--k", type=int, help="number of topics of the fit in the sweep")
+    parser.add_argument("--seed", type=int, help="seed of the fit in the sweep")
     parser.add_argument(
         "--format",
         choices=("csv", "json"),
@@ -50,18 +53,21 @@ def register(subparsers) -> None:
     parser.set_defaults(func=run)
 
 
-def _model(args):
-    """The model fingerprint and, when the sweep is available, its top words."""
-    if args.model and (args.k is not None or args.seed is not None):
-        msg = "Give either --model FINGERPRINT or --k K --seed S, not both."
-        raise LabelStoreError(msg)
+def _fit(args):
+    """The fit's fingerprint and, when the sweep is available, its top words."""
     if args.model:
-        return args.model, None
+        warn_renamed("--model", "--fit")
+    fingerprint = args.fit or args.model
+    if fingerprint and (args.k is not None or args.seed is not None):
+        msg = "Give either --fit FINGERPRINT or --k K --seed S, not both."
+        raise LabelStoreError(msg)
+    if fingerprint:
+        return fingerprint, None
     if args.k is None or args.seed is None:
-        msg = "Name the model: --model FINGERPRINT, or --k K --seed S of the project's sweep."
+        msg = "Name the fit: --fit FINGERPRINT, or --k K --seed S of the project's sweep."
         raise LabelStoreError(msg)
     fit = load_fit(Project.open(args.project), args.k, args.seed)
-    return fit.fingerprint, fit.top_words(10)
+    return fit.fingerprint, fit.top_words()
 
 
 def _printable(value):
@@ -99,37 +105,25 @@ def run(args) -> int:
     location = args.store or Project.open(args.project)
     if args.action == "import":
         if not args.file:
-            msg = "import needs the label FILE to read: tm-compare labels PROJECT import FILE --model FINGERPRINT"
+            msg = "import needs the label FILE to read: tm-compare labels PROJECT import FILE --fit FINGERPRINT"
             raise LabelStoreError(msg)
-        model, _ = _model(args)
+        fit, _ = _fit(args)
         with LabelStore(location, analyst=args.analyst) as store:
-            counts = store.import_labels(args.file, model=model)
+            counts = store.import_labels(args.file, fit=fit)
         print(
             f"Imported {counts['added']} label rows, skipped {counts['skipped']} already present."
         )
         return 0
-    model, top_words = _model(args)
+    fit, top_words = _fit(args)
     with LabelStore(location, analyst=args.analyst) as store:
         if args.action == "list":
-            frame = store.history(model) if args.history else store.current(model)
-            shown = [
-                "topic",
-                "analyst",
-                "version",
-                "name",
-                "verdict",
-                "category",
-                "confidence",
-                "note",
-            ]
+            frame = store.history(fit) if args.history else store.current(fit)
+            shown = ["topic", "analyst", "version", *LABEL_FIELDS]
             _emit(frame if args.format else frame[shown], args)
         elif args.action == "agreement":
-            _emit(store.agreement(model), args)
+            _emit(store.agreement(fit), args)
         else:
             fmt = args.format or "json"
-            result = store.export(model, format=fmt, history=args.history, top_words=top_words)
-            text = (
-                json.dumps(result, ensure_ascii=False, indent=2) + "\n" if fmt == "json" else result
-            )
-            _write(text, args.out)
+            text = store.export_text(fit, format=fmt, history=args.history, top_words=top_words)
+            _write(text + "\n" if fmt == "json" else text, args.out)
     return 0

@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+from ._compare import add_settings, described, notes, settings
+
 
 def add_model_options(parser) -> None:
-    """``--k`` and ``--seed``, shared by ``report`` and ``export``."""
+    """The project, ``--k``, ``--seed`` and the comparison's settings, shared by ``report``
+    and ``export``."""
     parser.add_argument("project", metavar="PROJECT", help="project folder with a sweep")
     parser.add_argument(
         "--k",
@@ -18,9 +21,15 @@ def add_model_options(parser) -> None:
         metavar="S",
         help="seed of the model (default: the recommended seed, or 0 with --k)",
     )
-    parser.add_argument(
-        "--n-boot", type=int, default=1000, help="bootstrap replicates of the comparison [1000]"
-    )
+    add_settings(parser)
+
+
+def collect_results(args):
+    """The :class:`tm_compare.report.exports.Results` the flags ask for; fallbacks as notes."""
+    from ..report.exports import collect
+
+    with notes():
+        return collect(args.project, args.k, args.seed, **settings(args))
 
 
 def register(subparsers) -> None:
@@ -46,10 +55,12 @@ def register(subparsers) -> None:
 
 
 def run(args) -> int:
-    from ..report.exports import collect
     from ..report.html import write_report
 
-    results = collect(args.project, args.k, args.seed, n_boot=args.n_boot)
+    results = collect_results(args)
     path = write_report(results.project, out=args.out, results=results)
-    print(f"Report of the model k={results.fit.k}, seed {results.fit.seed}: {path}")
+    print(
+        f"Report of the model k={results.fit.k}, seed {results.fit.random_state} "
+        f"({described(results.settings)}): {path}"
+    )
     return 0

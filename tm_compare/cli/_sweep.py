@@ -4,18 +4,14 @@ from __future__ import annotations
 
 import argparse
 
-SHOWN = [
-    "k",
-    "seed",
-    "npmi",
-    "c_v",
-    "uci",
-    "umass",
-    "perplexity",
-    "stability",
-    "diversity",
-    "fit_seconds",
-]
+from ..models._engines import SETTINGS
+from ..models.scores import MEASURES
+from ..options import default
+from . import add_option
+
+SHOWN = ["k", "seed", *MEASURES, "perplexity", "stability", "diversity", "fit_seconds"]
+#: Options of the sweep given on the command line under their Python names.
+SWEEP_OPTIONS = ("k", "seeds", "engine", "holdout", "holdout_random_state", "n_terms", *SETTINGS)
 
 
 def register(subparsers) -> None:
@@ -26,36 +22,33 @@ def register(subparsers) -> None:
             "Fit LDA on the project's prepared corpus for every k and seed, save each fit in "
             "PROJECT/fits as it finishes (a rerun skips finished fits), score every fit "
             "(coherence, held-out perplexity, stability across seeds, diversity), save the "
-            "tables to PROJECT/scores and print them with the proposed k and its rule."
+            "tables to PROJECT/scores and print them with the proposed k and its rule. "
+            "Flags are the Python API's parameters with dashes (e.g. --n-terms for n_terms), "
+            "except --jobs, which is n_jobs."
         ),
     )
     parser.add_argument("project", metavar="PROJECT", help="project folder with a prepared corpus")
-    parser.add_argument(
-        "--k",
+    k_default = default("k")
+    add_option(
+        parser,
+        "k",
         type=k_grid,
-        default=k_grid("5:40:5"),
+        default=list(k_default),
         metavar="GRID",
-        help="topic counts: START:STOP:STEP with STOP included, or a list such as 5,10,20 [5:40:5]",
+        help="topic counts: START:STOP:STEP with STOP included, or a list such as 5,10,20 "
+        f"[{k_default[0]}:{k_default[-1]}:{k_default[1] - k_default[0]}]",
     )
-    parser.add_argument(
-        "--seeds",
-        type=seed_list,
-        default=3,
-        metavar="N|LIST",
-        help="a number of seeds (3 means 0,1,2) or a list such as 0,4,9 [3]",
-    )
-    parser.add_argument(
-        "--engine",
-        choices=("gensim", "sklearn"),
-        default="gensim",
-        help="LDA implementation [gensim]",
-    )
-    parser.add_argument(
+    add_option(parser, "seeds", type=seed_list, metavar="N|LIST")
+    add_option(parser, "engine")
+    add_option(
+        parser,
+        "n_jobs",
         "--jobs",
         type=int,
         default=-1,
         metavar="N",
-        help="worker processes on this machine, -1 for all cores [-1]",
+        help="worker processes on this machine, -1 for all cores (n_jobs in the Python API, "
+        "where the default is 1) [-1]",
     )
     parser.add_argument(
         "--scheduler",
@@ -71,25 +64,28 @@ def register(subparsers) -> None:
         "--prepared", metavar="KEY", help="folder name under PROJECT/prepared [the most recent]"
     )
     fits = parser.add_argument_group("fit settings (defaults in brackets)")
-    fits.add_argument("--passes", type=int, default=10, help="passes over the corpus [10]")
-    fits.add_argument(
-        "--iterations", type=int, default=50, help="inference iterations per document [50]"
-    )
-    fits.add_argument(
-        "--holdout",
-        type=float,
-        default=0.1,
-        help="share of documents held out for perplexity [0.1]",
-    )
-    fits.add_argument("--topn", type=int, default=10, help="top words per topic for scores [10]")
-    fits.add_argument(
-        "--measure",
-        default="npmi",
-        choices=("npmi", "c_v", "uci", "umass"),
-        help="coherence measure the proposal maximises [npmi]",
-    )
+    for name in SETTINGS:
+        add_option(
+            fits, name, **({"type": prior, "metavar": "PRIOR"} if name in ("alpha", "eta") else {})
+        )
+    add_option(fits, "holdout")
+    add_option(fits, "holdout_random_state")
+    scores = parser.add_argument_group("scores (defaults in brackets)")
+    add_option(scores, "n_terms", renamed=("--topn",))
+    add_option(scores, "measure", help="coherence measure the proposal maximises [%(default)s]")
     parser.add_argument("--no-progress", action="store_true", help="hide the progress bar")
     parser.set_defaults(func=run)
+
+
+def prior(text: str) -> str | float:
+    """A Dirichlet prior: ``symmetric`` (1/k) or a number > 0."""
+    if text == "symmetric":
+        return text
+    try:
+        return float(text)
+    except ValueError:
+        msg = f"got {text!r}; give 'symmetric' (1/k) or a number > 0"
+        raise argparse.ArgumentTypeError(msg) from None
 
 
 def k_grid(text: str) -> list[int]:
@@ -127,22 +123,16 @@ def run(args) -> int:
     prepared = load_prepared(project, args.prepared)
     result = sweep(
         prepared,
-        k=args.k,
-        seeds=args.seeds,
-        engine=args.engine,
         project=project,
-        n_jobs=args.jobs,
+        n_jobs=args.n_jobs,
         scheduler=args.scheduler,
         fallback_local=args.fallback_local,
-        passes=args.passes,
-        iterations=args.iterations,
-        holdout=args.holdout,
-        topn=args.topn,
         progress=not args.no_progress,
+        **{name: getattr(args, name) for name in SWEEP_OPTIONS},
     )
-    shown = [c for c in SHOWN if c in result.scores.columns]
-    print(f"Scores of {len(result.scores)} fits ({args.engine}), one row per fit:")
-    print(result.scores[shown].to_string(index=False, float_format=lambda x: f"{x:.4g}"))
+    shown = [c for c in SHOWN if c in result.scores_.columns]
+    print(f"Scores of {len(result.scores_)} fits ({args.engine}), one row per fit:")
+    print(result.scores_[shown].to_string(index=False, float_format=lambda x: f"{x:.4g}"))
     print()
     print(f"Proposed: {result.recommend(measure=args.measure).rule}")
     print()

@@ -1,4 +1,4 @@
-"""Vectorised stratified cluster bootstrap of weighted means (internals of :mod:`.comparison`).
+"""Vectorised stratified cluster bootstrap of weighted means (internals of :mod:`.prevalence`).
 
 A weighted mean of document-topic shares is a ratio of two sums, so every
 resample is fully described by how many times each *unit* (a cluster, or a
@@ -27,7 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 from scipy.special import ndtr, ndtri
-from scipy.stats import poisson
+from scipy.stats import false_discovery_control, poisson
 
 # Elements of one (replicates x units) count block: bounds memory near 128 MB of float64.
 _BLOCK = 1 << 24
@@ -228,12 +228,11 @@ def centred_p_value(theta_hat: np.ndarray, theta_b: np.ndarray, null: float = 0.
 
 
 def benjamini_hochberg(p: np.ndarray) -> np.ndarray:
-    """Benjamini-Hochberg (1995) adjusted p-values (step-up, monotone, capped at 1)."""
-    p = np.asarray(p, dtype=float)
-    m = len(p)
-    order = np.argsort(p)
-    scaled = p[order] * m / np.arange(1, m + 1)
-    adjusted = np.minimum.accumulate(scaled[::-1])[::-1]
-    out = np.empty(m)
-    out[order] = np.minimum(adjusted, 1.0)
-    return out
+    """Benjamini-Hochberg (1995) adjusted p-values (step-up, monotone, capped at 1).
+
+    Computed by :func:`scipy.stats.false_discovery_control`, which scales the j-th smallest
+    of m p-values by ``m / j``: a p-value lying exactly on its boundary ``j q / m`` adjusts to
+    q and is rejected by ``p_adjusted <= q``, as with statsmodels'
+    ``multipletests(method="fdr_bh")``.
+    """
+    return false_discovery_control(np.asarray(p, dtype=float), method="bh")

@@ -19,25 +19,87 @@ both sources (positive correlation) this makes intervals of differences wider
 than they need be, i.e. conservative.
 
 Every table has the columns ``weighting`` and ``cluster`` (the cluster column's
-name, or ``"document"`` when documents are resampled).
+name, or ``"document"`` when documents are resampled), and the bootstrap's settings.
+Defaults come from :mod:`tm_compare.options`.
 """
 
 from __future__ import annotations
 
+import inspect
 import warnings
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 import pandas as pd
 
-from .._validation import check_choice, param_error
+from .._deprecation import renamed_parameters
+from .._validation import param_error
 from ..errors import ComparisonError
+from ..options import check, default
 from . import _bootstrap as bs
 
-_WEIGHTINGS = ("exposure", "unique")
-_INTERVALS = ("percentile", "bca")
-_RESAMPLING = ("multinomial", "poisson")
 _POISSON_MIN_UNITS = 30
+
+
+@dataclass(frozen=True)
+class Bootstrap:
+    """The bootstrap settings of :func:`prevalence` and :func:`differences`, which take them as
+    keyword arguments (see :func:`prevalence` for their meaning)."""
+
+    n_boot: int = default("n_boot")
+    ci: float = default("ci")
+    interval: str = default("interval")
+    resampling: str = default("resampling")
+    model_uncertainty: bool = default("model_uncertainty")
+    n_model_draws: int = default("n_model_draws")
+    cap_group_share: float | None = default("cap_group_share")
+    random_state: object = default("random_state")
+
+    @classmethod
+    def of(cls, owner: str, settings: dict) -> Bootstrap:
+        """The settings given to ``owner``, checked."""
+        unknown = sorted(set(settings) - {f.name for f in fields(cls)})
+        if unknown:
+            known = ", ".join(f.name for f in fields(cls))
+            msg = (
+                f"{owner}() got unexpected keyword argument(s) {unknown}; its bootstrap "
+                f"settings are {known}."
+            )
+            raise TypeError(msg)
+        boot = cls(**settings)
+        if not (isinstance(boot.n_boot, int | np.integer) and boot.n_boot >= 10):
+            raise param_error(owner, "n_boot", boot.n_boot, "an integer >= 10")
+        if not (isinstance(boot.ci, float) and 0 < boot.ci < 1):
+            raise param_error(owner, "ci", boot.ci, "a number strictly between 0 and 1, e.g. 0.95")
+        check(owner, "interval", boot.interval)
+        check(owner, "resampling", boot.resampling)
+        return boot
+
+    def columns(self) -> dict:
+        """The settings written beside every table."""
+        return {
+            "interval": self.interval,
+            "ci_level": self.ci,
+            "n_boot": self.n_boot,
+            "resampling": self.resampling,
+            "model_uncertainty": bool(self.model_uncertainty),
+            "cap_group_share": self.cap_group_share,
+        }
+
+
+def _bootstrap_keywords(func):
+    """Show the :class:`Bootstrap` settings in ``func``'s signature (help, tab completion) in
+    place of its ``**bootstrap``."""
+    signature = inspect.signature(func)
+    params = [p for p in signature.parameters.values() if p.kind is not p.VAR_KEYWORD]
+    params += [
+        inspect.Parameter(
+            f.name, inspect.Parameter.KEYWORD_ONLY, default=f.default, annotation=f.type
+        )
+        for f in fields(Bootstrap)
+    ]
+    func.__signature__ = signature.replace(parameters=params)
+    return func
 
 
 @dataclass(frozen=True)
@@ -63,7 +125,7 @@ class _Design:
 
 
 def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=None) -> _Design:
-    check_choice(owner, "weighting", weighting, _WEIGHTINGS)
+    check(owner, "weighting", weighting)
     shares = np.asarray(fit.doc_topic, dtype=float)
     doc_sources = np.asarray(prepared.sources)
     n_docs = len(doc_sources)
@@ -75,9 +137,8 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
             "Use the fit that was trained on this prepared corpus (same preparation settings)."
         )
         raise ComparisonError(msg)
-    corpus_ids = list(_doc_ids(prepared))
-    fit_ids = getattr(fit, "doc_ids", None)
-    if fit_ids is not None and list(fit_ids) != corpus_ids:
+    corpus_ids = prepared.doc_ids
+    if fit.doc_ids != corpus_ids:
         msg = (
             f"The model's doc_ids do not match the prepared corpus's document ids ({owner}). "
             "The fit was trained on a different prepared corpus: prepare with the same settings "
@@ -129,7 +190,7 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
             )
             raise ComparisonError(msg)
     clusters, cluster_name = _clusters(prepared, cluster, keep, strata, wanted, owner)
-    dirichlet = getattr(fit, "doc_dirichlet", None)
+    dirichlet = fit.doc_dirichlet
     if keep.all():  # the usual case: skip copying a D x k matrix
         keep = slice(None)
     design = _Design(
@@ -148,23 +209,22 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
     return design
 
 
-def _doc_ids(prepared):
-    ids = getattr(prepared, "doc_ids", None)
-    return ids if ids is not None else prepared.meta["id"].tolist()
+def _cluster_values(prepared, cluster, owner, accepted="None, 'group'") -> pd.Series:
+    """Each document's cluster: its group, or the value of ``cluster`` in ``prepared.meta``."""
+    if cluster == "group":
+        return pd.Series(np.asarray(prepared.groups, dtype=object))
+    if cluster in prepared.meta.columns:
+        return prepared.meta[cluster].reset_index(drop=True)
+    columns = ", ".join(map(repr, prepared.meta.columns))
+    raise param_error(
+        owner, "cluster", cluster, f"{accepted} or a column of prepared.meta: {columns}"
+    )
 
 
 def _clusters(prepared, cluster, keep, strata, sources, owner):
     if cluster is None:
         return None, "document"
-    if cluster == "group":
-        values = pd.Series(np.asarray(prepared.groups, dtype=object))
-    elif cluster in prepared.meta.columns:
-        values = prepared.meta[cluster].reset_index(drop=True)
-    else:
-        accepted = "None, 'group' or a column of prepared.meta: " + ", ".join(
-            map(repr, prepared.meta.columns)
-        )
-        raise param_error(owner, "cluster", cluster, accepted)
+    values = _cluster_values(prepared, cluster, owner)
     codes = pd.factorize(values.to_numpy()[keep], use_na_sentinel=True)[0]
     if (codes < 0).all():
         return None, "document"
@@ -227,16 +287,14 @@ def _prevalence_stat(num: np.ndarray, den: np.ndarray) -> np.ndarray:
     return out.reshape(*out.shape[:-2], -1)
 
 
-def _check_boot(owner, n_boot, ci, interval, resampling):
-    if not (isinstance(n_boot, int | np.integer) and n_boot >= 10):
-        raise param_error(owner, "n_boot", n_boot, "an integer >= 10")
-    if not (isinstance(ci, float) and 0 < ci < 1):
-        raise param_error(owner, "ci", ci, "a number strictly between 0 and 1, e.g. 0.95")
-    check_choice(owner, "interval", interval, _INTERVALS)
-    check_choice(owner, "resampling", resampling, _RESAMPLING)
+def _run(owner, fit, prepared, weighting, cluster, sources, settings: dict):
+    """The checked settings, the design and the bootstrap replicates of ``owner``."""
+    boot = Bootstrap.of(owner, settings)
+    design = _design(fit, prepared, owner, weighting, cluster, sources, boot.cap_group_share)
+    return (boot, design, *_replicates(design, boot, owner))
 
 
-def _replicates(design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner):
+def _replicates(design, boot: Bootstrap, owner):
     units = design.units()
     fewest = min(b - a for a, b in units.bounds())
     if fewest < 2:
@@ -246,15 +304,16 @@ def _replicates(design, n_boot, resampling, model_uncertainty, n_model_draws, rn
             "sources=[...], or add documents."
         )
         raise ComparisonError(msg)
-    if resampling == "poisson" and fewest < _POISSON_MIN_UNITS:
+    if boot.resampling == "poisson" and fewest < _POISSON_MIN_UNITS:
         # With n units, a Poisson replicate draws none of them with probability exp(-n).
         msg = (
             f"resampling='poisson' needs at least {_POISSON_MIN_UNITS} resampling units per "
             f"source; one source has {fewest} ({owner}). Use resampling='multinomial'."
         )
         raise ComparisonError(msg)
-    if not model_uncertainty:
-        return units, bs.replicate(units, n_boot, rng, resampling)
+    rng = np.random.default_rng(boot.random_state)
+    if not boot.model_uncertainty:
+        return units, bs.replicate(units, boot.n_boot, rng, boot.resampling)
     if design.dirichlet is None:
         msg = (
             f"model_uncertainty=True needs the fit's doc_dirichlet (variational Dirichlet "
@@ -267,7 +326,8 @@ def _replicates(design, n_boot, resampling, model_uncertainty, n_model_draws, rn
         draw = gen.standard_gamma(design.dirichlet)
         return design.units(draw / draw.sum(axis=1, keepdims=True))
 
-    return units, bs.replicate(units, n_boot, rng, resampling, redraw, min(n_model_draws, n_boot))
+    draws = min(boot.n_model_draws, boot.n_boot)
+    return units, bs.replicate(units, boot.n_boot, rng, boot.resampling, redraw, draws)
 
 
 def _summary(units, reps, statistic, ci, interval):
@@ -278,27 +338,21 @@ def _summary(units, reps, statistic, ci, interval):
     return theta_hat, theta_b, lo, hi
 
 
+@_bootstrap_keywords
 def prevalence(
     fit,
     prepared,
     *,
-    weighting: str = "exposure",
-    cluster: str | None = "group",
+    weighting: str = default("weighting"),
+    cluster: str | None = default("cluster"),
     sources=None,
-    n_boot: int = 1000,
-    ci: float = 0.95,
-    interval: str = "percentile",
-    resampling: str = "multinomial",
-    model_uncertainty: bool = False,
-    n_model_draws: int = 100,
-    cap_group_share: float | None = None,
-    random_state=0,
+    **bootstrap,
 ) -> pd.DataFrame:
     """Prevalence of every topic in every source, with bootstrap intervals.
 
     Parameters
     ----------
-    fit : object with ``doc_topic`` (D x k), ``k``, ``doc_ids`` and ``doc_dirichlet``.
+    fit : Fit (``doc_topic`` D x k, ``k``, ``doc_ids``, ``doc_dirichlet``).
     prepared : PreparedCorpus (``sources``, ``weights``, ``groups``, ``meta``).
     weighting : "exposure" (document weights) or "unique" (each article once).
     cluster : "group", another column of ``prepared.meta``, or None to resample documents.
@@ -313,6 +367,7 @@ def prevalence(
         costs D x k gamma variates, so this is much slower on large corpora).
     cap_group_share : cap every cluster's share of its source's weight (see :func:`influence`).
     random_state : seed or ``numpy.random.Generator``.
+    The bootstrap settings (``n_boot`` to ``random_state``) are those of :class:`Bootstrap`.
 
     Raises ComparisonError, naming the fault and the fix, when: the fit does not match the
     corpus (shape, k or document ids), a share is NaN, a named source has no documents,
@@ -328,14 +383,10 @@ def prevalence(
     ``cluster``, ``interval``, ``ci_level``, ``n_boot``, ``resampling``,
     ``model_uncertainty``, ``cap_group_share``.
     """
-    owner = "prevalence"
-    _check_boot(owner, n_boot, ci, interval, resampling)
-    design = _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share)
-    rng = np.random.default_rng(random_state)
-    units, reps = _replicates(
-        design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner
+    boot, design, units, reps = _run(
+        "prevalence", fit, prepared, weighting, cluster, sources, bootstrap
     )
-    theta_hat, theta_b, lo, hi = _summary(units, reps, _prevalence_stat, ci, interval)
+    theta_hat, theta_b, lo, hi = _summary(units, reps, _prevalence_stat, boot.ci, boot.interval)
     n_src, k = len(design.sources), design.shares.shape[1]
     frame = pd.DataFrame(
         {
@@ -350,34 +401,20 @@ def prevalence(
             "total_weight": np.repeat(units.totals()[1], k),
         }
     )
-    settings = {
-        "interval": interval,
-        "ci_level": ci,
-        "n_boot": n_boot,
-        "resampling": resampling,
-        "model_uncertainty": bool(model_uncertainty),
-        "cap_group_share": cap_group_share,
-    }
-    return frame.assign(**design.columns(), **settings)
+    return frame.assign(**design.columns(), **boot.columns())
 
 
+@_bootstrap_keywords
 def differences(
     fit,
     prepared,
     *,
-    against: str = "each",
-    weighting: str = "exposure",
-    cluster: str | None = "group",
+    against: str = default("against"),
+    weighting: str = default("weighting"),
+    cluster: str | None = default("cluster"),
     sources=None,
-    n_boot: int = 1000,
-    ci: float = 0.95,
-    interval: str = "percentile",
-    resampling: str = "multinomial",
-    model_uncertainty: bool = False,
-    n_model_draws: int = 100,
-    cap_group_share: float | None = None,
-    fdr: float = 0.05,
-    random_state=0,
+    fdr: float = default("fdr"),
+    **bootstrap,
 ) -> pd.DataFrame:
     """Differences in topic prevalence between sources, with intervals and BH-adjusted p-values.
 
@@ -400,11 +437,10 @@ def differences(
     different), ``test``, then the settings as in :func:`prevalence` plus ``fdr``.
     """
     owner = "differences"
-    check_choice(owner, "against", against, ("each", "rest"))
-    _check_boot(owner, n_boot, ci, interval, resampling)
+    check(owner, "against", against)
     if not (isinstance(fdr, float) and 0 < fdr < 1):
         raise param_error(owner, "fdr", fdr, "a number strictly between 0 and 1")
-    design = _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share)
+    boot, design, units, reps = _run(owner, fit, prepared, weighting, cluster, sources, bootstrap)
     names = design.sources
     if len(names) < 2:
         msg = (
@@ -435,12 +471,8 @@ def differences(
             [np.concatenate([pooled(num, den, a), pooled(num, den, b)], -1) for a, b in pairs], -1
         )
 
-    rng = np.random.default_rng(random_state)
-    units, reps = _replicates(
-        design, n_boot, resampling, model_uncertainty, n_model_draws, rng, owner
-    )
-    d_hat, d_b, d_lo, d_hi = _summary(units, reps, diff_stat, ci, interval)
-    r_hat, _, r_lo, r_hi = _summary(units, reps, ratio_stat, ci, interval)
+    d_hat, d_b, d_lo, d_hi = _summary(units, reps, diff_stat, boot.ci, boot.interval)
+    r_hat, _, r_lo, r_hi = _summary(units, reps, ratio_stat, boot.ci, boot.interval)
     levels = level_stat(*units.totals()).reshape(len(pairs), 2, -1)
     k = design.shares.shape[1]
     p = bs.centred_p_value(d_hat, d_b)
@@ -469,27 +501,19 @@ def differences(
     frame["_abs"] = -frame["difference"].abs()
     frame = frame.sort_values(["_order", "p_adjusted", "_abs"], kind="stable")
     frame["rank"] = frame.groupby("_order").cumcount() + 1
-    settings = {
-        "test": "bootstrap, two-sided, centred (Hall & Wilson 1991); BH across topics",
-        "interval": interval,
-        "ci_level": ci,
-        "n_boot": n_boot,
-        "resampling": resampling,
-        "model_uncertainty": bool(model_uncertainty),
-        "cap_group_share": cap_group_share,
-        "fdr": fdr,
-    }
     frame = frame.drop(columns=["_order", "_abs"]).reset_index(drop=True)
-    return frame.assign(**design.columns(), **settings)
+    test = "bootstrap, two-sided, centred (Hall & Wilson 1991); BH across topics"
+    return frame.assign(**design.columns(), test=test, **boot.columns(), fdr=fdr)
 
 
+@renamed_parameters(top="n_groups")
 def influence(
     prepared,
     *,
     threshold: float = 0.10,
-    weighting: str = "exposure",
-    cluster: str = "group",
-    top: int = 5,
+    weighting: str = default("weighting"),
+    cluster: str = default("cluster"),
+    n_groups: int = default("n_groups"),
     warn: bool = True,
 ) -> pd.DataFrame:
     """Which clusters carry the most weight in each source; flag those above ``threshold``.
@@ -500,34 +524,27 @@ def influence(
 
     Returns
     -------
-    DataFrame with the ``top`` heaviest clusters of each source, plus every flagged one:
+    DataFrame with the ``n_groups`` heaviest clusters of each source (formerly ``top``), plus
+    every flagged one:
     ``source``, ``group`` (the cluster value), ``rank``, ``n_documents``, ``weight``,
     ``share`` (of the source's weight), ``flagged`` (``share > threshold``), ``threshold``,
     ``weighting``, ``cluster``. With ``warn``, a ``UserWarning`` names each flagged cluster.
     See :func:`cap_effect` for the effect of capping shares on prevalence.
     """
     owner = "influence"
-    check_choice(owner, "weighting", weighting, _WEIGHTINGS)
+    check(owner, "weighting", weighting)
     if not (isinstance(threshold, float) and 0 < threshold < 1):
         raise param_error(owner, "threshold", threshold, "a number strictly between 0 and 1")
-    if not (isinstance(top, int | np.integer) and top >= 1):
-        raise param_error(owner, "top", top, "an integer >= 1")
+    if not (isinstance(n_groups, int | np.integer) and n_groups >= 1):
+        raise param_error(owner, "n_groups", n_groups, "an integer >= 1")
     frame = pd.DataFrame(
         {
             "source": np.asarray(prepared.sources).astype(str),
             "weight": np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0,
-            "id": np.asarray(_doc_ids(prepared)).astype(str),
+            "id": np.asarray(prepared.doc_ids).astype(str),
         }
     )
-    if cluster == "group":
-        values = pd.Series(np.asarray(prepared.groups, dtype=object))
-    elif cluster in prepared.meta.columns:
-        values = prepared.meta[cluster].reset_index(drop=True)
-    else:
-        accepted = "'group' or a column of prepared.meta: " + ", ".join(
-            map(repr, prepared.meta.columns)
-        )
-        raise param_error(owner, "cluster", cluster, accepted)
+    values = _cluster_values(prepared, cluster, owner, accepted="'group'")
     frame["group"] = values.astype(object).where(values.notna(), "(document " + frame["id"] + ")")
     table = (
         frame.groupby(["source", "group"], sort=False)
@@ -538,7 +555,7 @@ def influence(
     table = table.sort_values(["source", "share"], ascending=[True, False], kind="stable")
     table["rank"] = table.groupby("source").cumcount() + 1
     table["flagged"] = table["share"] > threshold
-    table = table[(table["rank"] <= top) | table["flagged"]]
+    table = table[(table["rank"] <= n_groups) | table["flagged"]]
     flagged = table[table["flagged"]]
     if warn and len(flagged):
         listed = "; ".join(
@@ -561,8 +578,8 @@ def cap_effect(
     prepared,
     *,
     cap_group_share: float = 0.10,
-    weighting: str = "exposure",
-    cluster: str = "group",
+    weighting: str = default("weighting"),
+    cluster: str = default("cluster"),
     sources=None,
 ) -> pd.DataFrame:
     """Prevalence before and after capping each cluster's share of its source's weight.

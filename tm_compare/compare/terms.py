@@ -16,6 +16,7 @@ otherwise the model's marginal ``sum_k pi_k phi_kw`` with ``pi`` the mean topic 
 
 from __future__ import annotations
 
+import functools
 import weakref
 from dataclasses import dataclass
 
@@ -24,49 +25,68 @@ import pandas as pd
 import scipy.sparse as sp
 from scipy.stats import rankdata
 
+from .._deprecation import renamed_parameters, warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ComparisonError
+from ..options import choices, default
 
-_METHODS = ("probability", "lift", "frex", "relevance")
+_METHODS = choices("method")
 
 
+def _method_second(func):
+    # The old order term_rankings(fit, "frex", prepared=p) still works for one release.
+    @functools.wraps(func)
+    def wrapper(fit, *args, **kwargs):
+        if args and isinstance(args[0], str):
+            warn_renamed(
+                "term_rankings(fit, method, prepared=...)",
+                "term_rankings(fit, prepared, method=...)",
+            )
+            kwargs["method"], args = args[0], args[1:]
+        return func(fit, *args, **kwargs)
+
+    return wrapper
+
+
+@_method_second
+@renamed_parameters(topn="n_terms")
 def term_rankings(
     fit,
-    method: str = "probability",
-    *,
-    topn: int = 10,
-    lam: float = 0.6,
-    frex_weight: float = 0.5,
     prepared=None,
+    method: str = default("method"),
+    *,
+    n_terms: int = default("n_terms"),
+    lam: float = default("lam"),
+    frex_weight: float = default("frex_weight"),
 ) -> pd.DataFrame:
     """Rank the terms of every topic.
 
     Parameters
     ----------
-    fit : object with ``topic_term`` (k x V) and ``vocab``; ``doc_topic`` when ``prepared``
-        is not given and the method needs ``p_w``.
+    fit : Fit (``topic_term`` k x V, ``vocab``; ``doc_topic`` when ``prepared`` is not given
+        and the method needs ``p_w``).
+    prepared : PreparedCorpus whose ``bow`` gives the empirical ``p_w``, optional.
     method : "probability", "lift", "frex" or "relevance" (see the module notes).
-    topn : terms per topic.
+    n_terms : terms per topic.
     lam : relevance weight of ``log phi`` (1 gives probability order, 0 lift order).
     frex_weight : FREX weight of exclusivity (0.5 weighs both equally).
-    prepared : PreparedCorpus whose ``bow`` gives the empirical ``p_w``.
 
     Returns
     -------
-    DataFrame, ``topn`` rows per topic: ``topic``, ``rank`` (1 = first), ``term``,
+    DataFrame, ``n_terms`` rows per topic: ``topic``, ``rank`` (1 = first), ``term``,
     ``term_id``, ``score``, ``probability`` (``phi_kw``), ``method``, ``parameter``
     (``lam`` for relevance, ``frex_weight`` for FREX, NaN otherwise). Ties keep term-id order.
     """
     owner = "term_rankings"
     check_choice(owner, "method", method, _METHODS)
-    if not (isinstance(topn, int | np.integer) and topn >= 1):
-        raise param_error(owner, "topn", topn, "an integer >= 1")
+    if not (isinstance(n_terms, int | np.integer) and n_terms >= 1):
+        raise param_error(owner, "n_terms", n_terms, "an integer >= 1")
     for name, value in (("lam", lam), ("frex_weight", frex_weight)):
         if not (isinstance(value, float | int) and 0 <= value <= 1):
             raise param_error(owner, name, value, "a number in [0, 1]")
     phi = _topic_term(fit, owner)
     score = ranking_scores(phi, method, lam, frex_weight, lambda: _term_share(fit, prepared, phi))
-    order = np.argsort(-np.nan_to_num(score, nan=-np.inf), axis=1, kind="stable")[:, :topn]
+    order = np.argsort(-np.nan_to_num(score, nan=-np.inf), axis=1, kind="stable")[:, :n_terms]
     k, n = order.shape
     rows = np.repeat(np.arange(k), n)
     vocab = np.asarray(fit.vocab, dtype=object)
@@ -85,7 +105,13 @@ def term_rankings(
     )
 
 
-def ranking_scores(phi, method, lam=0.6, frex_weight=0.5, term_share=None) -> np.ndarray:
+def ranking_scores(
+    phi,
+    method: str,
+    lam: float = default("lam"),
+    frex_weight: float = default("frex_weight"),
+    term_share=None,
+) -> np.ndarray:
     """Scores (k x V) of one ranking method; ``term_share()`` returns ``p_w`` when needed."""
     if method == "probability":
         return phi
@@ -129,22 +155,10 @@ _COUNTS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
 
 def count_matrix(prepared, n_terms: int) -> sp.csr_matrix:
     """Document-term counts (D x V) from ``prepared.bow``, cached per prepared corpus."""
-    cacheable = hasattr(type(prepared), "__weakref__")  # e.g. not a SimpleNamespace
-    cached = _COUNTS.get(prepared) if cacheable else None
+    cached = _COUNTS.get(prepared)
     if cached is not None and cached.shape[1] == n_terms:
         return cached
-    bow = prepared.bow
-    if hasattr(bow, "to_csr"):  # a PreparedCorpus keeps its counts as flat arrays already
-        ids, counts, indptr = bow.ids, bow.counts, bow.indptr
-    else:
-        lengths = np.fromiter((len(doc) for doc in bow), dtype=np.int64, count=len(bow))
-        pairs = np.fromiter(
-            (v for doc in bow for pair in doc for v in pair),
-            dtype=np.int64,
-            count=2 * int(lengths.sum()),
-        ).reshape(-1, 2)
-        ids, counts = pairs[:, 0], pairs[:, 1]
-        indptr = np.concatenate([[0], np.cumsum(lengths)])
+    ids = prepared.bow.ids
     if len(ids) and ids.max() >= n_terms:
         msg = (
             f"The prepared corpus uses term id {int(ids.max())}, but the model has "
@@ -152,11 +166,9 @@ def count_matrix(prepared, n_terms: int) -> sp.csr_matrix:
             "prepared corpus."
         )
         raise ComparisonError(msg)
-    matrix = sp.csr_matrix(
-        (np.asarray(counts, dtype=float), ids, indptr), shape=(len(indptr) - 1, n_terms)
-    )
-    if cacheable:
-        _COUNTS[prepared] = matrix
+    # Float counts: every use multiplies them by topic shares.
+    matrix = prepared.bow.to_csr(n_terms).astype(float)
+    _COUNTS[prepared] = matrix
     return matrix
 
 
@@ -168,13 +180,13 @@ class TopicCounts:
     by_source: dict
 
 
-def topic_term_counts(fit, prepared, *, weighting: str = "unique") -> TopicCounts:
+def topic_term_counts(fit, prepared, *, weighting: str = default("weighting")) -> TopicCounts:
     """Topic-weighted term counts of all topics in every source, as :func:`source_wording`
     uses them: document d adds ``c_dw * theta_dk`` (times its weight under "exposure").
 
     One sparse product for all k topics costs about as much as a few single-topic ones.
     """
-    check_choice("topic_term_counts", "weighting", weighting, ("exposure", "unique"))
+    check_choice("topic_term_counts", "weighting", weighting, choices("weighting"))
     theta = np.asarray(fit.doc_topic, dtype=float)
     if weighting == "exposure":
         theta = theta * np.asarray(prepared.weights, dtype=float)[:, None]
@@ -187,16 +199,17 @@ def topic_term_counts(fit, prepared, *, weighting: str = "unique") -> TopicCount
     return TopicCounts(weighting, by_source)
 
 
+@renamed_parameters(topn="n_terms")
 def source_wording(
     fit,
     prepared,
     topic: int,
     *,
-    against: str = "rest",
+    against: str = default("against"),
     sources=None,
-    weighting: str = "unique",
+    weighting: str = default("weighting"),
     prior_strength: float | None = None,
-    topn: int = 15,
+    n_terms: int = default("n_terms"),
     topic_counts: TopicCounts | None = None,
 ) -> pd.DataFrame:
     """Which terms each source uses more than the others when writing about ``topic``.
@@ -218,29 +231,36 @@ def source_wording(
 
     Returns
     -------
-    DataFrame with the ``topn`` terms of highest z for each (source, other) comparison:
+    DataFrame with the ``n_terms`` terms of highest z for each (source, other) comparison:
     ``topic``, ``source``, ``other`` (a source or "rest"), ``rank``, ``term``, ``term_id``,
     ``log_odds`` (delta), ``std_error``, ``z``, ``count_source``, ``count_other``
     (topic-weighted counts), ``weighting``, ``prior_strength``.
     """
     owner = "source_wording"
-    check_choice(owner, "against", against, ("each", "rest"))
-    check_choice(owner, "weighting", weighting, ("exposure", "unique"))
+    check_choice(owner, "against", against, choices("against"))
+    check_choice(owner, "weighting", weighting, choices("weighting"))
     phi = _topic_term(fit, owner)
     if not (isinstance(topic, int | np.integer) and 0 <= topic < phi.shape[0]):
         raise param_error(owner, "topic", topic, f"a topic number from 0 to {phi.shape[0] - 1}")
-    if not (isinstance(topn, int | np.integer) and topn >= 1):
-        raise param_error(owner, "topn", topn, "an integer >= 1")
+    if not (isinstance(n_terms, int | np.integer) and n_terms >= 1):
+        raise param_error(owner, "n_terms", n_terms, "an integer >= 1")
     if prior_strength is not None and not (
         isinstance(prior_strength, float | int) and prior_strength > 0
     ):
         raise param_error(owner, "prior_strength", prior_strength, "None or a number > 0")
-    shares = np.asarray(fit.doc_topic, dtype=float)[:, topic]
-    doc_sources = np.asarray(prepared.sources).astype(str)
-    if len(shares) != len(doc_sources):
-        msg = f"The model has {len(shares)} documents, the prepared corpus {len(doc_sources)} ({owner}). Use the fit of this prepared corpus."
-        raise ComparisonError(msg)
-    present = np.unique(doc_sources).tolist()  # doc_sources is already str
+    if topic_counts is not None and topic_counts.weighting != weighting:
+        accepted = f"counts computed with weighting={weighting!r}"
+        raise param_error(owner, "topic_counts", topic_counts.weighting, accepted)
+    if topic_counts is None:
+        shares = np.asarray(fit.doc_topic, dtype=float)[:, topic]
+        doc_sources = np.asarray(prepared.sources).astype(str)
+        if len(shares) != len(doc_sources):
+            msg = f"The model has {len(shares)} documents, the prepared corpus {len(doc_sources)} ({owner}). Use the fit of this prepared corpus."
+            raise ComparisonError(msg)
+        present = np.unique(doc_sources).tolist()  # doc_sources is already str
+    else:
+        # The counts were made from this corpus once: a view's topic switch reads a column.
+        present = sorted(topic_counts.by_source)
     names = present if sources is None else [str(s) for s in sources]
     absent = [s for s in names if s not in present]
     if absent or len(names) < 2:
@@ -255,9 +275,6 @@ def source_wording(
         )
         counts = count_matrix(prepared, phi.shape[1])
         by_source = {s: counts.T @ np.where(doc_sources == s, weight, 0.0) for s in names}
-    elif topic_counts.weighting != weighting:
-        accepted = f"counts computed with weighting={weighting!r}"
-        raise param_error(owner, "topic_counts", topic_counts.weighting, accepted)
     else:
         by_source = {s: topic_counts.by_source[s][:, topic] for s in names}
     background = sum(by_source.values())
@@ -274,7 +291,7 @@ def source_wording(
         y_j = background - y_i if b == "rest" else by_source[b]
         delta, se = log_odds_with_prior(y_i, y_j, prior)
         z = delta / se
-        order = np.argsort(-np.nan_to_num(z, nan=-np.inf), kind="stable")[:topn]
+        order = np.argsort(-np.nan_to_num(z, nan=-np.inf), kind="stable")[:n_terms]
         frames.append(
             pd.DataFrame(
                 {

@@ -19,7 +19,7 @@ Planted facts that later stages should find (all listed in :class:`DemoTruth`):
    (tracking parameters, ``www.``, fragments), so intake has rows to merge.
 
 Everything is drawn from ``numpy.random.Generator`` streams seeded by
-``seed``: the same arguments give the same data on every run.
+``random_state``: the same arguments give the same data on every run.
 """
 
 from __future__ import annotations
@@ -29,6 +29,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from .._deprecation import renamed_parameters
 from .._validation import param_error
 from ._text import OUTLETS, THEMES, WIRE, render, urls
 
@@ -156,12 +157,13 @@ class DemoTruth:
         return {k: (list(v) if isinstance(v, tuple) else v) for k, v in out.items()}
 
 
-def _check(owner: str, n_docs, seed) -> None:
+def _check(owner: str, n_docs, random_state) -> None:
     if isinstance(n_docs, bool) or not isinstance(n_docs, int | np.integer) or n_docs < MIN_DOCS:
         fix = f"Smaller corpora cannot hold every planted fact (tm-compare demo --docs {MIN_DOCS})."
         raise param_error(owner, "n_docs", n_docs, f"an integer >= {MIN_DOCS}", fix)
-    if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
-        raise param_error(owner, "seed", seed, "a non-negative integer")
+    bad = isinstance(random_state, bool) or not isinstance(random_state, int | np.integer)
+    if bad or random_state < 0:
+        raise param_error(owner, "random_state", random_state, "a non-negative integer")
 
 
 def _theme_probs() -> np.ndarray:
@@ -339,7 +341,8 @@ def _truth(n_docs: int, seed: int, plan: dict) -> DemoTruth:
     )
 
 
-def scenario(n_docs: int = 3000, seed: int = 0) -> tuple[pd.DataFrame, DemoTruth]:
+@renamed_parameters(seed="random_state")
+def scenario(n_docs: int = 3000, random_state: int = 0) -> tuple[pd.DataFrame, DemoTruth]:
     """The demo articles and what was planted in them.
 
     Parameters
@@ -347,8 +350,8 @@ def scenario(n_docs: int = 3000, seed: int = 0) -> tuple[pd.DataFrame, DemoTruth
     n_docs : int
         Number of input rows (articles, syndicated copies and URL variants together).
         At least 200; 200,000 takes well under a minute.
-    seed : int
-        The same seed gives the same rows, words and truth.
+    random_state : int
+        The same random_state gives the same rows, words and truth.
 
     Returns
     -------
@@ -357,8 +360,8 @@ def scenario(n_docs: int = 3000, seed: int = 0) -> tuple[pd.DataFrame, DemoTruth
         ``date``, ``url``, ``title``, ``text``.
     truth : DemoTruth
     """
-    _check("demo.scenario", n_docs, seed)
-    n_docs, seed = int(n_docs), int(seed)
+    _check("demo.scenario", n_docs, random_state)
+    n_docs, seed = int(n_docs), int(random_state)
     plan = _plan(n_docs, seed)
     planted = _truth(n_docs, seed, plan)
     titles, texts = render(plan, seed)
@@ -370,26 +373,30 @@ def scenario(n_docs: int = 3000, seed: int = 0) -> tuple[pd.DataFrame, DemoTruth
     return frame, planted
 
 
-def make_frame(n_docs: int = 3000, seed: int = 0) -> pd.DataFrame:
+@renamed_parameters(seed="random_state")
+def make_frame(n_docs: int = 3000, random_state: int = 0) -> pd.DataFrame:
     """The demo articles as a DataFrame (see :func:`scenario`)."""
-    return scenario(n_docs, seed)[0]
+    return scenario(n_docs, random_state)[0]
 
 
-def truth(n_docs: int = 3000, seed: int = 0) -> DemoTruth:
+@renamed_parameters(seed="random_state")
+def truth(n_docs: int = 3000, random_state: int = 0) -> DemoTruth:
     """What :func:`make_frame` with the same arguments planted; cheap (no text is written)."""
-    _check("demo.truth", n_docs, seed)
-    return _truth(int(n_docs), int(seed), _plan(int(n_docs), int(seed)))
+    _check("demo.truth", n_docs, random_state)
+    seed = int(random_state)
+    return _truth(int(n_docs), seed, _plan(int(n_docs), seed))
 
 
-def make_corpus(n_docs: int = 3000, seed: int = 0):
+@renamed_parameters(seed="random_state")
+def make_corpus(n_docs: int = 3000, random_state: int = 0):
     """The demo articles as a :class:`tm_compare.Corpus` (the reader is the group)."""
     from ..text.corpus import Corpus
 
-    return Corpus.from_frame(make_frame(n_docs, seed), **CORPUS_COLUMNS)
+    return Corpus.from_frame(make_frame(n_docs, random_state), **CORPUS_COLUMNS)
 
 
 #: Size and seed of the small sample kept as a CSV file among the test fixtures.
-SAMPLE = {"n_docs": 360, "seed": 0}
+SAMPLE = {"n_docs": 360, "random_state": 0}
 
 
 def sample_csv() -> str:

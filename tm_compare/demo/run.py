@@ -16,6 +16,8 @@ from pathlib import Path
 from typing import Any
 
 from .._atomic import atomic_path, atomic_write_json
+from .._deprecation import renamed_parameters
+from ..options import default
 from ..project import Project
 from . import quillhaven as demo
 
@@ -23,17 +25,17 @@ DEFAULT_PROJECT = "quillhaven-demo"
 DEMO_FOLDER = "demo"  # inside the project: the input file and what was planted in it
 #: The demo's sweep: small enough to finish in a few minutes on two cores.
 GRID = {"k": (6, 8, 10, 12), "seeds": 2, "passes": 10}
-N_BOOT = 1000
+N_BOOT = default("n_boot")
 ANALYSTS = ("analyst_a", "analyst_b")  # invented, pseudonymous team members
 
 
 @dataclass
 class DemoRun:
-    """What a demo run made so far; steps fill the fields after ``seed``."""
+    """What a demo run made so far; steps fill the fields after ``random_state``."""
 
     project: Project
     n_docs: int
-    seed: int
+    random_state: int
     grid: dict = field(default_factory=lambda: dict(GRID))
     n_boot: int = N_BOOT
     progress: bool = True
@@ -51,7 +53,7 @@ def build_corpus(run: DemoRun) -> str:
     """Generate the invented articles, keep them as a CSV file, and take them in as a corpus."""
     from ..text.corpus import Corpus, save_corpus
 
-    run.frame, run.truth = demo.scenario(run.n_docs, run.seed)
+    run.frame, run.truth = demo.scenario(run.n_docs, run.random_state)
     folder = run.project.folder(DEMO_FOLDER)
     with atomic_path(folder / "quillhaven.csv") as tmp:
         run.frame.to_csv(tmp, index=False)
@@ -60,7 +62,9 @@ def build_corpus(run: DemoRun) -> str:
         run.truth.docs.to_csv(tmp, index=False)
     run.corpus = Corpus.from_frame(run.frame, **demo.CORPUS_COLUMNS)
     save_corpus(run.corpus, run.project)
-    run.project.update_manifest(settings={"demo": {"n_docs": run.n_docs, "seed": run.seed}})
+    run.project.update_manifest(
+        settings={"demo": {"n_docs": run.n_docs, "random_state": run.random_state}}
+    )
     f = run.frame
     return "\n".join(
         [
@@ -115,7 +119,7 @@ def sweep_grid(run: DemoRun) -> str:
         progress=run.progress,
     )
     shown = ["k", "seed", "npmi", "c_v", "perplexity", "stability", "diversity", "fit_seconds"]
-    return run.sweep.scores[shown].to_string(index=False, float_format=lambda x: f"{x:.3f}")
+    return run.sweep.scores_[shown].to_string(index=False, float_format=lambda x: f"{x:.3f}")
 
 
 def compare_sources(run: DemoRun) -> str:
@@ -125,7 +129,7 @@ def compare_sources(run: DemoRun) -> str:
     run.results = collect(run.project, n_boot=run.n_boot)
     return "\n".join(
         [
-            f"Chosen: k = {run.results.fit.k}, seed {run.results.fit.seed}. "
+            f"Chosen: k = {run.results.fit.k}, seed {run.results.fit.random_state}. "
             f"Rule: {run.results.recommendation.rule}",
             "",
             "Top words of each topic:",
@@ -138,16 +142,16 @@ def compare_sources(run: DemoRun) -> str:
     )
 
 
-def _differences_summary(results, rows: int = 4) -> str:
+def _differences_summary(results, n_topics: int = 4) -> str:
     diff = results.tables.get("differences")
     if diff is None:
         return "One source only: nothing to compare."
     s = results.settings
-    head = diff[diff["rank"] <= rows]
+    head = diff[diff["rank"] <= n_topics]
+    resampled = "documents" if s["cluster"] is None else f"clusters of {s['cluster']!r}"
     lines = [
-        f"Topics that differ most ({s['weighting']} weighting, {int(head['ci_level'].iloc[0] * 100)}% "
-        f"intervals resampling {'clusters of ' + repr(s['cluster']) if s['cluster'] else 'documents'}, "
-        "p adjusted by Benjamini-Hochberg):"
+        f"Topics that differ most ({s['weighting']} weighting, {s['ci']:.0%} intervals "
+        f"resampling {resampled}, p adjusted by Benjamini-Hochberg):"
     ]
     for r in head.itertuples(index=False):
         lines.append(
@@ -300,7 +304,7 @@ def summary(run: DemoRun) -> str:
             f"Recommended k = {r.recommendation.k} (seed {r.recommendation.seed}): "
             f"{r.recommendation.rule}",
             "",
-            _differences_summary(r, rows=3),
+            _differences_summary(r, n_topics=3),
             "",
             _influence_summary(r),
         ]
@@ -318,11 +322,12 @@ STEPS: tuple[tuple[str, Callable[[DemoRun], str]], ...] = (
 )
 
 
+@renamed_parameters(seed="random_state")
 def run_demo(
     project: str | os.PathLike = DEFAULT_PROJECT,
     *,
     n_docs: int = 3000,
-    seed: int = 0,
+    random_state: int = 0,
     echo: Callable[[str, str], None] | None = None,
     k=GRID["k"],
     seeds=GRID["seeds"],
@@ -337,7 +342,7 @@ def run_demo(
     project : path
         Project folder, created if missing (an existing project is reused; finished fits
         and settled labels are kept).
-    n_docs, seed : int
+    n_docs, random_state : int
         Size and seed of the invented corpus (see :func:`tm_compare.demo.scenario`).
     echo : callable, optional
         Called with ``(title, report)`` after each step.
@@ -347,9 +352,9 @@ def run_demo(
     progress : bool
         Show progress bars.
     """
-    demo._check("run_demo", n_docs, seed)  # before any folder is made
+    demo._check("run_demo", n_docs, random_state)  # before any folder is made
     grid = {"k": tuple(k), "seeds": seeds, "passes": passes}
-    run = DemoRun(Project.create(project), int(n_docs), int(seed), grid, n_boot, progress)
+    run = DemoRun(Project.create(project), int(n_docs), int(random_state), grid, n_boot, progress)
     for title, step in STEPS:
         report = step(run)
         if echo is not None:

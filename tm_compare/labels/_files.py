@@ -1,9 +1,12 @@
 """Private part of the label store: the label files (export and import as JSON or CSV, their
-readers, writers and checks) and the carry-over of labels from one model to another.
+readers, writers and checks) and the carry-over of labels from one fit to another.
 
-The functions take a :class:`~tm_compare.labels.LabelStore` and a model id already checked by
-:func:`~tm_compare.labels.model_id`; this module never imports :mod:`tm_compare.labels`, so the
-store can import it at load time without a cycle.
+The functions take a :class:`~tm_compare.labels.store.LabelStore` and a fit id already checked
+by :func:`~tm_compare.labels.store.fit_id`; this module never imports
+:mod:`tm_compare.labels.store`, so the store can import it at load time without a cycle.
+
+Label files of format version 1 (the first release) name the fit ``model``; they are read as
+well (:func:`tm_compare.labels._schema.record` maps the name).
 """
 
 from __future__ import annotations
@@ -18,35 +21,32 @@ from pathlib import Path
 import pandas as pd
 import sqlalchemy as sa
 
-from .._atomic import atomic_write_text
 from .._validation import check_choice, param_error
 from ..errors import LabelStoreError
 from . import _schema as _s
 
 EXPORT_FORMAT = "tm_compare labels"
-EXPORT_VERSION = 1
-CSV_COLUMNS = tuple(
-    "model topic top_words analyst version name note verdict category confidence retracted "
-    "round created_at uid".split()
+EXPORT_VERSION = 2  # 2: the fingerprint's key is "fit" (1: "model")
+CSV_COLUMNS = (
+    "fit",
+    "topic",
+    "top_words",
+    "analyst",
+    "version",
+    *_s.LABEL_FIELDS,
+    "retracted",
+    "round",
+    "created_at",
+    "uid",
 )
 
 
-def export_labels(
-    store,
-    model: str,
-    path=None,
-    *,
-    format: str | None = None,
-    history: bool = False,
-    top_words=None,
-):
-    """Write or return ``model``'s labels as JSON or CSV; see :meth:`LabelStore.export`."""
-    if format is None:
-        format = Path(path).suffix.lstrip(".").lower() if path is not None else "json"
+def export_text(store, fit: str, *, format: str, history: bool, top_words) -> str:
+    """``fit``'s labels as the text of a JSON or CSV label file; see :meth:`LabelStore.export`."""
     check_choice("LabelStore.export", "format", format, ("json", "csv"))
-    labels = store._labels(model, history)
+    labels = store._labels(fit, history)
     words = {int(i): [str(w) for w in ws] for i, ws in enumerate(top_words or [])}
-    round_names = dict(zip(*[store.rounds(model)[c] for c in ("id", "name")], strict=True))
+    round_names = dict(zip(*[store.rounds(fit)[c] for c in ("id", "name")], strict=True))
     records = []
     for label in labels:
         rec = asdict(label)
@@ -56,35 +56,30 @@ def export_labels(
     doc = {
         "format": EXPORT_FORMAT,
         "format_version": EXPORT_VERSION,
-        "model": model,
+        "fit": fit,
         "content": "history" if history else "current",
         "exported_at": _s.utc_now(),
         "analysts": sorted({r["analyst"] for r in records}),
         "top_words": {str(k): v for k, v in words.items()},
         "codebook": store.codebook().to_dict("records"),
         "labels": records,
-        "consensus": store._consensus_records(model, history=True),
+        "consensus": store._consensus_records(fit, history=True),
     }
     if format == "json":
-        text = json.dumps(doc, ensure_ascii=False, indent=2)
-    else:
-        text = csv_text(records, words, CSV_COLUMNS)
-    if path is None:
-        return doc if format == "json" else text
-    atomic_write_text(path, text)
-    return Path(path)
+        return json.dumps(doc, ensure_ascii=False, indent=2)
+    return csv_text(records, words, CSV_COLUMNS)
 
 
-def import_labels(store, path, model: str) -> dict:
+def import_labels(store, path, fit: str) -> dict:
     """Append the rows of a label file missing from ``store``; see :meth:`LabelStore.import_labels`."""
     path = Path(path)
     doc = read_export(path, EXPORT_FORMAT, EXPORT_VERSION, CSV_COLUMNS)
     settled = doc.get("consensus", [])
-    found = {doc.get("model")} | {r.get("model") for r in [*doc["labels"], *settled]}
-    if found != {model}:
-        others = sorted(str(m) for m in found - {model})
+    found = {doc.get("fit")} | {r.get("fit") for r in [*doc["labels"], *settled]}
+    if found != {fit}:
+        others = sorted(str(m) for m in found - {fit})
         msg = (
-            f"The label file {str(path)!r} belongs to model(s) {others}, not {model!r}; "
+            f"The label file {str(path)!r} belongs to model(s) {others}, not {fit!r}; "
             "import it into the store for that model's fingerprint, or export the right model."
         )
         raise LabelStoreError(msg)
@@ -96,7 +91,7 @@ def import_labels(store, path, model: str) -> dict:
     with store._guard(), _s.write_transaction(store._engine) as conn:
         store._add_categories(conn, [dict(e) for e in doc.get("codebook", [])])
         for table, items in batches:
-            query = sa.select(table.c.uid).where(table.c.model == model)
+            query = sa.select(table.c.uid).where(table.c.fit == fit)
             known = set(conn.execute(query).scalars())
             for item in sorted(
                 items, key=lambda r: (r["topic"], r.get("analyst", ""), r["version"])
@@ -104,11 +99,9 @@ def import_labels(store, path, model: str) -> dict:
                 if item["uid"] in known:
                     counts["skipped"] += 1
                     continue
-                key = {k: model if k == "model" else item[k] for k in _s.KEYS[table.name]}
+                key = {k: fit if k == "fit" else item[k] for k in _s.KEYS[table.name]}
                 values = {
-                    c.name: item.get(c.name)
-                    for c in table.c
-                    if c.name not in (*key, "id", "version")
+                    c.key: item.get(c.key) for c in table.c if c.key not in (*key, "id", "version")
                 }
                 if "sources" in values:  # consensus: the uids it was settled from
                     values["sources"] = json.dumps(values["sources"])
@@ -151,14 +144,14 @@ def carry_over(store, source_id: str, alignment: pd.DataFrame, threshold: float)
         .rename(columns={"settled_by": "analyst"})
         .assign(kind="consensus")
     )
-    keep = ["topic", "kind", "analyst", "name", "verdict", "category", "note"]
+    keep = ["topic", "kind", "analyst", *_s.SETTLED_FIELDS]
     pool = pd.concat([settled[keep], labels[keep]], ignore_index=True).rename(
         columns={"topic": "from_topic"}
     )
     merged = matches.rename(columns={"topic_a": "from_topic", "topic_b": "topic"}).merge(
         pool, on="from_topic"
     )
-    merged.insert(1, "from_model", source_id)
+    merged.insert(1, "from_fit", source_id)
     # A settled label outranks individual ones of the same source topic.
     merged["kind_order"] = merged["kind"].map({"consensus": 0, "label": 1})
     merged = merged.sort_values(
@@ -166,13 +159,13 @@ def carry_over(store, source_id: str, alignment: pd.DataFrame, threshold: float)
         ascending=[True, False, True, True],
         kind="stable",
     )
-    columns = "topic from_model from_topic similarity kind analyst name verdict category note"
-    return merged[columns.split()].reset_index(drop=True)
+    columns = ["topic", "from_fit", "from_topic", "similarity", "kind", "analyst"]
+    return merged[columns + list(_s.SETTLED_FIELDS)].reset_index(drop=True)
 
 
 def csv_text(records: list[dict], words: dict[int, list[str]], columns) -> str:
     """Label records as CSV text: one row per label, empty cells for missing values, and the
-    topic's top words joined by spaces so the file reads without the model."""
+    topic's top words joined by spaces so the file reads without the fit."""
     buffer = io.StringIO()
     writer = csv.DictWriter(buffer, fieldnames=columns, lineterminator="\n")
     writer.writeheader()
@@ -191,12 +184,13 @@ def read_export(path: Path, format_name: str, format_version: int, csv_columns) 
         raise LabelStoreError(msg) from exc
     if path.suffix.lower() == ".csv" or not text.lstrip().startswith("{"):
         reader = csv.DictReader(io.StringIO(text, newline=""))
-        if reader.fieldnames is None or set(csv_columns) - set(reader.fieldnames):
+        found = [_s.API_NAMES.get(f, f) for f in reader.fieldnames or []]
+        if not found or set(csv_columns) - set(found):
             msg = f"{str(path)!r} is not a label export: a CSV needs the columns {list(csv_columns)}; found {reader.fieldnames}."
             raise LabelStoreError(msg)
-        rows = list(reader)
-        models = {r["model"] for r in rows}
-        return {"model": next(iter(models)) if len(models) == 1 else None, "labels": rows}
+        rows = [_s.record(r) for r in reader]
+        fits = {r["fit"] for r in rows}
+        return {"fit": next(iter(fits)) if len(fits) == 1 else None, "labels": rows}
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:
@@ -212,6 +206,9 @@ def read_export(path: Path, format_name: str, format_version: int, csv_columns) 
     if int(doc.get("format_version", 0)) > format_version:
         msg = f"{str(path)!r} was written by a newer tm_compare (label format {doc['format_version']}); upgrade to import it."
         raise LabelStoreError(msg)
+    doc = _s.record(doc)
+    for part in ("labels", "consensus"):
+        doc[part] = [_s.record(r) if isinstance(r, dict) else r for r in doc.get(part, [])]
     return doc
 
 

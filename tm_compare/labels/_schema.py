@@ -1,5 +1,5 @@
 """Private parts of the label store: tables, engines, transactions, migrations, errors, checks,
-and conflict messages (the label files are in ``_label_files``).
+and conflict messages (the label files are in ``_files``).
 
 Schema history (``meta.schema_version``):
 
@@ -9,6 +9,12 @@ Schema history (``meta.schema_version``):
 
 An older store is upgraded in place inside one write transaction (DDL is transactional in both
 SQLite and PostgreSQL, so a failed upgrade leaves the old store as it was).
+
+The fingerprint of the fit a label belongs to is stored in a column named ``model``, as the first
+release named it; the API calls it ``fit`` (the column's SQLAlchemy ``key``), and :func:`record`
+turns rows, and records of label files written by the first release, into API names. Keeping
+the stored name needs no schema upgrade, so colleagues on an older tm_compare can still open a
+shared store.
 """
 
 from __future__ import annotations
@@ -44,11 +50,35 @@ meta = sa.Table(
     sa.Column("key", sa.String(64), primary_key=True),
     sa.Column("value", sa.Text, nullable=False),
 )
+
+
+def _fit_column() -> sa.Column:
+    # Stored as "model" (the first release's name), read and written as "fit".
+    return sa.Column("model", sa.String(200), key="fit", nullable=False)
+
+
+def _entry(key: list[sa.Column], *rest) -> list:
+    """Columns of a versioned entry: its row id and uid, the fit and topic it is about, the
+    rest of its ``key``, its version, then the words of a label and ``rest``."""
+    return [
+        sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
+        sa.Column("uid", sa.String(32), nullable=False, unique=True),
+        _fit_column(),
+        sa.Column("topic", sa.Integer, nullable=False),
+        *key,
+        sa.Column("version", sa.Integer, nullable=False),
+        sa.Column("name", sa.Text, nullable=False),
+        sa.Column("note", sa.Text, nullable=False),
+        sa.Column("verdict", sa.Text),
+        *rest,
+    ]
+
+
 rounds = sa.Table(
     "rounds",
     metadata,
     sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
-    sa.Column("model", sa.String(200), nullable=False),
+    _fit_column(),
     sa.Column("name", sa.Text, nullable=False),
     sa.Column("blind", sa.Boolean, nullable=False),
     sa.Column("opened_by", sa.Text, nullable=False),
@@ -56,24 +86,19 @@ rounds = sa.Table(
     sa.Column("closed_by", sa.Text),
     sa.Column("closed_at", sa.String(32)),
 )
+# Column order is that of stores upgraded from version 1: category and round_id come last.
 labels = sa.Table(
     "labels",
     metadata,
-    sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
-    sa.Column("uid", sa.String(32), nullable=False, unique=True),
-    sa.Column("model", sa.String(200), nullable=False),
-    sa.Column("topic", sa.Integer, nullable=False),
-    sa.Column("analyst", sa.Text, nullable=False),
-    sa.Column("version", sa.Integer, nullable=False),
-    sa.Column("name", sa.Text, nullable=False),
-    sa.Column("note", sa.Text, nullable=False),
-    sa.Column("verdict", sa.Text),
-    sa.Column("confidence", sa.Float),
-    sa.Column("retracted", sa.Boolean, nullable=False),
-    sa.Column("created_at", sa.String(32), nullable=False),
-    sa.Column("category", sa.Text),
-    sa.Column("round_id", sa.Integer, sa.ForeignKey("rounds.id")),
-    sa.UniqueConstraint("model", "topic", "analyst", "version", name="uq_labels_key_version"),
+    *_entry(
+        [sa.Column("analyst", sa.Text, nullable=False)],
+        sa.Column("confidence", sa.Float),
+        sa.Column("retracted", sa.Boolean, nullable=False),
+        sa.Column("created_at", sa.String(32), nullable=False),
+        sa.Column("category", sa.Text),
+        sa.Column("round_id", sa.Integer, sa.ForeignKey("rounds.id")),
+    ),
+    sa.UniqueConstraint("fit", "topic", "analyst", "version", name="uq_labels_key_version"),
 )
 codebook = sa.Table(
     "codebook",
@@ -87,24 +112,25 @@ codebook = sa.Table(
 consensus = sa.Table(
     "consensus",
     metadata,
-    sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
-    sa.Column("uid", sa.String(32), nullable=False, unique=True),
-    sa.Column("model", sa.String(200), nullable=False),
-    sa.Column("topic", sa.Integer, nullable=False),
-    sa.Column("version", sa.Integer, nullable=False),
-    sa.Column("name", sa.Text, nullable=False),
-    sa.Column("note", sa.Text, nullable=False),
-    sa.Column("verdict", sa.Text),
-    sa.Column("category", sa.Text),
-    sa.Column("settled_by", sa.Text, nullable=False),
-    sa.Column("sources", sa.Text, nullable=False),  # JSON list of label uids
-    sa.Column("created_at", sa.String(32), nullable=False),
-    sa.UniqueConstraint("model", "topic", "version", name="uq_consensus_key_version"),
+    *_entry(
+        [],
+        sa.Column("category", sa.Text),
+        sa.Column("settled_by", sa.Text, nullable=False),
+        sa.Column("sources", sa.Text, nullable=False),  # JSON list of label uids
+        sa.Column("created_at", sa.String(32), nullable=False),
+    ),
+    sa.UniqueConstraint("fit", "topic", "version", name="uq_consensus_key_version"),
 )
-sa.Index("ix_labels_model_topic", labels.c.model, labels.c.topic)
+sa.Index("ix_labels_model_topic", labels.c.fit, labels.c.topic)
+# Stored column name -> API name, for rows read back (SQLAlchemy names their values by column).
+API_NAMES = {c.name: c.key for t in metadata.tables.values() for c in t.c if c.name != c.key}
+#: What an analyst writes about a topic: the fields of a label, in the order they are shown.
+LABEL_FIELDS = ("name", "verdict", "category", "confidence", "note")
+#: The fields of a settled (consensus) label.
+SETTLED_FIELDS = tuple(f for f in LABEL_FIELDS if f in consensus.c)
 
 # Statements of the write path, built once (values travel as bound parameters).
-KEYS = {"labels": ("model", "topic", "analyst"), "consensus": ("model", "topic")}
+KEYS = {"labels": ("fit", "topic", "analyst"), "consensus": ("fit", "topic")}
 LATEST = {
     name: sa.select(table)
     .where(*[table.c[k] == sa.bindparam(k) for k in KEYS[name]])
@@ -114,8 +140,14 @@ LATEST = {
 }
 CATEGORIES = sa.select(codebook.c.category).order_by(codebook.c.id)
 OPEN_ROUND = sa.select(rounds).where(
-    rounds.c.model == sa.bindparam("model"), rounds.c.closed_at.is_(None)
+    rounds.c.fit == sa.bindparam("fit"), rounds.c.closed_at.is_(None)
 )
+
+
+def record(row) -> dict:
+    """A database row, or a record of a label file, as a dict under the API's names."""
+    items = row.items() if isinstance(row, dict) else row._mapping.items()
+    return {API_NAMES.get(name, name): value for name, value in items}
 
 
 def utc_now() -> str:
@@ -339,7 +371,7 @@ def refuse_newer(version: int, where: str) -> None:
 # --- integrity ---------------------------------------------------------------------------
 
 
-def _version_problems(conn: sa.Connection, table: sa.Table, key: list[str]) -> list[str]:
+def _version_problems(conn: sa.Connection, table: sa.Table, key: tuple[str, ...]) -> list[str]:
     cols = [table.c[k] for k in key]
     rows = conn.execute(sa.select(*cols, table.c.version, table.c.id).order_by(*cols, table.c.id))
     problems, current, seen = [], None, []
@@ -367,8 +399,8 @@ def integrity_problems(conn: sa.Connection, verdicts: list[str]) -> list[str]:
         result = [r[0] for r in conn.exec_driver_sql("PRAGMA integrity_check")]
         if result != ["ok"]:
             problems.append(f"sqlite integrity_check: {'; '.join(map(str, result[:5]))}")
-    problems += _version_problems(conn, labels, ["model", "topic", "analyst"])
-    problems += _version_problems(conn, consensus, ["model", "topic"])
+    problems += _version_problems(conn, labels, KEYS["labels"])
+    problems += _version_problems(conn, consensus, KEYS["consensus"])
     orphan_rounds = conn.execute(
         sa.select(labels.c.id, labels.c.round_id)
         .where(labels.c.round_id.is_not(None))
@@ -407,7 +439,8 @@ def integrity_problems(conn: sa.Connection, verdicts: list[str]) -> list[str]:
 
 
 def check_text(field: str, value: str | None) -> None:
-    """Refuse text no back end can store the same way (NUL), so stores stay interchangeable."""
+    """Refuse text no back end can store the same way (NUL, lone surrogates), so stores stay
+    interchangeable."""
     if value is not None and "\x00" in value:
         pos = value.index("\x00")
         msg = (
@@ -415,6 +448,16 @@ def check_text(field: str, value: str | None) -> None:
             "PostgreSQL cannot store it, so no label store accepts it. Remove the character."
         )
         raise LabelStoreError(msg)
+    if value is not None and not value.isascii():
+        try:
+            value.encode("utf-8")
+        except UnicodeEncodeError as exc:
+            msg = (
+                f"The {field!r} of a label contains {value[exc.start]!r} at position "
+                f"{exc.start}, half of a UTF-16 surrogate pair, which is not a character and "
+                "cannot be stored as UTF-8. Remove it (it often comes from text cut in two)."
+            )
+            raise LabelStoreError(msg) from None
 
 
 # --- conflicts and label files -------------------------------------------------------------
@@ -427,22 +470,13 @@ def is_driver_error(exc: BaseException) -> bool:
     )
 
 
-_SHOWN_IN_CONFLICTS = (
-    "version",
-    "name",
-    "verdict",
-    "category",
-    "confidence",
-    "note",
-    "retracted",
-    "created_at",
-)
+_SHOWN_IN_CONFLICTS = ("version", *LABEL_FIELDS, "retracted", "created_at")
 
 
 def _short(values) -> str:
     if values is None:
         return "no label"
-    data = values if isinstance(values, dict) else dict(values._mapping)
+    data = record(values)
     shown = {k: data.get(k) for k in _SHOWN_IN_CONFLICTS if data.get(k) is not None}
     return ", ".join(f"{k}={v!r}" for k, v in shown.items())
 
@@ -458,6 +492,6 @@ def conflict_error(table: str, key: dict, base: int, latest, attempted: dict) ->
         f"(.current, .attempted); to keep yours, save it again with based_on={have}."
     )
     err = LabelConflictError(msg)
-    err.current = None if latest is None else dict(latest._mapping)
+    err.current = None if latest is None else record(latest)
     err.attempted = dict(attempted)
     return err

@@ -1,8 +1,9 @@
 """Collaborative topic labels: an append-only store with history, conflicts, blind rounds,
-agreement, consensus, carry-over between models, and export/import.
+agreement, consensus, carry-over between fits, and export/import.
 
-A label belongs to a fitted model (its ``fingerprint``), a topic number and an analyst. Every
-change is a new row with the next version number of its (model, topic, analyst) key; the
+A label belongs to a fit (a fitted model, named by its ``fingerprint``), a topic number and
+an analyst. Every
+change is a new row with the next version number of its (fit, topic, analyst) key; the
 *current* label is the latest version unless that version is a retraction. Nothing is updated or
 deleted in place. An edit names the version it was based on (``based_on``); if someone saved a
 newer one meanwhile, :class:`~tm_compare.errors.LabelConflictError` shows both and stores nothing.
@@ -22,20 +23,31 @@ import json
 import numbers
 import uuid
 from dataclasses import asdict, dataclass, fields
+from pathlib import Path
 from typing import NamedTuple
 
 import pandas as pd
 import sqlalchemy as sa
 
+from .._atomic import atomic_write_text
+from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import LabelStoreError
 from . import _files as _f
 from . import _schema as _s
 from ._files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
+from ._schema import LABEL_FIELDS
 from .agreement import agreement_table
 
 DEFAULT_VERDICTS = ("usable", "mixed", "noise")
-LABEL_FIELDS = ("name", "note", "verdict", "category", "confidence")
+#: Label fields whose agreement between analysts is measured.
+AGREEMENT_FIELDS = ("verdict", "category")
+#: Columns of :meth:`LabelStore.agreement`.
+AGREEMENT_COLUMNS = ("field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units")
+#: Columns of :meth:`LabelStore.consensus`.
+CONSENSUS_COLUMNS = tuple(c.key for c in _s.consensus.c if c.key != "id")
+# Methods whose argument ``fit`` was called ``model`` in the first release.
+_renamed_fit = renamed_parameters(model="fit")
 
 
 @dataclass(frozen=True)
@@ -44,7 +56,7 @@ class Label:
 
     id: int
     uid: str
-    model: str
+    fit: str  # the fingerprint of the fit
     topic: int
     analyst: str
     version: int
@@ -57,7 +69,10 @@ class Label:
     round: int | None
     created_at: str
 
+    model = renamed_attribute("model", "fit")
 
+
+#: Columns of the label tables (:meth:`LabelStore.current`, :meth:`LabelStore.history`).
 COLUMNS = tuple(f.name for f in fields(Label))
 
 
@@ -78,18 +93,27 @@ class CheckReport:
     n_labels: int
 
 
-def model_id(model) -> str:
-    """A model's fingerprint from a ``str`` or an object with a ``fingerprint`` attribute."""
-    value = getattr(model, "fingerprint", model)
+def fit_id(fit) -> str:
+    """The fingerprint of a :class:`Fit`, or a fingerprint given as a string (the CLI's
+    ``--fit``) (formerly ``model_id``)."""
+    value = fit
+    if not isinstance(fit, str):
+        # Imported here so that opening a store does not load scipy (a Fit has loaded it).
+        from ..models.fits import Fit
+
+        value = fit.fingerprint if isinstance(fit, Fit) else None
     if not isinstance(value, str) or not value.strip() or len(value) > 200:
         raise param_error(
-            "LabelStore",
-            "model",
-            model,
-            "a fitted model (with .fingerprint) or its fingerprint string (1-200 characters)",
+            "LabelStore", "fit", fit, "a Fit or its fingerprint string (1-200 characters)"
         )
-    _s.check_text("model", value)
+    _s.check_text("fit", value)
     return value
+
+
+def model_id(model) -> str:
+    """Deprecated: use :func:`fit_id`."""
+    warn_renamed("model_id()", "fit_id()")
+    return fit_id(model)
 
 
 def _topic(topic) -> int:
@@ -99,7 +123,7 @@ def _topic(topic) -> int:
 
 
 def _label(row) -> Label:
-    data = dict(row if isinstance(row, dict) else row._mapping)
+    data = _s.record(row)
     data["round"] = data.pop("round_id")
     data["retracted"] = bool(data["retracted"])
     return Label(**{k: data[k] for k in COLUMNS})
@@ -302,34 +326,36 @@ class LabelStore:
 
     # --- rounds and visibility --------------------------------------------------------------
 
-    def _open_round(self, conn, model: str):
-        return conn.execute(_s.OPEN_ROUND, {"model": model}).first()
+    def _open_round(self, conn, fit: str):
+        return conn.execute(_s.OPEN_ROUND, {"fit": fit}).first()
 
-    def open_round(self, model, name: str = "", blind: bool = True) -> int:
-        """Open a coding round on ``model``; while a blind round is open, each analyst reads
-        only their own labels of that model. Returns the round's id."""
-        model = model_id(model)
+    @_renamed_fit
+    def open_round(self, fit, name: str = "", blind: bool = True) -> int:
+        """Open a coding round on ``fit``; while a blind round is open, each analyst reads
+        only their own labels of that fit. Returns the round's id."""
+        fit = fit_id(fit)
         who = self._writer("open a round")
         _s.check_text("name", name)
         with self._guard(), _s.write_transaction(self._engine) as conn:
-            existing = self._open_round(conn, model)
+            existing = self._open_round(conn, fit)
             if existing is not None:
-                msg = f"Round {existing.id} ({existing.name!r}) is still open on model {model!r}; close it with close_round first."
+                msg = f"Round {existing.id} ({existing.name!r}) is still open on fit {fit!r}; close it with close_round first."
                 raise LabelStoreError(msg)
             return conn.execute(
                 _s.rounds.insert().values(
-                    model=model, name=name, blind=bool(blind), opened_by=who, opened_at=_s.utc_now()
+                    fit=fit, name=name, blind=bool(blind), opened_by=who, opened_at=_s.utc_now()
                 )
             ).inserted_primary_key[0]
 
-    def close_round(self, model) -> int:
-        """Close the open round on ``model``; everyone's labels become visible. Returns its id."""
-        model = model_id(model)
+    @_renamed_fit
+    def close_round(self, fit) -> int:
+        """Close the open round on ``fit``; everyone's labels become visible. Returns its id."""
+        fit = fit_id(fit)
         who = self._writer("close a round")
         with self._guard(), _s.write_transaction(self._engine) as conn:
-            existing = self._open_round(conn, model)
+            existing = self._open_round(conn, fit)
             if existing is None:
-                msg = f"No round is open on model {model!r}."
+                msg = f"No round is open on fit {fit!r}."
                 raise LabelStoreError(msg)
             conn.execute(
                 _s.rounds.update()
@@ -338,24 +364,23 @@ class LabelStore:
             )
             return existing.id
 
-    def rounds(self, model=None) -> pd.DataFrame:
-        """Rounds, oldest first: ``id``, ``model``, ``name``, ``blind``, who/when opened and closed."""
+    @_renamed_fit
+    def rounds(self, fit=None) -> pd.DataFrame:
+        """Rounds, oldest first: ``id``, ``fit``, ``name``, ``blind``, who/when opened and closed."""
         r = _s.rounds
         query = sa.select(r).order_by(r.c.id)
-        if model is not None:
-            query = query.where(r.c.model == model_id(model))
-        return pd.DataFrame(
-            [dict(x._mapping) for x in self._read(query)], columns=[c.name for c in r.c]
-        )
+        if fit is not None:
+            query = query.where(r.c.fit == fit_id(fit))
+        return pd.DataFrame([_s.record(x) for x in self._read(query)], columns=[c.key for c in r.c])
 
     @functools.cached_property
     def _visible(self):
-        """A filter on labels hiding other analysts' rows of models in an open blind round."""
+        """A filter on labels hiding other analysts' rows of fits in an open blind round."""
         r = _s.rounds
-        blind = sa.select(r.c.model).where(r.c.blind.is_(True), r.c.closed_at.is_(None))
+        blind = sa.select(r.c.fit).where(r.c.blind.is_(True), r.c.closed_at.is_(None))
         if self.analyst is None:
-            return _s.labels.c.model.not_in(blind)
-        return sa.or_(_s.labels.c.model.not_in(blind), _s.labels.c.analyst == self.analyst)
+            return _s.labels.c.fit.not_in(blind)
+        return sa.or_(_s.labels.c.fit.not_in(blind), _s.labels.c.analyst == self.analyst)
 
     @functools.cached_property
     def _latest_visible(self):
@@ -367,12 +392,13 @@ class LabelStore:
             .limit(1)
         )
 
-    def in_blind_round(self, model) -> bool:
-        """Whether a blind round is open on ``model``."""
+    @_renamed_fit
+    def in_blind_round(self, fit) -> bool:
+        """Whether a blind round is open on ``fit``."""
         r = _s.rounds
         rows = self._read(
             sa.select(r.c.id).where(
-                r.c.model == model_id(model), r.c.blind.is_(True), r.c.closed_at.is_(None)
+                r.c.fit == fit_id(fit), r.c.blind.is_(True), r.c.closed_at.is_(None)
             )
         )
         return bool(rows)
@@ -380,10 +406,10 @@ class LabelStore:
     # --- reading --------------------------------------------------------------------------
 
     def _current_rows(
-        self, conn, model: str, round_id: int | None = None, analyst: str | None = None
+        self, conn, fit: str, round_id: int | None = None, analyst: str | None = None
     ):
         t = _s.labels
-        scope = [t.c.model == model, self._visible]
+        scope = [t.c.fit == fit, self._visible]
         if round_id is not None:
             scope.append(t.c.round_id == round_id)
         if analyst is not None:
@@ -404,16 +430,17 @@ class LabelStore:
                     t.c.version == latest.c.v,
                 ),
             )
-            .where(t.c.model == model)
+            .where(t.c.fit == fit)
             .order_by(t.c.topic, t.c.analyst)
         )
         return conn.execute(query).all()
 
-    def current(self, model, *, include_retracted: bool = False) -> pd.DataFrame:
+    @_renamed_fit
+    def current(self, fit, *, include_retracted: bool = False) -> pd.DataFrame:
         """The current label of each (topic, analyst) visible to this analyst."""
-        model = model_id(model)
+        fit = fit_id(fit)
         with self._guard(), self._engine.connect() as conn:
-            rows = self._current_rows(conn, model)
+            rows = self._current_rows(conn, fit)
         frame = _frame(rows)
         return (
             frame
@@ -421,40 +448,44 @@ class LabelStore:
             else frame[~frame["retracted"].astype(bool)].reset_index(drop=True)
         )
 
-    def label(self, model, topic, analyst: str | None = None) -> Label | None:
+    @_renamed_fit
+    def label(self, fit, topic, analyst: str | None = None) -> Label | None:
         """The latest history row of one topic by ``analyst`` (default: this store's analyst),
         retracted or not, or ``None``; its ``version`` is what an edit is ``based_on``."""
-        model, topic = model_id(model), _topic(topic)
+        fit, topic = fit_id(fit), _topic(topic)
         who = analyst or self._writer("read your own label")
         with self._guard(), self._engine.connect() as conn:
             row = conn.execute(
-                self._latest_visible, {"model": model, "topic": topic, "analyst": who}
+                self._latest_visible, {"fit": fit, "topic": topic, "analyst": who}
             ).first()
         return None if row is None else _label(row)
 
-    def _history_rows(self, model=None, topic=None) -> list:
+    def _history_rows(self, fit=None, topic=None) -> list:
         t = _s.labels
         with self._guard(), self._engine.connect() as conn:
             query = sa.select(t).where(self._visible).order_by(t.c.id)
-            if model is not None:
-                query = query.where(t.c.model == model_id(model))
+            if fit is not None:
+                query = query.where(t.c.fit == fit_id(fit))
             if topic is not None:
                 query = query.where(t.c.topic == _topic(topic))
             return conn.execute(query).all()
 
-    def history(self, model=None, topic=None) -> pd.DataFrame:
+    @_renamed_fit
+    def history(self, fit=None, topic=None) -> pd.DataFrame:
         """Every visible history row, in write order."""
-        return _frame(self._history_rows(model, topic))
+        return _frame(self._history_rows(fit, topic))
 
-    def side_by_side(self, model, field: str = "name") -> pd.DataFrame:
+    @_renamed_fit
+    def side_by_side(self, fit, field: str = "name") -> pd.DataFrame:
         """Current labels as a topic x analyst table of ``field``."""
         check_choice("side_by_side", "field", field, LABEL_FIELDS)
-        frame = self.current(model)
+        frame = self.current(fit)
         if frame.empty:
             return pd.DataFrame(index=pd.Index([], name="topic"))
         return frame.pivot(index="topic", columns="analyst", values=field)
 
-    def poll(self, since=0, model=None) -> Changes:
+    @_renamed_fit
+    def poll(self, since=0, fit=None) -> Changes:
         """Rows saved after ``since``: a cursor from an earlier poll (an int) or a UTC time
         (``datetime`` or ISO text). Lets a form show colleagues' new labels as they arrive."""
         t = _s.labels
@@ -476,8 +507,8 @@ class LabelStore:
                     stamp.tz_localize("UTC") if stamp.tzinfo is None else stamp.tz_convert("UTC")
                 )
                 query = query.where(t.c.created_at > stamp.strftime("%Y-%m-%dT%H:%M:%S.%fZ"))
-            if model is not None:
-                query = query.where(t.c.model == model_id(model))
+            if fit is not None:
+                query = query.where(t.c.fit == fit_id(fit))
             rows = conn.execute(query).all()
         cursor = max(
             [r.id for r in rows], default=since if isinstance(since, numbers.Integral) else 0
@@ -529,8 +560,8 @@ class LabelStore:
         row["id"] = conn.execute(table.insert(), row).inserted_primary_key[0]
         return row
 
-    def _write_label(self, model, topic, values: dict, based_on) -> Label:
-        model, topic = model_id(model), _topic(topic)
+    def _write_label(self, fit, topic, values: dict, based_on) -> Label:
+        fit, topic = fit_id(fit), _topic(topic)
         who = self._writer("save a label")
         if based_on is not None and (
             isinstance(based_on, bool) or not isinstance(based_on, numbers.Integral) or based_on < 0
@@ -543,16 +574,15 @@ class LabelStore:
             )
         with self._guard(), _s.write_transaction(self._engine) as conn:
             values = self._clean(conn, values)
-            opened = self._open_round(conn, model)
+            opened = self._open_round(conn, fit)
             values["round_id"] = None if opened is None else opened.id
-            row = self._append(
-                conn, {"model": model, "topic": topic, "analyst": who}, values, based_on
-            )
+            row = self._append(conn, {"fit": fit, "topic": topic, "analyst": who}, values, based_on)
         return _label(row)
 
+    @_renamed_fit
     def save(
         self,
-        model,
+        fit,
         topic,
         *,
         name: str,
@@ -568,58 +598,39 @@ class LabelStore:
         If the stored latest version differs, :class:`LabelConflictError` is raised: its message
         shows both versions, ``.current`` and ``.attempted`` hold them, and nothing is stored.
         """
-        values = {
-            "name": name,
-            "note": note,
-            "verdict": verdict,
-            "category": category,
-            "confidence": confidence,
-            "retracted": False,
-        }
-        return self._write_label(model, topic, values, based_on)
+        values = {"name": name, "verdict": verdict, "category": category, "note": note}
+        values.update(confidence=confidence, retracted=False)
+        return self._write_label(fit, topic, values, based_on)
 
-    def retract(self, model, topic, *, based_on: int) -> Label:
+    @_renamed_fit
+    def retract(self, fit, topic, *, based_on: int) -> Label:
         """Withdraw this analyst's label of ``topic`` (a new, retracting version)."""
-        latest = self.label(model, topic)
-        values = {
-            "name": "",
-            "note": "",
-            "verdict": None,
-            "category": None,
-            "confidence": None,
-            "retracted": True,
-        }
-        if latest is not None:
-            values.update(
-                name=latest.name,
-                note=latest.note,
-                verdict=latest.verdict,
-                category=latest.category,
-                confidence=latest.confidence,
-            )
-        return self._write_label(model, topic, values, based_on)
+        latest = self.label(fit, topic)
+        values = {"name": "", "note": "", "verdict": None, "category": None, "confidence": None}
+        if latest is not None:  # the withdrawn label's fields stay readable in the history
+            values = {field: getattr(latest, field) for field in LABEL_FIELDS}
+        return self._write_label(fit, topic, {**values, "retracted": True}, based_on)
 
     # --- procedures -----------------------------------------------------------------------
 
-    def agreement(
-        self, model, fields=("verdict", "category"), round: int | None = None
-    ) -> pd.DataFrame:
+    @_renamed_fit
+    def agreement(self, fit, fields=AGREEMENT_FIELDS, round: int | None = None) -> pd.DataFrame:
         """Krippendorff's alpha (nominal) and percent agreement, per topic and overall.
 
         Units are topics, coders are analysts, values their current ``verdict``/``category``
         (restricted to labels saved in ``round`` when given). Columns: ``field``, ``scope``
         ("topic" or "overall"), ``topic``, ``alpha``, ``percent_agreement``, ``n_coders``,
-        ``n_units``. See :mod:`tm_compare.agreement` for the per-topic alpha.
+        ``n_units``. See :mod:`tm_compare.labels.agreement` for the per-topic alpha.
         """
-        model = model_id(model)
+        fit = fit_id(fit)
         fields = [fields] if isinstance(fields, str) else list(fields)
         for field in fields:
-            check_choice("LabelStore.agreement", "field", field, ("verdict", "category"))
-        if self.in_blind_round(model):
-            msg = f"A blind round is open on model {model!r}: agreement needs everyone's labels. Close the round first (store.close_round(model))."
+            check_choice("LabelStore.agreement", "field", field, AGREEMENT_FIELDS)
+        if self.in_blind_round(fit):
+            msg = f"A blind round is open on fit {fit!r}: agreement needs everyone's labels. Close the round first (store.close_round(fit))."
             raise LabelStoreError(msg)
         with self._guard(), self._engine.connect() as conn:
-            frame = _frame(self._current_rows(conn, model, round_id=round))
+            frame = _frame(self._current_rows(conn, fit, round_id=round))
         frame = frame[~frame["retracted"].astype(bool)]
         tables = []
         for field in fields:
@@ -628,10 +639,10 @@ class LabelStore:
             tables.append(table.assign(field=field, scope=table["scope"].replace("unit", "topic")))
         result = pd.concat(tables, ignore_index=True).rename(columns={"unit": "topic"})
         result["topic"] = result["topic"].astype("Int64")
-        columns = ["field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units"]
-        return result[columns]
+        return result[list(AGREEMENT_COLUMNS)]
 
-    def settle(self, model, topic, *, name: str, verdict: str | None = None,
+    @_renamed_fit
+    def settle(self, fit, topic, *, name: str, verdict: str | None = None,
                category: str | None = None, note: str = "", from_labels=None,
                based_on: int | None = None) -> dict:  # fmt: skip
         """Record the settled (consensus) label of ``topic``, who settled it and from which labels.
@@ -639,45 +650,46 @@ class LabelStore:
         ``from_labels``: uids of the history rows it was settled from (default: every analyst's
         current label of the topic). ``based_on``: the consensus version it replaces (None: first).
         """
-        model, topic = model_id(model), _topic(topic)
+        fit, topic = fit_id(fit), _topic(topic)
         who = self._writer("settle a label")
-        if self.in_blind_round(model):
-            msg = f"A blind round is open on model {model!r}; close it before settling labels."
+        if self.in_blind_round(fit):
+            msg = f"A blind round is open on fit {fit!r}; close it before settling labels."
             raise LabelStoreError(msg)
         values = {"name": name, "note": note, "verdict": verdict, "category": category}
         with self._guard(), _s.write_transaction(self._engine) as conn:
             values = self._clean(conn, values)
-            current = [r for r in self._current_rows(conn, model) if r.topic == topic]
+            current = [r for r in self._current_rows(conn, fit) if r.topic == topic]
             if from_labels is None:
                 sources = [r.uid for r in current if not r.retracted]
             else:
                 sources = [from_labels] if isinstance(from_labels, str) else list(from_labels)
                 t = _s.labels
-                query = sa.select(t.c.uid).where(t.c.model == model, t.c.topic == topic)
+                query = sa.select(t.c.uid).where(t.c.fit == fit, t.c.topic == topic)
                 unknown = set(sources) - set(conn.execute(query).scalars())
                 if unknown:
-                    accepted = f"uids of labels of topic {topic} of model {model!r}"
+                    accepted = f"uids of labels of topic {topic} of fit {fit!r}"
                     raise param_error("settle", "from_labels", sorted(unknown), accepted)
             values.update(settled_by=who, sources=json.dumps(sources))
-            key = {"model": model, "topic": topic}
+            key = {"fit": fit, "topic": topic}
             self._append(conn, key, values, based_on, table=_s.consensus)
-        return next(r for r in self._consensus_records(model, False) if r["topic"] == topic)
+        return next(r for r in self._consensus_records(fit, False) if r["topic"] == topic)
 
-    def _consensus_records(self, model: str, history: bool) -> list[dict]:
+    def _consensus_records(self, fit: str, history: bool) -> list[dict]:
         c = _s.consensus
-        rows = self._read(sa.select(c).where(c.c.model == model).order_by(c.c.topic, c.c.version))
-        records = [{k: v for k, v in r._mapping.items() if k != "id"} for r in rows]
+        rows = self._read(sa.select(c).where(c.c.fit == fit).order_by(c.c.topic, c.c.version))
+        records = [{k: v for k, v in _s.record(r).items() if k != "id"} for r in rows]
         for rec in records:
             rec["sources"] = json.loads(rec["sources"])
         if not history:
             records = list({rec["topic"]: rec for rec in records}.values())
         return records
 
-    def consensus(self, model, *, history: bool = False) -> pd.DataFrame:
+    @_renamed_fit
+    def consensus(self, fit, *, history: bool = False) -> pd.DataFrame:
         """Settled labels: the latest per topic (or every version with ``history=True``), with
         ``settled_by`` and ``sources`` (uids of the labels it was settled from)."""
-        columns = [c.name for c in _s.consensus.c if c.name != "id"]
-        return pd.DataFrame(self._consensus_records(model_id(model), history), columns=columns)
+        records = self._consensus_records(fit_id(fit), history)
+        return pd.DataFrame(records, columns=list(CONSENSUS_COLUMNS))
 
     def carry_over(
         self, source, target, *, alignment: pd.DataFrame | None = None, threshold: float = 0.5
@@ -685,43 +697,62 @@ class LabelStore:
         """Suggest labels for ``target`` from ``source``'s labels through topic alignment.
 
         ``alignment``: columns ``topic_a`` (source), ``topic_b`` (target), ``similarity``; by
-        default ``tm_compare.alignment.align_topics(source, target)`` (needs both fits). Returns
-        suggestions (nothing is stored): ``topic``, ``from_model``, ``from_topic``,
+        default ``tm_compare.models.alignment.align_topics(source, target)`` (needs both fits).
+        Returns suggestions (nothing is stored): ``topic``, ``from_fit``, ``from_topic``,
         ``similarity``, ``kind`` ("consensus" or "label"), ``analyst``, ``name``, ``verdict``,
         ``category``, ``note``; best match first within each target topic.
         """
         alignment = _f.carry_over_alignment(source, target, alignment, threshold)
-        return _f.carry_over(self, model_id(source), alignment, threshold)
+        return _f.carry_over(self, fit_id(source), alignment, threshold)
 
     # --- export and import -------------------------------------------------------------------
 
+    @_renamed_fit
     def export(
-        self, model, path=None, *, format: str | None = None, history: bool = False, top_words=None
-    ):
-        """Current labels (or the full ``history``) of ``model`` as JSON or CSV.
+        self, fit, path=None, *, format: str | None = None, history: bool = False, top_words=None
+    ) -> Path:
+        """Write the current labels (or the full ``history``) of ``fit`` to a JSON or CSV file,
+        atomically, and return its path. The format comes from the suffix unless given.
 
-        ``top_words``: a list, per topic, of its top terms, so the file reads without the model.
-        With ``path`` the file is written atomically (format from its suffix unless given) and
-        its path returned; without, the JSON document (a dict) or the CSV text is returned.
+        ``top_words``: a list, per topic, of its top terms, so the file reads without the fit.
+        Without ``path`` (deprecated; use :meth:`export_text`) the JSON document (a dict) or
+        the CSV text is returned as before.
         """
-        return _f.export_labels(
-            self, model_id(model), path, format=format, history=history, top_words=top_words
+        if path is None:
+            warn_renamed("LabelStore.export(fit) without a path", "LabelStore.export_text(fit)")
+            text = self.export_text(
+                fit, format=format or "json", history=history, top_words=top_words
+            )
+            return json.loads(text) if format in (None, "json") else text
+        format = format or Path(path).suffix.lstrip(".").lower()
+        text = self.export_text(fit, format=format, history=history, top_words=top_words)
+        atomic_write_text(path, text)
+        return Path(path)
+
+    @_renamed_fit
+    def export_text(
+        self, fit, *, format: str = "json", history: bool = False, top_words=None
+    ) -> str:
+        """The text of the label file :meth:`export` writes: JSON (``format="json"``) or CSV."""
+        return _f.export_text(
+            self, fit_id(fit), format=format, history=history, top_words=top_words
         )
 
-    def _labels(self, model: str, history: bool) -> list[Label]:
-        """Every visible history row of ``model``, or its current rows (retracted included)."""
+    def _labels(self, fit: str, history: bool) -> list[Label]:
+        """Every visible history row of ``fit``, or its current rows (retracted included)."""
         if history:
-            return [_label(r) for r in self._history_rows(model)]
+            return [_label(r) for r in self._history_rows(fit)]
         with self._guard(), self._engine.connect() as conn:
-            return [_label(r) for r in self._current_rows(conn, model)]
+            return [_label(r) for r in self._current_rows(conn, fit)]
 
-    def import_labels(self, path, *, model) -> dict:
-        """Import a file written by :meth:`export` into this store, for ``model`` only.
+    @_renamed_fit
+    def import_labels(self, path, *, fit) -> dict:
+        """Import a file written by :meth:`export` into this store, for ``fit`` only.
 
         Idempotent: rows already present (same uid) are skipped; new rows are appended after the
         key's latest version, keeping their analyst and time. Returns counts ``added``/``skipped``.
         """
-        return _f.import_labels(self, path, model_id(model))
+        return _f.import_labels(self, path, fit_id(fit))
 
     # --- integrity ------------------------------------------------------------------------
 
@@ -739,4 +770,17 @@ class LabelStore:
         return report
 
 
-__all__ = ["LabelStore", "Label", "Changes", "CheckReport", "DEFAULT_VERDICTS", "model_id"]
+__all__ = [
+    "LabelStore",
+    "Label",
+    "Changes",
+    "CheckReport",
+    "DEFAULT_VERDICTS",
+    "LABEL_FIELDS",
+    "COLUMNS",
+    "CONSENSUS_COLUMNS",
+    "AGREEMENT_COLUMNS",
+    "AGREEMENT_FIELDS",
+    "fit_id",
+    "model_id",
+]

@@ -1,4 +1,4 @@
-"""LDA engines behind :class:`tm_compare.fits.Fit`: gensim and scikit-learn.
+"""LDA engines behind :class:`tm_compare.models.fits.Fit`: gensim and scikit-learn.
 
 Both engines fit online variational Bayes LDA (Hoffman, Blei & Bach 2010,
 "Online learning for latent Dirichlet allocation") on the training rows of a
@@ -33,20 +33,23 @@ from importlib import metadata
 import numpy as np
 import scipy.sparse as sp
 
-ENGINES = ("gensim", "sklearn")
+from ..options import choices, default
 
-# gensim's defaults except ``passes``: one pass of online LDA makes a single
-# update on corpora smaller than ``chunksize``, which rarely converges.
-DEFAULT_SETTINGS = {
-    "passes": 10,
-    "iterations": 50,
-    "chunksize": 2000,
-    "alpha": "symmetric",
-    "eta": "symmetric",
-    "decay": 0.5,
-    "offset": 1.0,
-    "gamma_threshold": 0.001,
-}
+ENGINES = choices("engine")
+#: Fit settings, with gensim's names; their defaults (in :mod:`tm_compare.options`) are
+#: gensim's except ``passes``: one pass of online LDA makes a single update on corpora
+#: smaller than ``chunksize``, which rarely converges.
+SETTINGS = (
+    "passes",
+    "iterations",
+    "chunksize",
+    "alpha",
+    "eta",
+    "decay",
+    "offset",
+    "gamma_threshold",
+)
+DEFAULT_SETTINGS = {name: default(name) for name in SETTINGS}
 
 
 @dataclasses.dataclass
@@ -91,7 +94,7 @@ def run(
     matrix: sp.csr_matrix,
     heldout: np.ndarray,
     k: int,
-    seed: int,
+    random_state: int,
     settings: dict,
     vocab: list[str],
 ) -> EngineResult:
@@ -100,7 +103,7 @@ def run(
     train = np.flatnonzero(~heldout)
     held = np.flatnonzero(heldout)
     topic_term, gamma, word_bound = fitter(
-        matrix, train, held, k, seed, {**DEFAULT_SETTINGS, **settings}, vocab
+        matrix, train, held, k, random_state, {**DEFAULT_SETTINGS, **settings}, vocab
     )
     topic_term = np.asarray(topic_term, dtype=np.float64)
     topic_term /= topic_term.sum(axis=1, keepdims=True)
@@ -109,7 +112,7 @@ def run(
     )
 
 
-def _gensim(matrix, train, held, k, seed, s, vocab):
+def _gensim(matrix, train, held, k, random_state, s, vocab):
     from gensim.models import LdaModel
 
     model = LdaModel(
@@ -125,7 +128,7 @@ def _gensim(matrix, train, held, k, seed, s, vocab):
         offset=s["offset"],
         gamma_threshold=s["gamma_threshold"],
         eval_every=None,
-        random_state=seed,
+        random_state=random_state,
         dtype=np.float64,
     )
     # Chunk by chunk, so only one chunk of documents is ever held as Python lists.
@@ -148,7 +151,7 @@ def _gensim(matrix, train, held, k, seed, s, vocab):
     return model.get_topics(), gamma, word_bound
 
 
-def _sklearn(matrix, train, held, k, seed, s, vocab):
+def _sklearn(matrix, train, held, k, random_state, s, vocab):
     from sklearn.decomposition import LatentDirichletAllocation
 
     lda = LatentDirichletAllocation(
@@ -165,7 +168,7 @@ def _sklearn(matrix, train, held, k, seed, s, vocab):
         mean_change_tol=s["gamma_threshold"],
         evaluate_every=-1,
         n_jobs=1,
-        random_state=seed,
+        random_state=random_state,
     )
     x = matrix.astype(np.float64)
     lda.fit(x[train])

@@ -83,7 +83,8 @@ def align_topics(fit_a, fit_b, metric: str = "jensen_shannon") -> pd.DataFrame:
     DataFrame, one row per topic of ``fit_b`` in order: ``topic_a``, ``topic_b``,
     ``similarity``, ``metric``, ``matching`` ("one-to-one" or "many-to-one"),
     ``runner_up`` (similarity of ``topic_b``'s next most similar topic of ``fit_a``; a close
-    runner-up means an uncertain match), ``k_a``, ``k_b``, ``seed_a``, ``seed_b``.
+    runner-up means an uncertain match), ``k_a``, ``k_b``, ``seed_a``, ``seed_b`` (the fits'
+    ``random_state``, their seed in a sweep).
     """
     sim = similarity_matrix(fit_a, fit_b, metric)
     k_a, k_b = sim.shape
@@ -108,8 +109,8 @@ def align_topics(fit_a, fit_b, metric: str = "jensen_shannon") -> pd.DataFrame:
             "runner_up": runner_up,
             "k_a": k_a,
             "k_b": k_b,
-            "seed_a": getattr(fit_a, "seed", None),
-            "seed_b": getattr(fit_b, "seed", None),
+            "seed_a": fit_a.random_state,
+            "seed_b": fit_b.random_state,
         }
     )
 
@@ -137,7 +138,7 @@ def lineage(fits_by_k, metric: str = "jensen_shannon") -> pd.DataFrame:
     if len(fits) < 2:
         msg = (
             f"lineage needs fits for at least two values of k; got k = {sorted(fits)}. "
-            "Pass e.g. {k: sweep.model(k, seed) for k in sweep_ks}."
+            "Pass e.g. {k: sweep.get_fit(k, seed) for k in sweep_ks}."
         )
         raise ComparisonError(msg)
     ks = sorted(fits)

@@ -1,17 +1,18 @@
 """One fitted LDA model, normalised across engines: :class:`Fit` and :func:`fit_lda`.
 
 A fit is trained on the documents of a prepared corpus that are not held
-out. The held-out share is drawn once per corpus with ``holdout_seed``
-(``numpy.random.default_rng(holdout_seed)``), so every fit of a sweep, for
-every k and seed, is judged on the same held-out documents and their
-perplexities are comparable. Topic proportions are inferred for every
-document, held-out ones included, with the final topics.
+out. The held-out share is drawn once per corpus with ``holdout_random_state``
+(``numpy.random.default_rng(holdout_random_state)``), kept apart from the
+engine's ``random_state`` so that every fit of a sweep, for every k and seed,
+is judged on the same held-out documents and their perplexities are comparable.
+Topic proportions are inferred for every document, held-out ones included, with
+the final topics.
 
 Held-out perplexity is per word with natural logarithms: ``exp(-b)``, where
 ``b`` is the engine's variational lower bound on the log likelihood of the
 held-out documents per held-out token, with the document part scaled to the
 training corpus' size as the engines do when they evaluate (details in
-:mod:`tm_compare._engines`). gensim's ``LdaModel.log_perplexity(held,
+:mod:`tm_compare.models._engines`). gensim's ``LdaModel.log_perplexity(held,
 total_docs=n_train)`` returns ``b`` (natural log, although its log message
 calls ``2 ** -b`` the perplexity); scikit-learn's ``perplexity(held,
 sub_sampling=True)`` returns ``exp(-b)``. A bound makes this an upper bound on
@@ -31,13 +32,42 @@ import numpy as np
 import scipy.sparse as sp
 
 from .._atomic import atomic_path
+from .._deprecation import renamed_attribute, renamed_parameters
 from .._hashing import fingerprint as _fingerprint
 from .._validation import check_choice, param_error
 from ..errors import CorruptArtifactError, InputError
+from ..options import default
 from . import _engines
 
 FILE_FORMAT = "tm_compare fit"
 FILE_VERSION = 1
+# What a fit file records besides its arrays (and what Fit.load passes back to Fit).
+_META = (
+    "k",
+    "random_state",
+    "engine",
+    "engine_version",
+    "settings",
+    "fit_seconds",
+    "perplexity",
+    "corpus_fingerprint",
+    "vocab",
+    "doc_ids",
+)
+# Saved files, fingerprints and sweep state keep the names of the first release, so that a
+# fit keeps its fingerprint (labels are stored under it) and older versions read newer files.
+_STORED_NAMES = {"random_state": "seed", "holdout_random_state": "holdout_seed", "n_terms": "topn"}
+
+
+def stored(record: dict) -> dict:
+    """``record`` with its keys under their stored names (see ``_STORED_NAMES``)."""
+    return {_STORED_NAMES.get(key, key): value for key, value in record.items()}
+
+
+def from_stored(record: dict) -> dict:
+    """``record`` read from storage, with its keys under today's names."""
+    names = {old: new for new, old in _STORED_NAMES.items()}
+    return {names.get(key, key): value for key, value in record.items()}
 
 
 class Fit:
@@ -45,8 +75,9 @@ class Fit:
 
     Attributes
     ----------
-    k, seed, engine, engine_version, settings, fit_seconds
+    k, random_state, engine, engine_version, settings, fit_seconds
         What was fitted, how, and how long it took (training and inference).
+        ``random_state`` seeds the engine; in a sweep it is the fit's seed.
     vocab : list of str
         Terms; the index is the term id of the prepared dictionary.
     doc_ids : list of str
@@ -67,11 +98,14 @@ class Fit:
         Fingerprint of the prepared corpus the model was fitted on.
     """
 
+    seed = renamed_attribute("seed", "random_state")
+
+    @renamed_parameters(seed="random_state")
     def __init__(
         self,
         *,
         k,
-        seed,
+        random_state,
         engine,
         engine_version,
         settings,
@@ -86,7 +120,7 @@ class Fit:
         doc_topic=None,
     ):
         self.k = int(k)
-        self.seed = int(seed)
+        self.random_state = int(random_state)
         self.engine = engine
         self.engine_version = engine_version
         self.settings = dict(settings)
@@ -105,8 +139,8 @@ class Fit:
             "fit",
             engine,
             self.k,
-            self.seed,
-            self.settings,
+            self.random_state,
+            stored(self.settings),
             corpus_fingerprint,
             self.heldout,
             self.topic_term,
@@ -114,13 +148,54 @@ class Fit:
 
     def __repr__(self) -> str:
         return (
-            f"Fit(k={self.k}, seed={self.seed}, engine={self.engine!r}, "
+            f"Fit(k={self.k}, random_state={self.random_state}, engine={self.engine!r}, "
             f"perplexity={self.perplexity:.1f}, fingerprint={self.fingerprint!r})"
         )
 
-    def top_words(self, n: int = 10) -> list[list[str]]:
-        """The ``n`` most probable words of each topic, most probable first (ties by term id)."""
-        order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n]
+    @classmethod
+    @renamed_parameters(seed="random_state")
+    def from_arrays(
+        cls,
+        prepared,
+        topic_term,
+        doc_topic=None,
+        *,
+        doc_dirichlet=None,
+        random_state=0,
+        engine="planted",
+    ) -> Fit:
+        """A fit whose topics come from elsewhere: another program's, or planted for a test.
+
+        ``vocab``, ``doc_ids`` and ``corpus_fingerprint`` are those of ``prepared``;
+        nothing is held out, so ``perplexity`` is nan. Give ``doc_topic`` (D x k),
+        ``doc_dirichlet`` (the gamma it normalises), or both.
+        """
+        dictionary = prepared.dictionary
+        doc_topic, doc_dirichlet = (
+            None if a is None else np.asarray(a, dtype=float) for a in (doc_topic, doc_dirichlet)
+        )
+        return cls(
+            k=len(topic_term),
+            random_state=random_state,
+            engine=engine,
+            engine_version="",
+            settings={},
+            fit_seconds=0.0,
+            vocab=[dictionary[i] for i in range(len(dictionary))],
+            doc_ids=prepared.doc_ids,
+            topic_term=np.asarray(topic_term, dtype=float),
+            doc_dirichlet=doc_dirichlet,
+            heldout=np.zeros(len(prepared), dtype=bool),
+            perplexity=np.nan,
+            corpus_fingerprint=prepared.fingerprint,
+            doc_topic=doc_topic,
+        )
+
+    @renamed_parameters(n="n_terms")
+    def top_words(self, n_terms: int = default("n_terms")) -> list[list[str]]:
+        """The ``n_terms`` most probable words of each topic, most probable first (ties by term
+        id)."""
+        order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n_terms]
         return [[self.vocab[j] for j in row] for row in order]
 
     def save(self, path: str | os.PathLike) -> Path:
@@ -129,21 +204,13 @@ class Fit:
         arrays["doc_dirichlet" if self.doc_dirichlet is not None else "doc_topic"] = (
             self.doc_dirichlet if self.doc_dirichlet is not None else self.doc_topic
         )
-        meta = {
-            "format": FILE_FORMAT,
-            "version": FILE_VERSION,
-            "k": self.k,
-            "seed": self.seed,
-            "engine": self.engine,
-            "engine_version": self.engine_version,
-            "settings": self.settings,
-            "fit_seconds": self.fit_seconds,
-            "perplexity": self.perplexity,
-            "corpus_fingerprint": self.corpus_fingerprint,
-            "fingerprint": self.fingerprint,
-            "vocab": self.vocab,
-            "doc_ids": self.doc_ids,
-        }
+        meta = stored({name: getattr(self, name) for name in _META})
+        meta.update(
+            format=FILE_FORMAT,
+            version=FILE_VERSION,
+            settings=stored(self.settings),
+            fingerprint=self.fingerprint,
+        )
         meta_bytes = json.dumps(meta, sort_keys=True).encode("utf-8")
         arrays["meta"] = np.frombuffer(meta_bytes, dtype=np.uint8)
         checksum = _checksum(arrays)
@@ -177,23 +244,15 @@ class Fit:
                 "refits it."
             )
             raise CorruptArtifactError(msg)
-        fit = cls(
-            k=meta["k"],
-            seed=meta["seed"],
-            engine=meta["engine"],
-            engine_version=meta["engine_version"],
-            settings=meta["settings"],
-            fit_seconds=meta["fit_seconds"],
-            vocab=meta["vocab"],
-            doc_ids=meta["doc_ids"],
+        meta = from_stored(meta)
+        meta["settings"] = from_stored(meta["settings"])
+        return cls(
+            **{name: meta[name] for name in _META},
             topic_term=arrays["topic_term"],
             doc_dirichlet=arrays.get("doc_dirichlet"),
             doc_topic=arrays.get("doc_topic"),
             heldout=arrays["heldout"],
-            perplexity=meta["perplexity"],
-            corpus_fingerprint=meta["corpus_fingerprint"],
         )
-        return fit
 
 
 def _checksum(arrays: dict[str, np.ndarray]) -> str:
@@ -218,7 +277,11 @@ class TrainingData:
 
     @classmethod
     def from_prepared(
-        cls, prepared, holdout: float = 0.1, holdout_seed: int = 0, owner: str = "fit_lda"
+        cls,
+        prepared,
+        holdout: float = default("holdout"),
+        holdout_random_state: int = default("holdout_random_state"),
+        owner: str = "fit_lda",
     ) -> TrainingData:
         if not 0 <= holdout < 1:
             raise param_error(
@@ -238,20 +301,11 @@ class TrainingData:
                 "frequency) or add documents."
             )
             raise InputError(msg)
-        lengths = np.fromiter((len(doc) for doc in prepared.bow), dtype=np.int64, count=n_docs)
-        indptr = np.concatenate([[0], np.cumsum(lengths)])
-        pairs = np.fromiter(
-            (v for doc in prepared.bow for pair in doc for v in pair),
-            dtype=np.int64,
-            count=2 * int(indptr[-1]),
-        ).reshape(-1, 2)
-        matrix = sp.csr_matrix(
-            (pairs[:, 1].astype(np.int32), pairs[:, 0].astype(np.int32), indptr),
-            shape=(n_docs, len(dictionary)),
-        )
+        matrix = prepared.bow.to_csr(len(dictionary))
         n_held = max(1, round(holdout * n_docs)) if holdout > 0 else 0
         heldout = np.zeros(n_docs, dtype=bool)
-        heldout[np.random.default_rng(holdout_seed).permutation(n_docs)[:n_held]] = True
+        rng = np.random.default_rng(holdout_random_state)
+        heldout[rng.permutation(n_docs)[:n_held]] = True
         vocab = [dictionary[i] for i in range(len(dictionary))]
         return cls(matrix, vocab, list(prepared.doc_ids), heldout, prepared.fingerprint)
 
@@ -299,7 +353,8 @@ class TrainingData:
 
 
 def check_settings(owner: str, settings: dict) -> dict:
-    """Validate fit settings (gensim's names, see :mod:`tm_compare._engines`); return them complete."""
+    """Validate fit settings (gensim's names, see :mod:`tm_compare.models._engines`); return
+    them complete."""
     for name in settings:
         check_choice(owner, "settings", name, _engines.DEFAULT_SETTINGS)
     full = {**_engines.DEFAULT_SETTINGS, **settings}
@@ -336,19 +391,21 @@ def check_k(owner: str, k, data: TrainingData) -> int:
     return int(k)
 
 
-def train(data: TrainingData, k: int, seed: int, engine: str, settings: dict) -> Fit:
+def train(data: TrainingData, k: int, random_state: int, engine: str, settings: dict) -> Fit:
     """Fit one model on ``data`` (validated already), single-threaded for reproducibility."""
     from threadpoolctl import threadpool_limits
 
     start = time.perf_counter()
     # One math-library thread: results then do not depend on where or beside what a fit runs.
     with threadpool_limits(limits=1):
-        result = _engines.run(engine, data.matrix, data.heldout, k, seed, settings, data.vocab)
+        result = _engines.run(
+            engine, data.matrix, data.heldout, k, random_state, settings, data.vocab
+        )
     seconds = time.perf_counter() - start
     perplexity = float(np.exp(-result.word_bound))
     return Fit(
         k=k,
-        seed=seed,
+        random_state=random_state,
         engine=engine,
         engine_version=result.version,
         settings=settings,
@@ -363,14 +420,15 @@ def train(data: TrainingData, k: int, seed: int, engine: str, settings: dict) ->
     )
 
 
+@renamed_parameters(seed="random_state", holdout_seed="holdout_random_state")
 def fit_lda(
     prepared,
     k: int,
     *,
-    seed: int = 0,
-    engine: str = "gensim",
-    holdout: float = 0.1,
-    holdout_seed: int = 0,
+    random_state: int = default("random_state"),
+    engine: str = default("engine"),
+    holdout: float = default("holdout"),
+    holdout_random_state: int = default("holdout_random_state"),
     **settings,
 ) -> Fit:
     """Fit one LDA model with ``k`` topics on a prepared corpus.
@@ -378,20 +436,22 @@ def fit_lda(
     Parameters
     ----------
     prepared : PreparedCorpus
-        Needs ``.bow``, ``.dictionary``, ``.doc_ids`` and ``.fingerprint``.
     k : int
         Number of topics, from 2 to the number of training documents.
-    seed : int
-        Random state of the engine.
+    random_state : int
+        Seed of the engine (formerly ``seed``). A sweep's fit of seed s is ``random_state=s``.
     engine : {"gensim", "sklearn"}
-    holdout, holdout_seed
-        Share of documents held out for perplexity, and the seed that picks them.
+    holdout, holdout_random_state
+        Share of documents held out for perplexity, and the seed of the draw that picks them
+        (formerly ``holdout_seed``). It is separate from ``random_state`` so that fits with
+        different seeds are judged on the same held-out documents.
     **settings
         Fit settings with gensim's names: ``passes``, ``iterations``, ``chunksize``,
-        ``alpha``, ``eta``, ``decay``, ``offset``, ``gamma_threshold``.
+        ``alpha``, ``eta``, ``decay``, ``offset``, ``gamma_threshold`` (defaults in
+        :mod:`tm_compare.options`).
     """
     check_choice("fit_lda", "engine", engine, _engines.ENGINES)
     settings = check_settings("fit_lda", settings)
-    data = TrainingData.from_prepared(prepared, holdout, holdout_seed)
-    settings = {**settings, "holdout": holdout, "holdout_seed": holdout_seed}
-    return train(data, check_k("fit_lda", k, data), seed, engine, settings)
+    data = TrainingData.from_prepared(prepared, holdout, holdout_random_state)
+    settings = {**settings, "holdout": holdout, "holdout_random_state": holdout_random_state}
+    return train(data, check_k("fit_lda", k, data), random_state, engine, settings)

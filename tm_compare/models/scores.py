@@ -12,6 +12,9 @@
   prefixes (Greene, O'Callaghan & Cunningham 2014).
 - Diversity (:func:`diversity`): share of unique words among all topics' top 25
   (Dieng, Ruiz & Blei 2020).
+
+How many top terms of a topic count is ``n_terms`` everywhere (formerly ``topn`` in coherence
+and diversity, ``depth`` in stability, where Greene et al. call it the depth ``t``).
 - :func:`recommend`: a k proposed with its rule spelled out in words.
 """
 
@@ -25,11 +28,16 @@ import numpy as np
 import pandas as pd
 from scipy.optimize import linear_sum_assignment
 
+from .._deprecation import renamed_attribute, renamed_parameters
 from .._validation import check_choice, param_error
 from ..errors import InputError
+from ..options import choices, default
 from . import _cooccurrence
 
-MEASURES = ("npmi", "c_v", "uci", "umass")
+MEASURES = choices("measure")
+#: How each coherence measure is named in rules, tables and views.
+MEASURE_NAMES = {"npmi": "NPMI", "c_v": "C_V", "uci": "UCI (PMI)", "umass": "UMass"}
+DIVERSITY_N_TERMS = 25  # Dieng, Ruiz & Blei (2020) measure diversity on each topic's top 25 words
 # gensim's names, accepted as aliases.
 _ALIASES = {"c_npmi": "npmi", "c_uci": "uci", "u_mass": "umass"}
 # gensim's default windows (SLIDING_WINDOW_SIZES); None = whole documents.
@@ -47,14 +55,14 @@ class CoherenceScorer:
         Reference texts: the training texts, a held-out part, or an external corpus.
     dictionary : gensim Dictionary or collection of str, optional
         Words that may be scored (the model's vocabulary). Topic words outside it are
-        dropped before taking the top ``topn``, as gensim does. Default: the words of
+        dropped before taking the top ``n_terms``, as gensim does. Default: the words of
         ``texts``. A word in the dictionary that never occurs in ``texts`` is kept
         with zero counts, giving UMass 0 for its pairs and infinite or NaN NPMI, UCI
         and C_V, as gensim does.
     measures : sequence of {"npmi", "c_v", "uci", "umass"}
         gensim's names ("c_npmi", "c_uci", "u_mass") are accepted too.
-    topn : int
-        Number of top words per topic.
+    n_terms : int
+        Number of top words per topic (formerly ``topn``).
     window_sizes : dict, optional
         Sliding window per measure; defaults to gensim's (NPMI and UCI 10, C_V 110).
         UMass counts whole documents.
@@ -81,25 +89,28 @@ class CoherenceScorer:
     Values equal gensim's run with ``processes=1``; gensim's multi-process counter
     counts ``n - w + 1`` windows even for texts shorter than the window. gensim
     truncates topics to ``topn`` only when its first topic is longer than ``topn``;
-    here every topic is truncated (the same unless the first topic has ``topn`` or
+    here every topic is truncated (the same unless the first topic has ``n_terms`` or
     fewer known words while another has more).
     Counts are exact for every model because a pair's counts do not depend on
     which other words are counted.
     """
 
+    topn = renamed_attribute("topn", "n_terms")
+
+    @renamed_parameters(topn="n_terms")
     def __init__(
         self,
         texts,
         dictionary=None,
         measures=MEASURES,
-        topn: int = 10,
+        n_terms: int = default("n_terms"),
         window_sizes: Mapping[str, int] | None = None,
         window_counting: str = "gensim",
     ):
         self.texts = texts
         self.dictionary = dictionary
         self.measures = measures
-        self.topn = topn
+        self.n_terms = n_terms
         self.window_sizes = window_sizes
         self.window_counting = window_counting
 
@@ -115,18 +126,18 @@ class CoherenceScorer:
         measures = self._measures()
         windows = self._windows(measures)
         if (
-            isinstance(self.topn, bool)
-            or not isinstance(self.topn, int | np.integer)
-            or self.topn < 1
+            isinstance(self.n_terms, bool)
+            or not isinstance(self.n_terms, int | np.integer)
+            or self.n_terms < 1
         ):
-            raise param_error(owner, "topn", self.topn, "an integer >= 1")
+            raise param_error(owner, "n_terms", self.n_terms, "an integer >= 1")
         check_choice(owner, "window_counting", self.window_counting, _SCHEMES)
         _check_models(models_top_words)
         if getattr(self, "_index_texts", None) is not self.texts:
             self._index = _cooccurrence.TokenIndex(self.texts)
             self._index_texts = self.texts
         vocab = self._index.vocab if self.dictionary is None else _vocabulary(self.dictionary)
-        topics = [_keep(t, vocab, self.topn) for model in models_top_words for t in model]
+        topics = [_keep(t, vocab, self.n_terms) for model in models_top_words for t in model]
         self.words_ = list(dict.fromkeys(w for t in topics for w in t))
         self._position = {w: i for i, w in enumerate(self.words_)}
         self._vocab = vocab
@@ -156,7 +167,7 @@ class CoherenceScorer:
             msg = "CoherenceScorer.score was called before fit(). Call fit(models_top_words) first."
             raise InputError(msg)
         _check_topics(top_words, "CoherenceScorer.score", "top_words")
-        topics = [_keep(t, self._vocab, self.topn) for t in top_words]
+        topics = [_keep(t, self._vocab, self.n_terms) for t in top_words]
         unknown = sorted({w for t in topics for w in t} - self._position.keys())
         if unknown:
             raise param_error(
@@ -209,25 +220,33 @@ class CoherenceScorer:
         return {m: None if w is None else int(w) for m, w in windows.items()}
 
 
+@renamed_parameters(topn="n_terms")
 def coherence(
-    texts, top_words, measure="npmi", dictionary=None, topn=10, window_size=None
+    texts,
+    top_words,
+    measure=default("measure"),
+    dictionary=None,
+    n_terms=default("n_terms"),
+    window_size=None,
 ) -> np.ndarray:
     """Per-topic coherence of one model (see :class:`CoherenceScorer`)."""
     windows = None if window_size is None else {measure: window_size}
     scorer = CoherenceScorer(
-        texts, dictionary, measures=(measure,), topn=topn, window_sizes=windows
+        texts, dictionary, measures=(measure,), n_terms=n_terms, window_sizes=windows
     )
     result = scorer.fit([top_words]).score(top_words)
     return next(iter(result.values()))
 
 
-def average_jaccard(a, b, depth=None) -> float:
+@renamed_parameters(depth="n_terms")
+def average_jaccard(a, b, n_terms=None) -> float:
     """Average Jaccard index of two ranked word lists over their prefixes.
 
-    ``AJ = (1/t) * sum_{d=1..t} |a[:d] & b[:d]| / |a[:d] | b[:d]|`` with ``t = depth``
-    (default: the shorter list's length); Greene, O'Callaghan & Cunningham 2014, eq. 1.
+    ``AJ = (1/t) * sum_{d=1..t} |a[:d] & b[:d]| / |a[:d] | b[:d]|`` with the depth
+    ``t = n_terms`` (default: the shorter list's length); Greene, O'Callaghan & Cunningham
+    2014, eq. 1.
     """
-    t = min(len(a), len(b)) if depth is None else depth
+    t = min(len(a), len(b)) if n_terms is None else n_terms
     if (
         isinstance(t, bool)
         or not isinstance(t, int | np.integer)
@@ -236,8 +255,8 @@ def average_jaccard(a, b, depth=None) -> float:
     ):
         raise param_error(
             "average_jaccard",
-            "depth",
-            depth,
+            "n_terms",
+            n_terms,
             f"an integer from 1 to {min(len(a), len(b))} (the shorter list's length)",
         )
     total = 0.0
@@ -247,10 +266,12 @@ def average_jaccard(a, b, depth=None) -> float:
     return total / t
 
 
-def match_topics(top_words_a, top_words_b, depth=10):
+@renamed_parameters(depth="n_terms")
+def match_topics(top_words_a, top_words_b, n_terms=default("n_terms")):
     """Match two runs' topics one-to-one, maximising average Jaccard (Hungarian method).
 
-    ``depth`` is capped at the length of the shortest word list.
+    ``n_terms`` (the depth of the average Jaccard) is capped at the length of the shortest
+    word list.
 
     Returns
     -------
@@ -259,17 +280,18 @@ def match_topics(top_words_a, top_words_b, depth=10):
     scores : numpy.ndarray
         Average Jaccard of each matched pair.
     """
-    depth = min(depth, *(len(t) for t in top_words_a), *(len(t) for t in top_words_b))
+    depth = min(n_terms, *(len(t) for t in top_words_a), *(len(t) for t in top_words_b))
     sims = np.array([[average_jaccard(x, y, depth) for y in top_words_b] for x in top_words_a])
     rows, cols = linear_sum_assignment(sims, maximize=True)
     return np.column_stack([rows, cols]), sims[rows, cols]
 
 
-def stability(top_words_by_seed: Mapping, depth=10):
+@renamed_parameters(depth="n_terms")
+def stability(top_words_by_seed: Mapping, n_terms=default("n_terms")):
     """Stability of one k across seeds (Greene, O'Callaghan & Cunningham 2014).
 
     Every pair of seeds is compared: topics matched one-to-one by average Jaccard
-    over top-term prefixes of depth 1..``depth``, and the pair scored by the mean
+    over top-term prefixes of depth 1..``n_terms``, and the pair scored by the mean
     over matched topics.
 
     Returns
@@ -293,7 +315,7 @@ def stability(top_words_by_seed: Mapping, depth=10):
     topic_scores = {(s, i): [] for s in seeds for i in range(len(top_words_by_seed[s]))}
     pair_rows = []
     for sa, sb in combinations(seeds, 2):
-        pairs, sims = match_topics(top_words_by_seed[sa], top_words_by_seed[sb], depth)
+        pairs, sims = match_topics(top_words_by_seed[sa], top_words_by_seed[sb], n_terms)
         pair_rows.append((sa, sb, float(sims.mean())))
         for (i, j), value in zip(pairs, sims, strict=True):
             topic_scores[(sa, int(i))].append(value)
@@ -316,13 +338,14 @@ def stability(top_words_by_seed: Mapping, depth=10):
     return per_fit, per_topic, per_pair
 
 
-def diversity(top_words, topn=25) -> float:
-    """Share of unique words among all topics' top ``topn`` words (Dieng, Ruiz & Blei 2020).
+@renamed_parameters(topn="n_terms")
+def diversity(top_words, n_terms=DIVERSITY_N_TERMS) -> float:
+    """Share of unique words among all topics' top ``n_terms`` words (Dieng, Ruiz & Blei 2020).
 
-    1 means no word is shared between topics. Topics with fewer than ``topn``
+    1 means no word is shared between topics. Topics with fewer than ``n_terms``
     words contribute the words they have.
     """
-    kept = [list(t)[:topn] for t in top_words]
+    kept = [list(t)[:n_terms] for t in top_words]
     total = sum(map(len, kept))
     if total == 0:
         raise param_error(
@@ -332,7 +355,6 @@ def diversity(top_words, topn=25) -> float:
 
 
 _LOWER_IS_BETTER = {"perplexity"}
-_LABELS = {"npmi": "NPMI", "c_v": "C_V", "uci": "UCI", "umass": "UMass"}
 
 
 @dataclass
@@ -359,7 +381,7 @@ class Recommendation:
 
 
 def recommend(
-    scores: pd.DataFrame, measure="npmi", stability="stability", n_se=1.0
+    scores: pd.DataFrame, measure=default("measure"), stability="stability", n_se=1.0
 ) -> Recommendation:
     """Propose k: the best mean ``measure`` among k whose mean stability is within
     ``n_se`` standard errors of the most stable k (a one-standard-error rule).
@@ -368,7 +390,7 @@ def recommend(
     ----------
     scores : DataFrame
         One row per fit with columns ``k``, ``seed``, ``measure`` and ``stability``
-        (e.g. ``Sweep.scores``). Missing or non-finite values are left out and the
+        (e.g. ``Sweep.scores_``). Missing or non-finite values are left out and the
         rule says so; without stability the choice uses ``measure`` alone, and
         without ``measure`` it uses stability alone.
     measure : str
@@ -388,7 +410,7 @@ def recommend(
         )
     if not isinstance(n_se, int | float) or isinstance(n_se, bool) or n_se < 0:
         raise param_error(owner, "n_se", n_se, "a number >= 0")
-    label = _LABELS.get(measure, measure)
+    label = MEASURE_NAMES.get(measure, measure)
     frame = scores.copy()
     notes, absent = [], {}
     for col, name in ((measure, label), (stability, "stability")):
@@ -420,7 +442,7 @@ def recommend(
             "stability_se": grouped[stability].std(ddof=1) / np.sqrt(grouped[stability].count()),
         }
     )
-    for col in ("npmi", "c_v", "uci", "umass", "perplexity", "diversity"):
+    for col in (*MEASURES, "perplexity", "diversity"):
         if col in frame.columns and col != measure:
             table[f"{col}_mean"] = grouped[col].mean()
     table = table.reset_index()
@@ -562,9 +584,9 @@ def _vocabulary(dictionary):
     return dictionary.token2id if hasattr(dictionary, "token2id") else set(dictionary)
 
 
-def _keep(topic, vocab, topn):
-    """Topic words in the vocabulary, then the first ``topn`` of them (gensim's order of steps)."""
-    return [w for w in topic if w in vocab][:topn]
+def _keep(topic, vocab, n_terms):
+    """Topic words in the vocabulary, then the first ``n_terms`` (gensim's order of steps)."""
+    return [w for w in topic if w in vocab][:n_terms]
 
 
 def _is_list(value) -> bool:

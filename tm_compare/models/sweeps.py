@@ -3,7 +3,7 @@
 :func:`sweep` fits one model per (k, seed), in parallel processes or on a Dask
 cluster, saves each finished fit in the project folder as soon as it ends
 (so a stopped sweep resumes where it stopped), then scores every fit with the
-statistics of :mod:`tm_compare.scores`, counted once for the whole grid.
+statistics of :mod:`tm_compare.models.scores`, counted once for the whole grid.
 
 Results do not depend on where fits run: every fit is single-threaded and
 reads the same document-term matrix, so a sweep run sequentially, with
@@ -24,15 +24,16 @@ import numpy as np
 import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_json
+from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._hashing import fingerprint as _fingerprint
 from .._validation import check_choice, param_error, require
 from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
+from ..options import choices, default
 from ..project import Project
 from . import _engines
-from .fits import Fit, TrainingData, check_k, check_settings, train
+from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
+from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, recommend, stability
 
-MEASURES = ("npmi", "c_v", "uci", "umass")
-DIVERSITY_TOPN = 25  # Dieng, Ruiz & Blei (2020) measure diversity on each topic's top 25 words
 CONNECT_TIMEOUT = 10  # seconds to wait for a Dask scheduler
 _STATE = "sweep.json"
 
@@ -45,7 +46,8 @@ class Sweep:
     k : int or iterable of int
         Topic counts, each from 2 to the number of training documents.
     seeds : int or iterable of int
-        ``3`` means seeds 0, 1, 2; a list gives the seeds themselves.
+        ``3`` means seeds 0, 1, 2; a list gives the seeds themselves. The fit of seed s has
+        ``random_state=s``.
     engine : {"gensim", "sklearn"}
     project : Project or path, optional
         Where fits (``fits/``) and score tables (``scores/``) are saved. With a
@@ -54,51 +56,72 @@ class Sweep:
         Worker processes on this machine (joblib convention: None is 1, -1 all cores).
     client, scheduler : dask.distributed.Client or address, optional
         Run the fits on a Dask cluster instead.
-    holdout, holdout_seed
+    holdout, holdout_random_state
         Share of documents held out for perplexity, drawn once with
-        ``holdout_seed``: the same documents for every fit of the sweep.
-    topn : int
-        Top words per topic for coherence and stability (diversity uses 25).
+        ``holdout_random_state`` (formerly ``holdout_seed``): the same documents for every
+        fit of the sweep.
+    n_terms : int
+        Top words per topic for coherence and stability (formerly ``topn``; diversity
+        uses 25).
     measures : tuple of str
         Coherence measures, from ``("npmi", "c_v", "uci", "umass")``.
-    passes, iterations, chunksize, alpha, eta
-        Fit settings (gensim's names, see :func:`tm_compare.fits.fit_lda`).
+    passes, iterations, chunksize, alpha, eta, decay, offset, gamma_threshold
+        Fit settings (gensim's names, see :func:`tm_compare.models.fits.fit_lda`).
     progress : bool
         Show a progress bar of fits done and time left.
     fallback_local : bool
         If the scheduler does not answer, warn and run locally instead of raising.
 
+    Defaults are those of :mod:`tm_compare.options`.
+
     Attributes
     ----------
-    fits : Mapping
+    fits_ : Mapping
         ``{(k, seed): Fit}``; fits saved in a project are read from disk when asked for.
-    scores : DataFrame
+    scores_ : DataFrame
         One row per fit: ``k``, ``seed``, ``engine``, ``fit_seconds``, mean of each
         coherence measure, ``perplexity``, ``stability``, ``diversity``, ``fingerprint``.
-    topic_scores : DataFrame
+    topic_scores_ : DataFrame
         One row per topic of each fit: ``k``, ``seed``, ``topic``, ``top_words``,
         each coherence measure and ``stability``.
+    settings_ : dict
+        The fit settings every fit was made with.
+    corpus_fingerprint_ : str
+        Fingerprint of the prepared corpus the sweep was fitted on.
+
+    Learned state ends in ``_`` (scikit-learn's convention); ``fits``, ``scores`` and
+    ``topic_scores`` are the names of earlier releases.
     """
 
+    fits = renamed_attribute("fits", "fits_")
+    scores = renamed_attribute("scores", "scores_")
+    topic_scores = renamed_attribute("topic_scores", "topic_scores_")
+    holdout_seed = renamed_attribute("holdout_seed", "holdout_random_state")
+    topn = renamed_attribute("topn", "n_terms")
+
+    @renamed_parameters(holdout_seed="holdout_random_state", topn="n_terms")
     def __init__(
         self,
-        k=range(5, 41, 5),
-        seeds=3,
-        engine="gensim",
+        k=default("k"),
+        seeds=default("seeds"),
+        engine=default("engine"),
         *,
         project=None,
-        n_jobs=None,
+        n_jobs=default("n_jobs"),
         client=None,
         scheduler=None,
-        holdout=0.1,
-        holdout_seed=0,
-        topn=10,
-        measures=MEASURES,
-        passes=_engines.DEFAULT_SETTINGS["passes"],
-        iterations=_engines.DEFAULT_SETTINGS["iterations"],
-        chunksize=_engines.DEFAULT_SETTINGS["chunksize"],
-        alpha="symmetric",
-        eta="symmetric",
+        holdout=default("holdout"),
+        holdout_random_state=default("holdout_random_state"),
+        n_terms=default("n_terms"),
+        measures=choices("measure"),
+        passes=default("passes"),
+        iterations=default("iterations"),
+        chunksize=default("chunksize"),
+        alpha=default("alpha"),
+        eta=default("eta"),
+        decay=default("decay"),
+        offset=default("offset"),
+        gamma_threshold=default("gamma_threshold"),
         progress=True,
         fallback_local=False,
     ):
@@ -110,26 +133,31 @@ class Sweep:
         self.client = client
         self.scheduler = scheduler
         self.holdout = holdout
-        self.holdout_seed = holdout_seed
-        self.topn = topn
+        self.holdout_random_state = holdout_random_state
+        self.n_terms = n_terms
         self.measures = measures
         self.passes = passes
         self.iterations = iterations
         self.chunksize = chunksize
         self.alpha = alpha
         self.eta = eta
+        self.decay = decay
+        self.offset = offset
+        self.gamma_threshold = gamma_threshold
         self.progress = progress
         self.fallback_local = fallback_local
 
     def __repr__(self) -> str:
-        n = len(getattr(self, "fits", ()))
+        n = len(getattr(self, "fits_", ()))
         return f"Sweep(engine={self.engine!r}, fits={n})"
 
     # -- fitting -----------------------------------------------------------------------------
     def fit(self, prepared) -> Sweep:
         """Fit (or reload) every model of the grid on ``prepared``, then score them all."""
         ks, seeds, measures, settings = self._checked_options()
-        data = TrainingData.from_prepared(prepared, self.holdout, self.holdout_seed, "sweep")
+        data = TrainingData.from_prepared(
+            prepared, self.holdout, self.holdout_random_state, "sweep"
+        )
         for k in ks:
             check_k("sweep", k, data)
         project = self.project
@@ -149,7 +177,7 @@ class Sweep:
             if fit is None:
                 todo.append(key)
             else:
-                summaries[key], kept[key] = _summary(fit, self.topn), files[key]
+                summaries[key], kept[key] = _summary(fit, self.n_terms), files[key]
 
         from tqdm.auto import tqdm
 
@@ -162,16 +190,16 @@ class Sweep:
         )
         try:
             for fit in self._run(data, todo, settings):
-                key = (fit.k, fit.seed)
-                summaries[key] = _summary(fit, self.topn)
+                key = (fit.k, fit.random_state)
+                summaries[key] = _summary(fit, self.n_terms)
                 kept[key] = _save(fit, files[key]) if files else fit
                 bar.update(1)
         finally:
             bar.close()
 
-        self.fits = FitShelf({key: kept[key] for key in grid})
-        self.scores, self.topic_scores = _score(
-            {key: summaries[key] for key in grid}, prepared, measures, self.topn, self.engine
+        self.fits_ = FitShelf({key: kept[key] for key in grid})
+        self.scores_, self.topic_scores_ = _score(
+            {key: summaries[key] for key in grid}, prepared, measures, self.n_terms, self.engine
         )
         self.settings_ = settings
         self.corpus_fingerprint_ = data.corpus_fingerprint
@@ -196,20 +224,13 @@ class Sweep:
             if _is_int(self.seeds)
             else _grid("seeds", self.seeds, minimum=0)
         )
-        measures = [check_choice("sweep", "measures", m, MEASURES) for m in self.measures]
-        if not _is_int(self.topn) or self.topn < 2:
-            raise param_error("sweep", "topn", self.topn, "an integer >= 2")
+        measures = [check_choice("sweep", "measures", m, choices("measure")) for m in self.measures]
+        if not _is_int(self.n_terms) or self.n_terms < 2:
+            raise param_error("sweep", "n_terms", self.n_terms, "an integer >= 2")
         settings = check_settings(
-            "sweep",
-            {
-                "passes": self.passes,
-                "iterations": self.iterations,
-                "chunksize": self.chunksize,
-                "alpha": self.alpha,
-                "eta": self.eta,
-            },
+            "sweep", {name: getattr(self, name) for name in _engines.SETTINGS}
         )
-        settings.update(holdout=self.holdout, holdout_seed=self.holdout_seed)
+        settings.update(holdout=self.holdout, holdout_random_state=self.holdout_random_state)
         return ks, seeds, measures, settings
 
     def _run(self, data: TrainingData, todo: list, settings: dict) -> Iterator[Fit]:
@@ -240,23 +261,26 @@ class Sweep:
             )(tasks)
 
     # -- results -----------------------------------------------------------------------------
-    def model(self, k: int, seed: int = 0) -> Fit:
-        """The fit with ``k`` topics and ``seed``."""
-        if (k, seed) not in self.fits:
-            listed = ", ".join(f"(k={a}, seed={b})" for a, b in self.fits)
+    def get_fit(self, k: int, seed: int = 0) -> Fit:
+        """The fit with ``k`` topics and seed ``seed`` (its ``random_state``)."""
+        if (k, seed) not in self.fits_:
+            listed = ", ".join(f"(k={a}, seed={b})" for a, b in self.fits_)
             msg = f"This sweep has no fit with k={k!r} and seed={seed!r}. Existing fits are: {listed}."
             raise SweepError(msg)
-        return self.fits[(k, seed)]
+        return self.fits_[(k, seed)]
 
-    def recommend(self, measure: str = "npmi"):
-        """Propose a k with the rule spelled out (see :func:`tm_compare.scores.recommend`)."""
-        from .scores import recommend
+    def model(self, k: int, seed: int = 0) -> Fit:
+        """Deprecated: use :meth:`get_fit`."""
+        warn_renamed("Sweep.model(k, seed)", "Sweep.get_fit(k, seed)")
+        return self.get_fit(k, seed)
 
-        return recommend(self.scores, measure=measure)
+    def recommend(self, measure: str = default("measure")):
+        """Propose a k with the rule spelled out (see :func:`.scores.recommend`)."""
+        return recommend(self.scores_, measure=measure)
 
     def _save_tables(self, project: Project, files: dict) -> None:
         folder = project.folder("scores")
-        for name, table in (("scores", self.scores), ("topic_scores", self.topic_scores)):
+        for name, table in (("scores", self.scores_), ("topic_scores", self.topic_scores_)):
             with atomic_path(folder / f"{name}.parquet") as tmp:
                 table.to_parquet(tmp, index=False)
             flat = table.copy()
@@ -264,16 +288,14 @@ class Sweep:
                 flat["top_words"] = flat["top_words"].map(" ".join)
             with atomic_path(folder / f"{name}.csv") as tmp:
                 flat.to_csv(tmp, index=False)
-        atomic_write_json(
-            folder / _STATE,
-            {
-                "engine": self.engine,
-                "settings": self.settings_,
-                "topn": self.topn,
-                "corpus_fingerprint": self.corpus_fingerprint_,
-                "fits": [{"k": k, "seed": s, "file": files[(k, s)].name} for k, s in self.fits],
-            },
-        )
+        state = {
+            "engine": self.engine,
+            "settings": stored(self.settings_),
+            "n_terms": self.n_terms,
+            "corpus_fingerprint": self.corpus_fingerprint_,
+            "fits": [{"k": k, "seed": s, "file": files[(k, s)].name} for k, s in self.fits_],
+        }
+        atomic_write_json(folder / _STATE, stored(state))
 
     @classmethod
     def load(cls, project) -> Sweep:
@@ -298,34 +320,31 @@ class Sweep:
             )
             raise CorruptArtifactError(msg) from exc
         topic_scores["top_words"] = topic_scores["top_words"].map(list)
-        s = state["settings"]
+        state = from_stored(state)
+        settings = from_stored(state["settings"])
         self = cls(
             sorted({f["k"] for f in state["fits"]}),
             sorted({f["seed"] for f in state["fits"]}),
             state["engine"],
             project=project,
-            holdout=s["holdout"],
-            holdout_seed=s["holdout_seed"],
-            topn=state["topn"],
-            passes=s["passes"],
-            iterations=s["iterations"],
-            chunksize=s["chunksize"],
-            alpha=s["alpha"],
-            eta=s["eta"],
+            n_terms=state["n_terms"],
+            **settings,
         )
-        self.fits = FitShelf(
+        self.fits_ = FitShelf(
             {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]}
         )
-        self.scores, self.topic_scores = scores, topic_scores
-        self.settings_, self.corpus_fingerprint_ = s, state["corpus_fingerprint"]
+        self.scores_, self.topic_scores_ = scores, topic_scores
+        self.settings_, self.corpus_fingerprint_ = settings, state["corpus_fingerprint"]
         return self
 
 
-def sweep(prepared, k=range(5, 41, 5), seeds=3, engine="gensim", **options) -> Sweep:
+def sweep(
+    prepared, k=default("k"), seeds=default("seeds"), engine=default("engine"), **options
+) -> Sweep:
     """Fit and score LDA over a grid of topic counts and seeds; see :class:`Sweep`.
 
     >>> result = sweep(prepared, k=range(5, 41, 5), seeds=3, project="study")  # doctest: +SKIP
-    >>> result.scores                 # one row per fit                            # doctest: +SKIP
+    >>> result.scores_                # one row per fit                            # doctest: +SKIP
     >>> result.recommend().rule       # the k proposed, and why, in words          # doctest: +SKIP
     """
     return Sweep(k, seeds, engine, **options).fit(prepared)
@@ -369,7 +388,7 @@ def _grid(name: str, values, minimum: int) -> list[int]:
 
 def _fit_file(folder: Path, corpus: str, engine: str, k: int, seed: int, settings: dict) -> Path:
     # Keyed by everything that changes the model: other settings make other files.
-    key = _fingerprint("sweep fit", corpus, engine, k, seed, settings)
+    key = _fingerprint("sweep fit", corpus, engine, k, seed, stored(settings))
     return folder / f"{engine}-k{k}-seed{seed}-{key}.npz"
 
 
@@ -390,19 +409,19 @@ def _save(fit: Fit, path: Path) -> Path:
         return fit.save(path)
     except OSError as exc:
         msg = (
-            f"Could not save the fit k={fit.k}, seed={fit.seed} to {str(path)!r}: {exc}. "
+            f"Could not save the fit k={fit.k}, seed={fit.random_state} to {str(path)!r}: {exc}. "
             f"Fits finished before it are kept in {str(path.parent)!r}; free disk space and "
             "run the same sweep again to resume."
         )
         raise SweepError(msg) from exc
 
 
-def _summary(fit: Fit, topn: int) -> dict:
+def _summary(fit: Fit, n_terms: int) -> dict:
     return {
         "fit_seconds": fit.fit_seconds,
         "perplexity": fit.perplexity,
         "fingerprint": fit.fingerprint,
-        "top": fit.top_words(max(topn, DIVERSITY_TOPN)),
+        "top": fit.top_words(max(n_terms, DIVERSITY_N_TERMS)),
     }
 
 
@@ -459,14 +478,12 @@ def _run_dask(client, own: bool, data: TrainingData, todo: list, engine: str, se
 
 
 # -- scoring -------------------------------------------------------------------------------------
-def _score(summaries: dict, prepared, measures: list[str], topn: int, engine: str):
+def _score(summaries: dict, prepared, measures: list[str], n_terms: int, engine: str):
     """Score tables for the fits; word statistics are counted once for the whole grid."""
-    from .scores import CoherenceScorer, diversity, stability
-
     keys = list(summaries)
-    top = {key: [words[:topn] for words in summaries[key]["top"]] for key in keys}
+    top = {key: [words[:n_terms] for words in summaries[key]["top"]] for key in keys}
     scorer = CoherenceScorer(
-        prepared.texts, prepared.dictionary, measures=tuple(measures), topn=topn
+        prepared.texts, prepared.dictionary, measures=tuple(measures), n_terms=n_terms
     ).fit([top[key] for key in keys])
     rows, topic_rows = [], []
     for key in keys:
@@ -490,14 +507,14 @@ def _score(summaries: dict, prepared, measures: list[str], topn: int, engine: st
                 "fit_seconds": summaries[key]["fit_seconds"],
                 **{m: float(np.mean(per_topic[m])) for m in measures},
                 "perplexity": summaries[key]["perplexity"],
-                "diversity": diversity(summaries[key]["top"], topn=DIVERSITY_TOPN),
+                "diversity": diversity(summaries[key]["top"], n_terms=DIVERSITY_N_TERMS),
                 "fingerprint": summaries[key]["fingerprint"],
             }
         )
     fit_stability, topic_stability = {}, {}
     for k in sorted({k for k, _ in keys}):
         by_seed = {seed: top[(kk, seed)] for kk, seed in keys if kk == k}
-        fit_table, topic_table, _ = stability(by_seed, depth=topn)  # NaN with one seed
+        fit_table, topic_table, _ = stability(by_seed, n_terms=n_terms)  # NaN with one seed
         for row in fit_table.itertuples():
             fit_stability[(k, row.seed)] = row.stability
         for row in topic_table.itertuples():
@@ -523,4 +540,4 @@ def load_fit(project, k: int | None = None, seed: int | None = None) -> Fit:
     if k is None:
         pick = result.recommend()
         k, seed = pick.k, pick.seed if seed is None else seed
-    return result.model(k, 0 if seed is None else seed)
+    return result.get_fit(k, 0 if seed is None else seed)

@@ -1,8 +1,9 @@
-"""The report's sections as plain values (text, tables of formatted cells, chart images).
+"""The report's sections as plain values (text, tables as escaped HTML, chart images).
 
-Every number comes from a table of :class:`tm_compare.exports.Results`, the same objects the
-exports write; this module only chooses rows and formats them. Escaping is left to the template
-(Jinja2 with autoescape), so nothing here builds HTML.
+Every number comes from a table of :class:`tm_compare.report.exports.Results`, the same objects
+the exports write; this module only chooses rows and formats them. Tables are laid out and
+escaped by :func:`tm_compare._html.table`; every other value is escaped by the template (Jinja2
+autoescape).
 """
 
 from __future__ import annotations
@@ -13,6 +14,7 @@ import math
 
 import pandas as pd
 
+from .. import _html
 from .exports import chart_svg, charts
 
 WORDS = 8  # top terms shown per topic
@@ -38,19 +40,26 @@ def interval(low, high) -> str:
     return f"{num(low, sign=True)} to {num(high, sign=True)}"
 
 
-def table(frame: pd.DataFrame, columns, *, key: str, caption: str = "") -> dict:
-    """A table for the template: ``columns`` is a list of (column, header, format or None)."""
-    rows = []
-    for record in frame.to_dict("records"):
-        cells = []
-        for column, _, fmt in columns:
-            value = record[column] if isinstance(column, str) else column(record)
-            numeric = (
-                fmt is not None or isinstance(value, int | float) and not isinstance(value, bool)
-            )
-            cells.append({"text": fmt(value) if fmt else _text(value), "num": numeric})
-        rows.append(cells)
-    return {"key": key, "caption": caption, "headers": [h for _, h, _ in columns], "rows": rows}
+def table(frame: pd.DataFrame, columns, *, key: str, caption: str = "") -> str:
+    """A table as escaped HTML: ``columns`` is a list of (column, header, format or None).
+
+    A column is numeric (right-aligned) when it has a format or holds only numbers.
+    """
+    records = frame.to_dict("records")
+    headers, numeric, cells = [], set(), []
+    for column, header, fmt in columns:
+        values = [r[column] if isinstance(column, str) else column(r) for r in records]
+        headers.append(header)
+        if fmt is not None or all(map(_is_number, values)):
+            numeric.add(header)
+        cells.append([fmt(v) if fmt else _text(v) for v in values])
+    shown = pd.DataFrame(list(zip(*cells, strict=True)), columns=headers)
+    attrs = {"id": f"table-{key}", "class": "data"}
+    return _html.table(shown, attrs=attrs, numeric=numeric, caption=caption)
+
+
+def _is_number(value) -> bool:
+    return isinstance(value, int | float) and not isinstance(value, bool)
 
 
 def _text(value) -> str:
@@ -99,7 +108,7 @@ def corpus_section(results) -> dict:
             ("exposure", "exposure", _int),
         ]
     removals = results.tables["removals"]
-    boiler = getattr(prepared, "boilerplate", None)
+    boiler = prepared.boilerplate
     return {
         "sources": table(per_source, columns, key="sources"),
         "n_documents": len(prepared),
@@ -118,7 +127,7 @@ def corpus_section(results) -> dict:
             key="removals",
         ),
         "boilerplate": None
-        if boiler is None or boiler.empty
+        if boiler.empty
         else table(
             boiler.sort_values("documents", ascending=False).head(8),
             [
@@ -388,13 +397,13 @@ def reproduce_section(results) -> dict:
     from ..project import package_versions
 
     fit, prepared, s = results.fit, results.prepared, results.settings
-    sweep_settings = dict(getattr(results.sweep, "settings_", {}) or {})
+    corpus = results.corpus
     rows = [
-        ("corpus fingerprint", getattr(results.corpus, "fingerprint", "–")),
+        ("corpus fingerprint", "–" if corpus is None else corpus.fingerprint),
         ("prepared corpus", prepared.fingerprint),
-        ("model", f"k = {fit.k}, seed {fit.seed}, {fit.engine} {fit.engine_version}"),
+        ("model", f"k = {fit.k}, seed {fit.random_state}, {fit.engine} {fit.engine_version}"),
         ("model fingerprint", fit.fingerprint),
-        ("sweep", ", ".join(f"{k}={v}" for k, v in sorted(sweep_settings.items()))),
+        ("sweep", ", ".join(f"{k}={v}" for k, v in sorted(results.sweep.settings_.items()))),
         ("comparison", ", ".join(f"{k}={v}" for k, v in s.items())),
         ("preparation", ", ".join(f"{k}={v}" for k, v in sorted(prepared.settings.items()))),
     ]
@@ -410,8 +419,13 @@ def reproduce_section(results) -> dict:
             [("package", "package", None), ("version", "version", None)],
             key="versions",
         ),
-        "command": f"tm-compare report {results.project.path} --k {fit.k} --seed {fit.seed}",
+        "command": f"tm-compare report {results.project.path} --k {fit.k} --seed {fit.random_state} "
+        + " ".join(f"--{k.replace('_', '-')} {_flag(v)}" for k, v in s.items()),
     }
+
+
+def _flag(value) -> str:
+    return "document" if value is None else str(value)  # --cluster document: cluster=None
 
 
 def context(results) -> dict:
@@ -422,7 +436,7 @@ def context(results) -> dict:
         "title": f"Topics by source: {results.project.path.resolve().name}",
         "generated": _dt.datetime.now(_dt.UTC).strftime("%d %B %Y, %H:%M UTC"),
         "k": fit.k,
-        "seed": fit.seed,
+        "seed": fit.random_state,
         "sources": results.sources,
         "corpus": corpus_section(results),
         "sweep": sweep_section(results, made),

@@ -1,14 +1,14 @@
 """Results that leave the notebook: tables as CSV and Parquet, charts as PNG and SVG.
 
 :func:`collect` gathers every table of one model of a project's sweep in a
-:class:`Results`; :func:`write_tables`, :func:`write_charts` and the report
-(:func:`tm_compare.report.write_report`) all read those same table objects,
+:class:`Results`: the sweep's tables, and the model's from one
+:class:`tm_compare.results.ModelResults`, the same object views and the command
+line read. :func:`write_tables`, :func:`write_charts` and the report
+(:func:`tm_compare.report.html.write_report`) all read those same table objects,
 so a number in the report is the number in the exported file.
 
-:func:`document_topics` joins each document's topic shares back to the
-user's own document ids and metadata, one row per document, ready for a
-regression in another package. :data:`COLUMNS` documents every column of
-every exported table; :func:`data_dictionary` writes it as ``columns.md``.
+:data:`COLUMNS` documents every column of every exported table;
+:func:`write_data_dictionary` writes it as ``columns.md``.
 
 Charts are converted with vl-convert, which runs offline.
 """
@@ -23,142 +23,91 @@ import numpy as np
 import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_bytes, atomic_write_text
+from .._deprecation import warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ProjectError
+from ..results import CANDIDATES, ModelResults
 
 TABLE_FORMATS = ("csv", "parquet")
 CHART_FORMATS = ("png", "svg")
 EXPORT_FOLDER = "report"  # inside the project
-TERM_METHODS = ("probability", "frex", "relevance", "lift")
-_SETTINGS = {"weighting": "exposure", "cluster": "group", "n_boot": 1000, "random_state": 0}
 
 
 class Results:
-    """Every table of one model of a project's sweep; see :func:`collect`.
+    """One model of a project's sweep with every table the report and the exports show.
 
     Attributes
     ----------
-    project, sweep, fit, prepared, corpus
-        Where the tables come from (``corpus`` is None when the project holds none).
+    project, sweep
+        Where the model comes from.
+    results : ModelResults
+        The model's tables and settings; every model table below is one of its objects.
     recommendation
         ``sweep.recommend()``: the proposed k, its seed and the rule in words.
-    settings : dict
-        Weighting, cluster column, bootstrap replicates and seed of the comparison.
     tables : dict of DataFrame
-        By name, the tables :data:`COLUMNS` describes.
-    captions : dict
-        Topic number -> a short caption (the settled label, else the top three words).
+        By name, the tables :data:`COLUMNS` describes: the sweep's, the model's
+        (``results.tables()``), what preparation removed, and the labels.
     """
 
-    def __init__(self, project, sweep, fit, prepared, corpus, settings):
-        from ..results import ModelTables
-
-        self.project, self.sweep, self.fit = project, sweep, fit
-        self.prepared, self.corpus, self.settings = prepared, corpus, settings
+    def __init__(self, project, sweep, results: ModelResults):
+        self.project, self.sweep, self.results = project, sweep, results
         self.recommendation = sweep.recommend()
-        # The widgets' table cache: the report's source chart is drawn from these same objects.
-        self.model_tables = ModelTables(
-            fit, prepared, n_boot=settings["n_boot"], random_state=settings["random_state"]
-        )
         self.tables: dict[str, pd.DataFrame] = {}
-        self._build()
         self.read_labels()
 
     def __repr__(self) -> str:
-        return f"Results(k={self.fit.k}, seed={self.fit.seed}, tables={sorted(self.tables)})"
+        return (
+            f"Results(k={self.fit.k}, seed={self.fit.random_state}, tables={sorted(self.tables)})"
+        )
+
+    @property
+    def fit(self):
+        return self.results.fit
+
+    @property
+    def prepared(self):
+        return self.results.prepared
+
+    @property
+    def corpus(self):
+        return self.results.corpus
+
+    @property
+    def settings(self) -> dict:
+        return self.results.settings
 
     @property
     def sources(self) -> list[str]:
-        return np.unique(np.asarray(self.prepared.sources).astype(str)).tolist()
+        return self.results.sources
 
-    def _build(self) -> None:
-        from ..compare.documents import representative_documents
-        from ..compare.prevalence import cap_effect
-        from ..compare.terms import term_rankings
-
-        fit, prepared, s = self.fit, self.prepared, self.settings
-        t = self.tables
-        t["scores"] = self.sweep.scores.copy()
-        t["topic_scores"] = self.sweep.topic_scores.query(
-            "k == @fit.k and seed == @fit.seed"
-        ).reset_index(drop=True)
-        t["recommendation"] = self.recommendation.table.copy()
-        if len(self.sources) > 1:
-            tables = self.model_tables.comparison(s["weighting"], s["cluster"])
-            t["prevalence"], t["differences"] = tables["prevalence"], tables["differences"]
-            if tables["influence"] is not None:  # None when documents are resampled
-                t["influence"] = tables["influence"]
-            if "influence" in t and t["influence"]["flagged"].any():
-                threshold = float(t["influence"]["threshold"].iloc[0])
-                t["cap_effect"] = cap_effect(
-                    fit,
-                    prepared,
-                    cap_group_share=threshold,
-                    weighting=s["weighting"],
-                    cluster=s["cluster"],
-                )
-        else:
-            from ..compare.prevalence import prevalence
-
-            t["prevalence"] = prevalence(fit, prepared, **s)
-        t["terms"] = pd.concat(
-            [term_rankings(fit, m, topn=15, prepared=prepared) for m in TERM_METHODS],
-            ignore_index=True,
-        )
-        t["documents"] = representative_documents(fit, prepared, per_source=3)
-        t["document_topics"] = document_topics(fit, prepared, self.corpus)
-        t["removals"] = prepared.report.to_frame()
+    @property
+    def captions(self) -> dict[int, str]:
+        """Topic -> caption: the settled label, else the top three words."""
+        return self.results.captions
 
     def read_labels(self, store=None) -> None:
-        """(Re)read labels, consensus and agreement of this model from the project's store."""
+        """(Re)read labels, consensus and agreement from ``store`` (default: the project's)."""
         from ..labels.store import LabelStore
 
         path = Path(self.project.path) / "labels.sqlite"
-        t = self.tables
-        if store is None and not path.exists():
-            t["labels"], t["consensus"], t["agreement"] = _empty_labels()
+        if store is None and path.exists():
+            with LabelStore(path, read_only=True) as own:
+                self.results.read_labels(own)
         else:
-            own = store is None
-            store = store or LabelStore(path, read_only=True)
-            try:
-                t["labels"] = store.current(self.fit)
-                t["consensus"] = store.consensus(self.fit)
-                t["consensus"]["sources"] = t["consensus"]["sources"].map("; ".join)
-                t["agreement"] = _agreement(store, self.fit, t["labels"])
-            finally:
-                if own:
-                    store.close()
-        names = dict(zip(t["consensus"]["topic"], t["consensus"]["name"], strict=True))
-        words = self.fit.top_words(3)
-        self.captions = {
-            i: f"{i} · {names.get(i) or ' '.join(words[i])}" for i in range(self.fit.k)
+            self.results.read_labels(store)
+        topics = self.sweep.topic_scores_
+        mine = (topics["k"] == self.fit.k) & (topics["seed"] == self.fit.random_state)
+        self.tables = {
+            "scores": self.sweep.scores_.copy(),
+            "topic_scores": topics[mine].reset_index(drop=True),
+            "recommendation": self.recommendation.table.copy(),
+            **self.results.tables(),
+            "removals": self.prepared.report.to_frame(),
         }
-        # The chart adapter reads captions from the table cache.
-        self.model_tables.captions = self.captions
 
     def chart_frames(self, pair=None):
-        """Prevalence and difference frames of :func:`tm_compare.charts.source_chart`."""
-        s = self.settings
-        pairs = self.model_tables.pairs(s["weighting"], s["cluster"])
-        return self.model_tables.chart_frames(s["weighting"], s["cluster"], pair or pairs[0])
-
-
-def _empty_labels():
-    from ..labels.store import COLUMNS as LABEL_COLUMNS
-
-    labels = pd.DataFrame(columns=list(LABEL_COLUMNS))
-    consensus = pd.DataFrame(columns=list(COLUMNS["consensus"][1]))
-    agreement = pd.DataFrame(
-        columns=["field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units"]
-    )
-    return labels, consensus, agreement
-
-
-def _agreement(store, fit, labels: pd.DataFrame) -> pd.DataFrame:
-    if labels.empty or store.in_blind_round(fit):
-        return _empty_labels()[2]
-    fields = [f for f in ("verdict", "category") if labels[f].notna().any()]
-    return store.agreement(fit, fields=fields) if fields else _empty_labels()[2]
+        """Prevalence and difference frames of :func:`tm_compare.views.charts.source_chart`."""
+        return self.results.chart_frames(pair)
 
 
 def collect(project, k: int | None = None, seed: int | None = None, **settings) -> Results:
@@ -169,20 +118,15 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
     project : Project or path
     k, seed : int, optional
         The model; ``k`` alone takes seed 0. Both None: the sweep's recommendation.
-    weighting, cluster, n_boot, random_state
-        Settings of the comparison (defaults: exposure weighting, clusters of ``group``,
-        1000 bootstrap replicates, seed 0).
+    **settings
+        Settings of :class:`tm_compare.results.ModelResults` (weighting, cluster, n_boot,
+        random_state, ...); defaults from :mod:`tm_compare.options`.
     """
     from ..models.sweeps import load_sweep
     from ..project import Project
     from ..text.corpus import load_corpus
     from ..text.prepared import load_prepared
 
-    unknown = set(settings) - set(_SETTINGS)
-    if unknown:
-        accepted = "keywords " + ", ".join(map(repr, _SETTINGS))
-        raise param_error("collect", sorted(unknown)[0], settings[sorted(unknown)[0]], accepted)
-    s = {**_SETTINGS, **settings}
     project = project if isinstance(project, Project) else Project.open(project)
     result = load_sweep(project)
     if seed is not None and k is None:
@@ -190,66 +134,13 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
     if k is None:
         pick = result.recommend()
         k, seed = pick.k, pick.seed
-    fit = result.model(int(k), int(seed or 0))
+    fit = result.get_fit(int(k), int(seed or 0))
     prepared = load_prepared(project, fit.corpus_fingerprint)
     try:
         corpus = load_corpus(project)
     except ProjectError:
         corpus = None  # the prepared corpus alone has ids, sources and titles
-    groups = np.asarray(prepared.groups, dtype=object)
-    if s["cluster"] == "group" and not any(g is not None and g == g for g in groups):
-        s["cluster"] = None  # no groups given: resample documents
-    return Results(project, result, fit, prepared, corpus, s)
-
-
-def document_topics(fit, prepared, corpus=None) -> pd.DataFrame:
-    """Each document's topic shares with its own id and metadata, one row per document.
-
-    Parameters
-    ----------
-    fit : Fit with ``doc_topic``, ``doc_ids`` and ``heldout``.
-    prepared : PreparedCorpus the fit was trained on.
-    corpus : Corpus, optional
-        Adds the user's own metadata columns (those beyond the canonical ones) from
-        ``corpus.frame``, matched on ``id``.
-
-    Returns
-    -------
-    DataFrame: ``id``, ``source``, ``weight``, ``group``, ``title``, ``url``, ``date``,
-    any metadata columns, ``merged_ids`` (ids of copies merged into this document, ``"; "``
-    separated), ``heldout`` (left out of training), then ``topic_0`` ... ``topic_{k-1}``
-    (the document's share of each topic; each row sums to 1).
-    """
-    ids = list(prepared.doc_ids)
-    if list(fit.doc_ids) != ids:
-        msg = (
-            "The model's doc_ids do not match the prepared corpus's documents (document_topics). "
-            "Use the prepared corpus the model was fitted on (load_prepared(project, "
-            "fit.corpus_fingerprint))."
-        )
-        raise ProjectError(msg)
-    meta = prepared.meta.reset_index(drop=True)
-    keep = [c for c in ("id", "source", "weight", "group", "title", "url", "date") if c in meta]
-    out = meta[keep].copy()
-    extra = [c for c in meta.columns if c not in keep and c not in _PREPARED_ONLY]
-    if corpus is not None:
-        from ..text.corpus import CANONICAL
-
-        frame = corpus.frame
-        extra = [c for c in frame.columns if c not in CANONICAL and c not in out]
-        out = out.merge(frame[["id", *extra]], on="id", how="left", validate="one_to_one")
-    else:
-        for column in extra:
-            out[column] = meta[column]
-    out["merged_ids"] = meta["duplicate_ids"].map(lambda v: "; ".join(map(str, v)))
-    out["heldout"] = np.asarray(fit.heldout, dtype=bool)
-    shares = pd.DataFrame(
-        np.asarray(fit.doc_topic, dtype=float), columns=[f"topic_{t}" for t in range(fit.k)]
-    )
-    return pd.concat([out, shares], axis=1)
-
-
-_PREPARED_ONLY = ("text", "canonical_url", "duplicate_ids", "cross_source_duplicate")
+    return Results(project, result, ModelResults(fit, prepared, corpus=corpus, **settings))
 
 
 def write_tables(results: Results, folder, formats=TABLE_FORMATS) -> list[Path]:
@@ -267,7 +158,7 @@ def write_tables(results: Results, folder, formats=TABLE_FORMATS) -> list[Path]:
                 else:
                     flat.to_parquet(tmp, index=False)
             written.append(target)
-    written.append(data_dictionary(folder / "columns.md", list(results.tables)))
+    written.append(write_data_dictionary(folder / "columns.md", list(results.tables)))
     return written
 
 
@@ -296,7 +187,7 @@ def charts(results: Results, measure: str = "npmi") -> dict:
                 title=title,
                 recommended_k=pick.k,
                 rule=pick.rule if column == measure else None,
-                picked=(results.fit.k, results.fit.seed),
+                picked=(results.fit.k, results.fit.random_state),
             )
     if "differences" in results.tables:
         prev, diff = results.chart_frames()
@@ -348,14 +239,16 @@ def export(
     tables=TABLE_FORMATS,
     out: str | os.PathLike | None = None,
     results: Results | None = None,
+    **settings,
 ) -> list[Path]:
     """Write tables, the data dictionary and charts of one model; return the paths written.
 
     ``out`` defaults to ``PROJECT/report``; pass ``results`` (from :func:`collect`) to reuse
-    tables already computed. Empty ``charts`` or ``tables`` skips them.
+    tables already computed, or settings of :class:`tm_compare.results.ModelResults` for
+    :func:`collect`. Empty ``charts`` or ``tables`` skips them.
     """
     if results is None:
-        results = collect(project, k, seed)
+        results = collect(project, k, seed, **settings)
     folder = Path(out) if out is not None else results.project.folder(EXPORT_FOLDER)
     written = []
     if tables:
@@ -374,20 +267,33 @@ def _formats(owner, name, formats, accepted) -> list[str]:
     return items
 
 
-def data_dictionary(path=None, tables=None) -> str | Path:
-    """The columns of each exported table, as Markdown (written to ``path`` when given)."""
+def data_dictionary(tables=None, path=None) -> str:
+    """The columns of each exported table (default: every table), as Markdown text.
+
+    ``path`` is deprecated: use :func:`write_data_dictionary` to write the text to a file.
+    """
+    if isinstance(tables, str | os.PathLike):  # the old order data_dictionary(path, tables)
+        tables, path = path, tables
+    if path is not None:
+        warn_renamed("data_dictionary(path, tables)", "write_data_dictionary(path, tables)")
+        return write_data_dictionary(path, tables)
     lines = [
         "# Exported tables and their columns",
         "",
         "Each table is written as NAME.csv and NAME.parquet with the same values. "
-        "Lists in cells (top words, ids) are space- or '; '-separated text.",
+        "Lists in cells (top words, ids) are space- or '; '-separated text. The settings "
+        "that shaped a table (weighting, cluster, n_boot, random_state, ...) are columns of it.",
     ]
     for name in tables or COLUMNS:
         about, columns = COLUMNS[name]
         lines += ["", f"## {name}", "", about, "", "| column | meaning |", "|---|---|"]
         lines += [f"| `{c}` | {d} |" for c, d in columns.items()]
-    text = "\n".join(lines) + "\n"
-    return text if path is None else atomic_write_text(path, text)
+    return "\n".join(lines) + "\n"
+
+
+def write_data_dictionary(path: str | os.PathLike, tables=None) -> Path:
+    """Write :func:`data_dictionary` of ``tables`` to ``path`` (atomically); return the path."""
+    return atomic_write_text(path, data_dictionary(tables))
 
 
 def undocumented(name: str, table: pd.DataFrame) -> list[str]:
@@ -409,6 +315,7 @@ _SETTING_COLUMNS = {
     "resampling": "'multinomial' or 'poisson' bootstrap weights",
     "model_uncertainty": "whether each document's topic shares were also redrawn",
     "cap_group_share": "cap on a cluster's share of its source's weight, if any",
+    "random_state": "seed of the bootstrap draws",
 }
 
 #: name -> (what the table is, {column: meaning}).
@@ -496,6 +403,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "rank": "1 = most different in this comparison",
             "test": "the test in words",
             "fdr": "false discovery rate used",
+            "against": "'each' (every pair of sources) or 'rest' (each against all others)",
             **_SETTING_COLUMNS,
         },
     ),
@@ -528,7 +436,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
         },
     ),
     "terms": (
-        "The top 15 terms of every topic under four rankings.",
+        "The top n_terms terms of every topic under four rankings.",
         {
             "topic": "topic number",
             "rank": "1 = first",
@@ -538,6 +446,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "probability": "p(term | topic)",
             "method": "'probability', 'frex', 'relevance' or 'lift'",
             "parameter": "FREX weight or relevance lambda (empty otherwise)",
+            "n_terms": "terms kept per topic and method",
         },
     ),
     "documents": (
@@ -554,9 +463,11 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "topic_share": "the document's share of the topic",
             "snippet": "text around the densest run of the topic's top terms",
             "matched_terms": "top terms found in the snippet",
-            "n_collapsed": "near-duplicates folded into this row",
+            "n_collapsed": "near-duplicates folded into this row (among the source's best "
+            f"{CANDIDATES} * n_docs documents of the topic)",
             "collapsed_ids": "their ids, '; '-separated",
             "cross_source_duplicate": "a near-copy exists in another source",
+            "n_docs": "documents kept per topic and source",
         },
     ),
     "document_topics": (
@@ -591,7 +502,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
         {
             "id": "row number of this version in the store's history",
             "uid": "unique id of this label version",
-            "model": "fingerprint of the model",
+            "fit": "fingerprint of the model (fit)",
             "topic": "topic number",
             "analyst": "who labelled it",
             "version": "version of this analyst's label of the topic",
@@ -608,7 +519,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
     "consensus": (
         "The settled label of each topic.",
         {
-            "model": "fingerprint of the model",
+            "fit": "fingerprint of the model (fit)",
             "topic": "topic number",
             "version": "version of the settled label",
             "name": "settled name",

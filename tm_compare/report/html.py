@@ -4,8 +4,8 @@ The report is written for a reader who has never seen the tool: what went in and
 removed, how k was chosen, the topics, the comparison between sources with its uncertainty and
 influence check, documents per topic, label agreement, how to reproduce it, and cautions.
 
-It is built from the tables of :func:`tm_compare.exports.collect`, the same objects the exports
-write. Charts are SVG images in ``data:`` URLs; the page carries a Content-Security-Policy that
+It is built from the tables of :func:`tm_compare.report.exports.collect`, the same objects the
+exports write (and, for the model's tables, the views show: :mod:`tm_compare.results`). Charts are SVG images in ``data:`` URLs; the page carries a Content-Security-Policy that
 allows nothing else, and every value from the corpus or the labels is escaped by the template.
 """
 
@@ -22,7 +22,7 @@ REPORT_FILE = "report.html"
 
 
 def render(results) -> str:
-    """The report of ``results`` (a :class:`tm_compare.exports.Results`) as HTML text."""
+    """The report of ``results`` (a :class:`tm_compare.report.exports.Results`) as HTML text."""
     import jinja2
 
     from ._sections import context
@@ -47,6 +47,7 @@ def write_report(
     out: str | os.PathLike | None = None,
     *,
     results=None,
+    **settings,
 ) -> Path:
     """Write the HTML report of one model of ``project`` and return its path.
 
@@ -58,12 +59,14 @@ def write_report(
     out : path, optional
         Where to write it (default ``PROJECT/report/report.html``).
     results : Results, optional
-        Tables already collected with :func:`tm_compare.exports.collect` (then ``k`` and
-        ``seed`` are ignored).
+        Tables already collected with :func:`tm_compare.report.exports.collect` (then ``k``,
+        ``seed`` and the settings are ignored).
+    **settings
+        Settings of :class:`tm_compare.results.ModelResults` (weighting, cluster, n_boot, ...).
     """
     from .exports import EXPORT_FOLDER, collect
 
     if results is None:
-        results = collect(project, k, seed)
+        results = collect(project, k, seed, **settings)
     target = Path(out) if out is not None else results.project.folder(EXPORT_FOLDER) / REPORT_FILE
     return atomic_write_text(target, render(results))

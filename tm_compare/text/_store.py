@@ -26,8 +26,6 @@ from .removals import RemovalLog
 if TYPE_CHECKING:
     from gensim.corpora import Dictionary
 
-    from .prepared import PreparedCorpus
-
 FORMAT = "tm_compare prepared corpus"
 FORMAT_VERSION = 1
 MANIFEST = "prepared.json"
@@ -67,7 +65,8 @@ def make_dictionary(tokens, dfs, cfs, num_docs, num_nnz) -> Dictionary:
     return d
 
 
-def _save(p: PreparedCorpus, folder) -> Path:
+def _save(p, folder) -> Path:
+    """Write the prepared corpus ``p`` to ``folder``, its manifest last."""
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
     (folder / MANIFEST).unlink(missing_ok=True)
@@ -184,8 +183,9 @@ def _load(folder) -> dict:
     }
 
 
-def _load_if_valid(folder: Path, cls: type[PreparedCorpus]) -> PreparedCorpus | None:
-    """The cached prepared corpus in ``folder``, or None when absent or failing its checks."""
+def _load_if_valid(folder: Path, cls: type):
+    """The cached prepared corpus in ``folder`` (read by ``cls.load``, ``cls`` being
+    PreparedCorpus), or None when absent or failing its checks."""
     if not (folder / MANIFEST).exists():
         return None
     try:
@@ -217,8 +217,5 @@ def _write_parquet(table: pd.DataFrame, path) -> None:
 
 
 def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
     with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
+        return hashlib.file_digest(fh, "sha256").hexdigest()

@@ -36,6 +36,7 @@ from .._validation import check_choice, param_error
 from ..errors import CorpusError, ProjectError
 from ..project import Project
 from ._boilerplate import BoilerplateStripper, find_boilerplate
+from ._intake import frame_fingerprint
 from ._neardup import MAX_SHINGLE, exact_pairs, minhash_pairs
 from ._store import (
     FORMAT_VERSION,
@@ -259,6 +260,78 @@ class PreparedCorpus:
     def load(cls, folder: str | os.PathLike) -> PreparedCorpus:
         """Read a saved prepared corpus; raises CorruptArtifactError if it fails its checks."""
         return cls(**_load(folder), from_cache=True)
+
+    @classmethod
+    def from_texts(cls, texts, meta: pd.DataFrame, *, vocab=None) -> PreparedCorpus:
+        """A prepared corpus of documents tokenised elsewhere; nothing is removed or merged.
+
+        For tokens from another tool, and for tests and benchmarks that plant their documents.
+
+        Parameters
+        ----------
+        texts : list of list of str
+            The modelling tokens of each document, one list per row of ``meta``.
+        meta : DataFrame
+            One row per document with at least ``id`` and ``source``; the other columns of
+            :attr:`meta` are filled in when absent (``weight`` 1, no group, no copies,
+            ``text`` the tokens joined by spaces).
+        vocab : list of str, optional
+            Every term in term-id order (e.g. a model's vocabulary; a term may occur in no
+            text); by default the order of first appearance.
+        """
+        texts = [list(t) for t in texts]
+        if "id" not in meta.columns or "source" not in meta.columns or len(meta) != len(texts):
+            msg = (
+                "PreparedCorpus.from_texts needs one row of meta per text, with columns 'id' and "
+                f"'source'; got {len(texts)} texts and {len(meta)} rows with columns "
+                f"{list(meta.columns)}."
+            )
+            raise CorpusError(msg)
+        if vocab is None:
+            vocab = list(dict.fromkeys(t for text in texts for t in text))
+        index = {t: i for i, t in enumerate(vocab)}
+        unknown = sorted({t for text in texts for t in text} - index.keys())
+        if unknown:
+            msg = (
+                f"The texts hold {len(unknown)} token(s) missing from vocab (first: "
+                f"{unknown[0]!r}). Add them to vocab, or leave vocab=None."
+            )
+            raise CorpusError(msg)
+        docs = [np.array([index[t] for t in text], dtype=np.int32) for text in texts]
+        strings = np.array(vocab, dtype=object)
+        dictionary, bow = _dictionary(docs, strings)
+        defaults = {
+            "weight": 1.0,
+            "group": None,
+            "url": None,
+            "title": None,
+            "date": pd.NaT,
+            "text": [" ".join(t) for t in texts],
+            "duplicate_ids": [[] for _ in texts],
+            "cross_source_duplicate": False,
+            "copy_group": -1,
+        }
+        meta = meta.reset_index(drop=True).assign(id=meta["id"].astype(str).to_numpy())
+        meta = meta.assign(**{c: v for c, v in defaults.items() if c not in meta.columns})
+        n = len(texts)
+        key = _fingerprint(
+            "from_texts",
+            strings,
+            np.array([len(d) for d in docs]),
+            np.concatenate([np.empty(0, np.int32), *docs]),
+            frame_fingerprint(meta),
+        )
+        return cls(
+            texts=texts,
+            dictionary=dictionary,
+            bow=bow,
+            meta=meta,
+            report=RemovalLog(input_rows=n, kept={STAGE: n}),
+            boilerplate=pd.DataFrame(columns=["by", "group", "line", "documents", "share"]),
+            phrases=pd.DataFrame(columns=["phrase", "score"]),
+            settings={"tokens": "given"},
+            fingerprint=key,
+        )
 
 
 def _check_settings(corpus, settings: dict) -> dict:

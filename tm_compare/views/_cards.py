@@ -7,24 +7,18 @@ matches. No string from a corpus or a label store reaches the page unescaped.
 
 from __future__ import annotations
 
-import html
 import re
 from collections.abc import Iterable
 
 import pandas as pd
+
+from .._html import esc
 
 _BOX = (
     "border:1px solid #dfe2e6;border-radius:6px;padding:6px 8px;margin:0 0 6px 0;"
     "background:#fbfbfc;font-size:12px;line-height:1.4"
 )
 _MARK = "background:#fbe7c2;padding:0 1px;border-radius:2px"
-
-
-def esc(value) -> str:
-    """Escaped text of any value (missing values become an empty string)."""
-    if value is None or (isinstance(value, float) and value != value):
-        return ""
-    return html.escape(str(value), quote=True)
 
 
 def _term_pattern(terms: Iterable[str]) -> re.Pattern | None:

@@ -14,9 +14,9 @@ import threading
 import ipywidgets as w
 import pandas as pd
 
+from .._html import esc, table
 from ..errors import LabelConflictError, TmCompareError
 from ..labels.store import LabelStore
-from ._cards import esc
 
 _TABLE = "border-collapse:collapse;font-size:12px;margin:2px 0 8px 0"
 _CELL = "padding:2px 8px;border-top:1px solid #e3e6ea;text-align:left;vertical-align:top"
@@ -26,18 +26,12 @@ def label_table(frame: pd.DataFrame, columns: list[str]) -> str:
     """Rows of a label frame as an HTML table, every value escaped."""
     if frame.empty:
         return '<div style="color:#6b7078;font-size:12px">None yet.</div>'
-    head = "".join(f'<th style="{_CELL}">{esc(c)}</th>' for c in columns)
-    body = "".join(
-        "<tr>" + "".join(f'<td style="{_CELL}">{_cell(row.get(c))}</td>' for c in columns) + "</tr>"
-        for row in frame.to_dict("records")
-    )
-    return f'<table style="{_TABLE}"><tr>{head}</tr>{body}</table>'
+    shown = frame.reindex(columns=columns).map(_cell)
+    return table(shown, attrs={"style": _TABLE}, cell_style=_CELL)
 
 
-def _cell(value) -> str:
-    if isinstance(value, float):
-        return "" if math.isnan(value) else f"{value:.2f}"
-    return esc(value)
+def _cell(value):
+    return f"{value:.2f}" if isinstance(value, float) and not math.isnan(value) else value
 
 
 class LabelsPanel(w.VBox):
@@ -158,7 +152,7 @@ class LabelsPanel(w.VBox):
         One cheap query asks for rows newer than the cursor (and one whether a blind round is
         open); the full tables are read again only when something changed.
         """
-        news = self.store.poll(self._cursor, model=self.fit)
+        news = self.store.poll(self._cursor, fit=self.fit)
         blind = self.store.in_blind_round(self.fit)
         if (
             not force

@@ -9,26 +9,27 @@ and a ``JupyterChart`` subclass points its ``_esm`` at that file, so a kernel re
 from __future__ import annotations
 
 import functools
-import hashlib
 import os
 from importlib import metadata
 from pathlib import Path
 
 import altair as alt
+import platformdirs
 
 from .._atomic import atomic_write_text
+from .._hashing import fingerprint
 
 CACHE_ENV = "TM_COMPARE_CACHE_DIR"
 EMBED_OPTIONS = {"renderer": "svg", "actions": False}
 
 
 def cache_dir() -> Path:
-    """Folder of tm_compare's per-user cache: ``$TM_COMPARE_CACHE_DIR`` or ``~/.cache/tm_compare``."""
+    """Folder of tm_compare's per-user cache: ``$TM_COMPARE_CACHE_DIR``, else the platform's
+    user cache folder (``~/.cache/tm_compare`` on Linux, by :mod:`platformdirs`)."""
     env = os.environ.get(CACHE_ENV)
     if env:
         return Path(env).expanduser()
-    base = os.environ.get("XDG_CACHE_HOME") or Path.home() / ".cache"
-    return Path(base) / "tm_compare"
+    return platformdirs.user_cache_path("tm_compare", appauthor=False)
 
 
 def _widget_source() -> str:
@@ -48,9 +49,7 @@ def bundle_path() -> Path:
 
     source = _widget_source()
     vl_version = vl_version_for_vl_convert()
-    key = hashlib.sha256(
-        "|".join([source, vl_version, metadata.version("vl-convert-python")]).encode()
-    ).hexdigest()[:16]
+    key = fingerprint(source, vl_version, metadata.version("vl-convert-python"))
     path = cache_dir() / f"altair-widget-{vl_version}-{key}.js"
     if not path.exists():
         atomic_write_text(path, vlc.javascript_bundle(source, vl_version=vl_version))

@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import ipywidgets as w
+import traitlets
 
+from ..results import ModelResults
 from . import charts
 from ._cards import esc
 from ._offline import chart_widget
@@ -15,25 +17,26 @@ _NO_CLUSTER = "each document"
 class SourcesPanel(w.VBox):
     """Prevalence of every topic per source and their difference; clicks pick a topic.
 
+    The weighting and cluster controls switch the settings of the results on show
+    (:attr:`results`, a :class:`tm_compare.results.ModelResults` sharing its tables' cache).
+
     Parameters
     ----------
-    tables : ModelTables
+    results : ModelResults
+        Its settings are the controls' first values.
     on_pick : callable(int)
         Called with the topic clicked in the chart or the topic list.
-    weighting : "exposure" or "unique"
-    cluster : column resampled by the bootstrap, or None for documents
     """
 
-    def __init__(self, tables, on_pick, *, weighting="exposure", cluster="group"):
-        self.tables = tables
+    results = traitlets.Instance(ModelResults, help="The results on show (current settings).")
+
+    def __init__(self, results: ModelResults, on_pick):
+        self._base = results
         self._on_pick = on_pick
         self._topic = 0
-        clusters = tables.cluster_choices()
-        if cluster not in clusters:
-            cluster = clusters[0] if clusters else None
         self.weighting = w.ToggleButtons(
             options=[("by exposure", "exposure"), ("each article once", "unique")],
-            value=weighting,
+            value=results.settings["weighting"],
             description="Count",
             tooltips=[
                 "documents weighted by how often readers met them",
@@ -41,6 +44,10 @@ class SourcesPanel(w.VBox):
             ],
             style={"button_width": "160px"},
         )
+        clusters = results.cluster_choices()
+        cluster = results.settings["cluster"]
+        if cluster is not None and cluster not in clusters:  # another column of the corpus
+            clusters.append(cluster)
         self.cluster = w.Dropdown(
             options=[(_NO_CLUSTER, None)] + [(c, c) for c in clusters],
             value=cluster,
@@ -50,7 +57,9 @@ class SourcesPanel(w.VBox):
         self.contrast = w.Dropdown(description="Compare", layout=w.Layout(width="300px"))
         self.warning = w.HTML()
         self.note = w.HTML()
-        self.chart = chart_widget(self._build_chart(*self._frames_for_default()))
+        super().__init__()
+        self.results = results
+        self.chart = chart_widget(self._build_chart(*self._frames_for_settings()))
         self.chart.selections.observe(self._clicked, names=[charts.TOPIC_PICK])
         self.chart.add_class("tmc-sources")
         self.topic_list = RowTable(
@@ -59,19 +68,17 @@ class SourcesPanel(w.VBox):
         self.topic_list.observe(self._row_clicked, names="selected")
         for control in (self.weighting, self.cluster, self.contrast):
             control.observe(self._settings_changed, names="value")
-        super().__init__(
-            [
-                w.HBox([self.weighting, self.cluster, self.contrast]),
-                self.warning,
-                self.chart,
-                self.note,
-                self.topic_list,
-            ]
-        )
+        self.children = [
+            w.HBox([self.weighting, self.cluster, self.contrast]),
+            self.warning,
+            self.chart,
+            self.note,
+            self.topic_list,
+        ]
         self._refresh_list()
 
-    def _frames_for_default(self):
-        self._pairs = self.tables.pairs(self.weighting.value, self.cluster.value)
+    def _frames_for_settings(self):
+        self._pairs = self.results.pairs()
         kept = self.pair if self.pair in self._pairs else self._pairs[0]
         # Options are indexes into the pairs: a Dropdown compares tuple values badly.
         self.contrast.options = [(f"{a} minus {b}", i) for i, (a, b) in enumerate(self._pairs)]
@@ -85,32 +92,34 @@ class SourcesPanel(w.VBox):
         return pairs[self.contrast.value] if pairs and self.contrast.value is not None else None
 
     def _frames(self):
-        return self.tables.chart_frames(self.weighting.value, self.cluster.value, self.pair)
+        return self.results.chart_frames(self.pair)
 
     def _build_chart(self, prev, diff):
         self._diff = diff
         a, b = self.pair
-        tables = self.tables.comparison(self.weighting.value, self.cluster.value)
-        row = tables["differences"].iloc[0]
-        resample = (
-            "documents" if self.cluster.value is None else f"clusters of '{self.cluster.value}'"
-        )
+        row = self.results.differences().iloc[0]
+        cluster = self.results.settings["cluster"]
+        resample = "documents" if cluster is None else f"clusters of '{cluster}'"
         note = (
-            f"Counting {'by exposure' if self.weighting.value == 'exposure' else 'each article once'}; "
+            f"Counting {'by exposure' if row['weighting'] == 'exposure' else 'each article once'}; "
             f"{row['ci_level']:.0%} {row['interval']} intervals from {row['n_boot']} bootstrap "
             f"replicates resampling {resample}. Red: adjusted p <= {row['fdr']} "
             "(Benjamini-Hochberg across topics). Topics ordered by difference."
         )
-        self._update_warning(tables["influence"])
+        self._update_warning()
         return charts.source_chart(
             prev, diff, focus=self._topic, contrast=f"{a} minus {b}", note=note
         )
 
-    def _update_warning(self, heavy):
-        if heavy is None or not heavy["flagged"].any():
+    def _update_warning(self):
+        if self.results.settings["cluster"] is None:  # no clusters, nothing to check
             self.warning.value = ""
             return
+        heavy = self.results.influence()
         flagged = heavy[heavy["flagged"]]
+        if flagged.empty:
+            self.warning.value = ""
+            return
         items = "".join(
             f"<li>{esc(g)} carries {s:.0%} of the weight of '{esc(src)}'</li>"
             for src, g, s in flagged[["source", "group", "share"]].itertuples(index=False)
@@ -120,14 +129,20 @@ class SourcesPanel(w.VBox):
             '<div class="tmc-influence" style="border-left:4px solid #b5523b;background:#fbeeea;'
             'padding:6px 10px;font-size:12px"><b>One cluster may be driving a source.</b> '
             f"Above the {threshold:.0%} share threshold:<ul style='margin:2px 0'>{items}</ul>"
-            "Try counting each article once, or cap cluster shares with "
-            "<code>comparison.cap_effect</code>.</div>"
+            "Try counting each article once, or see the cap effect "
+            "(<code>view.results.cap_effect()</code>).</div>"
         )
 
     def _settings_changed(self, change):
-        if change["owner"] is self.contrast and change["new"] is None:
-            return
-        frames = self._frames() if change["owner"] is self.contrast else self._frames_for_default()
+        if change["owner"] is self.contrast:
+            if change["new"] is None:
+                return
+            frames = self._frames()
+        else:
+            self.results = self._base.with_settings(
+                weighting=self.weighting.value, cluster=self.cluster.value
+            )
+            frames = self._frames_for_settings()
         self.chart.chart = self._build_chart(*frames)
         self._refresh_list()
 

@@ -8,11 +8,12 @@
 from __future__ import annotations
 
 import argparse
+import math
 import shlex
 
 import pandas as pd
 
-from ._cards import esc
+from .._html import esc, table
 
 _TABLE = "border-collapse:collapse;font-size:12px"
 _CELL = "padding:2px 8px;border-top:1px solid #e3e6ea;text-align:left"
@@ -64,22 +65,17 @@ def tm_compare_magic(line: str):
     )
     if args.k is not None:
         view.k, view.seed = args.k, args.seed if args.seed is not None else view.seed
-        view.show_model()
+        view.show_fit()
     return view
 
 
 def _table(frame: pd.DataFrame) -> str:
-    head = "".join(f'<th style="{_CELL}">{esc(c)}</th>' for c in frame.columns)
-    rows = "".join(
-        "<tr>" + "".join(f'<td style="{_CELL}">{esc(v)}</td>' for v in row) + "</tr>"
-        for row in frame.itertuples(index=False)
-    )
-    return f'<table style="{_TABLE}"><tr>{head}</tr>{rows}</table>'
+    return table(frame, attrs={"style": _TABLE}, cell_style=_CELL)
 
 
 def sweep_html(sweep) -> str | None:
     """HTML summary of a fitted sweep: grid, suggestion with its rule, mean scores by k."""
-    scores = getattr(sweep, "scores", None)
+    scores = getattr(sweep, "scores_", None)
     if scores is None:
         return None
     from .sweep_view import MEASURES
@@ -102,12 +98,14 @@ def sweep_html(sweep) -> str | None:
 
 def fit_html(fit) -> str:
     """HTML summary of a fit: settings, held-out perplexity and each topic's top words."""
-    words = fit.top_words(8)
+    words = fit.top_words(8)  # a short summary: fewer than the n_terms shown elsewhere
     topics = pd.DataFrame({"topic": range(len(words)), "top words": [" ".join(w) for w in words]})
-    perplexity = getattr(fit, "perplexity", None)
-    shown = "" if perplexity is None else f", held-out perplexity {perplexity:,.1f}"
+    # nan when nothing was held out (holdout=0, or a fit made with Fit.from_arrays)
+    finite = math.isfinite(fit.perplexity)
+    shown = f", held-out perplexity {fit.perplexity:,.1f}" if finite else ""
     return (
-        f"<div><b>LDA fit</b>: k = {int(fit.k)}, seed {int(fit.seed)}, engine {esc(fit.engine)} "
+        f"<div><b>LDA fit</b>: k = {int(fit.k)}, seed {int(fit.random_state)}, "
+        f"engine {esc(fit.engine)} "
         f"{esc(fit.engine_version)}, {len(fit.doc_ids):,} documents, {len(fit.vocab):,} terms, "
         f"{fit.fit_seconds:.1f} s{shown}.{_table(topics)}"
         "<div style='font-size:12px;color:#6b7078'>Read it with "

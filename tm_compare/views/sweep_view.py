@@ -5,6 +5,11 @@ from __future__ import annotations
 import ipywidgets as w
 import traitlets
 
+from .._deprecation import warn_renamed
+from .._validation import param_error
+from ..models.scores import MEASURE_NAMES
+from ..models.sweeps import Sweep
+from ..options import default
 from . import charts
 from ._cards import esc
 from ._offline import chart_widget
@@ -12,10 +17,7 @@ from ._row_table import RowTable
 
 #: Measures a sweep can show: score column -> (name shown, which way is better).
 MEASURES = {
-    "npmi": ("NPMI coherence", "higher"),
-    "c_v": ("C_V coherence", "higher"),
-    "uci": ("UCI (PMI) coherence", "higher"),
-    "umass": ("UMass coherence", "higher"),
+    **{m: (f"{name} coherence", "higher") for m, name in MEASURE_NAMES.items()},
     "perplexity": ("held-out perplexity", "lower"),
     "stability": ("stability across seeds", "higher"),
     "diversity": ("topic diversity", "higher"),
@@ -34,8 +36,8 @@ def _measure_title(measure: str) -> str:
 class SweepView(w.VBox):
     """Choose the number of topics on evidence: one measure against k, the suggestion, the fits.
 
-    Click a dot (a fit) or a row of the fits table to pick that model; ``view.k`` and
-    ``view.seed`` hold the pick and :meth:`picked_model` returns it.
+    Click a dot (a fit) or a row of the fits table to pick that fit; ``view.k`` and
+    ``view.seed`` hold the pick and :meth:`picked_fit` returns it.
 
     Parameters
     ----------
@@ -45,22 +47,23 @@ class SweepView(w.VBox):
         Score shown first (default ``"npmi"``).
     prepared, labels : optional
         With the prepared corpus (and a label store), "Read this model" opens a
-        :class:`TopicView` of the picked fit below.
+        :class:`TopicView` of the picked fit below (:meth:`show_fit`).
     """
 
-    measure = traitlets.Unicode("npmi", help="Score column shown against k.")
+    measure = traitlets.Unicode(default("measure"), help="Score column shown against k.")
     k = traitlets.Int(help="k of the picked fit.")
     seed = traitlets.Int(help="Seed of the picked fit.")
 
-    def __init__(self, sweep, *, measure="npmi", prepared=None, labels=None):
-        from ..models.sweeps import Sweep
-
-        if not hasattr(sweep, "scores"):
+    def __init__(self, sweep, *, measure=default("measure"), prepared=None, labels=None):
+        if not isinstance(sweep, Sweep):
             sweep = Sweep.load(sweep)
+        elif not hasattr(sweep, "scores_"):
+            accepted = "a fitted Sweep, or a Project or path holding a saved one"
+            raise param_error("SweepView", "sweep", sweep, accepted, "Call sweep.fit(prepared).")
         self.sweep = sweep
         self.prepared = prepared
         self.labels = labels
-        scores = sweep.scores
+        scores = sweep.scores_
         present = [m for m in MEASURES if m in scores.columns and scores[m].notna().any()]
         self.suggestion = sweep.recommend()
         self.heading = w.HTML("<h3 style='margin:4px 0'>How many topics?</h3>")
@@ -79,7 +82,7 @@ class SweepView(w.VBox):
         self.open_model = w.Button(
             description="Read this model", icon="book", disabled=prepared is None
         )
-        self.open_model.on_click(lambda _: self.show_model())
+        self.open_model.on_click(lambda _: self.show_fit())
         self.model_area = w.VBox()
         self.fits_table = RowTable(caption="Fits of the sweep (click a row to pick it)")
         self.fits_table.show_frame(
@@ -115,7 +118,7 @@ class SweepView(w.VBox):
         )
 
     def _table_frame(self):
-        scores = self.sweep.scores
+        scores = self.sweep.scores_
         cols = (
             ["k", "seed"]
             + [m for m in MEASURES if m in scores.columns]
@@ -128,7 +131,7 @@ class SweepView(w.VBox):
         return frame
 
     def _chart(self):
-        data = self.sweep.scores[["k", "seed", self.measure]].rename(
+        data = self.sweep.scores_[["k", "seed", self.measure]].rename(
             columns={self.measure: "value"}
         )
         return charts.sweep_chart(
@@ -169,16 +172,26 @@ class SweepView(w.VBox):
             k, seed = str(change["new"]).split(":")
             self._pick(k, seed)
 
-    def picked_model(self):
-        """The picked fit (``sweep.model(view.k, view.seed)``)."""
-        return self.sweep.model(self.k, self.seed)
+    def picked_fit(self):
+        """The picked fit (``sweep.get_fit(view.k, view.seed)``)."""
+        return self.sweep.get_fit(self.k, self.seed)
 
-    def show_model(self, **options):
+    def picked_model(self):
+        """Deprecated: use :meth:`picked_fit`."""
+        warn_renamed("SweepView.picked_model()", "SweepView.picked_fit()")
+        return self.picked_fit()
+
+    def show_fit(self, **options):
         """Open a :class:`TopicView` of the picked fit under the sweep view and return it."""
         from .topic_view import TopicView
 
-        view = TopicView(self.picked_model(), self.prepared, labels=self.labels, **options)
+        view = TopicView(self.picked_fit(), self.prepared, labels=self.labels, **options)
         for old in self.model_area.children:
             old.close()
         self.model_area.children = [view]
         return view
+
+    def show_model(self, **options):
+        """Deprecated: use :meth:`show_fit`."""
+        warn_renamed("SweepView.show_model()", "SweepView.show_fit()")
+        return self.show_fit(**options)

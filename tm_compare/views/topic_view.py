@@ -5,8 +5,10 @@ from __future__ import annotations
 import ipywidgets as w
 import traitlets
 
+from .._deprecation import renamed_parameters
 from .._validation import param_error
-from ..results import ModelTables
+from ..options import default
+from ..results import ModelResults
 from ._cards import esc
 from ._labels_panel import LabelsPanel
 from ._reading_panel import DocumentsPanel, TermsPanel
@@ -25,6 +27,8 @@ class TopicView(w.VBox):
 
     One trait, ``topic``, is the selected topic; clicking a topic in any chart or table sets it,
     and every panel follows it. Set it from Python (``view.topic = 3``) to the same effect.
+    Every number shown comes from :attr:`results` (a :class:`tm_compare.results.ModelResults`);
+    the controls switch its settings (``view.sources_panel.results`` holds the ones on show).
 
     Parameters
     ----------
@@ -33,58 +37,51 @@ class TopicView(w.VBox):
         The prepared corpus the fit was trained on.
     labels : LabelStore, optional
         Show the labelling form, writing to this store.
-    weighting : "exposure" or "unique"
-    cluster : str or None
-        Column whose clusters the bootstrap resamples (default ``"group"`` when given).
-    ranking : "probability", "lift", "frex" or "relevance"
-    n_boot, n_terms, n_docs : int
-        Bootstrap replicates; terms per topic; documents per topic and source.
+    method : "probability", "lift", "frex" or "relevance"
+        The term ranking shown first (``ranking=`` is its old, deprecated name).
     poll_seconds : float or None
         How often the labelling form looks for colleagues' labels.
+    **settings
+        Settings of :class:`tm_compare.results.ModelResults`: ``weighting``, ``cluster``,
+        ``n_boot``, ``random_state``, ``n_terms``, ``n_docs``, ... (defaults from
+        :mod:`tm_compare.options`).
     """
 
     topic = traitlets.Int(0, help="The selected topic, shared by every panel.")
 
+    @renamed_parameters(ranking="method")
     def __init__(
         self,
         fit,
         prepared,
         labels=None,
         *,
-        weighting="exposure",
-        cluster="group",
-        ranking="probability",
-        n_boot=1000,
-        n_terms=12,
-        n_docs=4,
+        method: str = default("method"),
         poll_seconds=3.0,
-        random_state=0,
+        **settings,
     ):
-        self.tables = ModelTables(
-            fit, prepared, n_boot=n_boot, n_terms=n_terms, n_docs=n_docs, random_state=random_state
-        )
-        if len(self.tables.sources) < 2:
+        self.results = ModelResults(fit, prepared, **settings)
+        if len(self.results.sources) < 2:
             raise param_error(
                 "TopicView",
                 "prepared",
-                f"a corpus with sources {self.tables.sources}",
+                f"a corpus with sources {self.results.sources}",
                 "a prepared corpus with at least two sources to compare",
             )
         self.fit = fit
-        self.sources_panel = SourcesPanel(
-            self.tables, self._pick, weighting=weighting, cluster=cluster
-        )
-        self.terms_panel = TermsPanel(self.tables, self._pick, ranking=ranking)
-        self.documents_panel = DocumentsPanel(self.tables)
+        self.sources_panel = SourcesPanel(self.results, self._pick)
+        self.terms_panel = TermsPanel(self.sources_panel.results, self._pick, method=method)
+        self.documents_panel = DocumentsPanel(self.results)
         self.labels_panel = (
             None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
         )
-        self.sources_panel.contrast.observe(self._contrast_changed, names="value")
+        self.sources_panel.observe(self._settings_changed, names="results")
+        self.sources_panel.contrast.observe(self._settings_changed, names="value")
         self.reading_title = w.HTML()
         children = [
             w.HTML(
                 f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
-                f"(seed {int(fit.seed)})</h2>"
+                f"(seed {int(fit.random_state)})</h2>"
             ),
             _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
             self.sources_panel,
@@ -112,9 +109,9 @@ class TopicView(w.VBox):
     @traitlets.validate("topic")
     def _check_topic(self, proposal):
         value = proposal["value"]
-        if not 0 <= value < self.tables.k:
+        if not 0 <= value < self.results.k:
             raise param_error(
-                "TopicView", "topic", value, f"a topic number from 0 to {self.tables.k - 1}"
+                "TopicView", "topic", value, f"a topic number from 0 to {self.results.k - 1}"
             )
         return value
 
@@ -125,7 +122,7 @@ class TopicView(w.VBox):
     def _update_panels(self, topic: int) -> None:
         self.reading_title.value = (
             f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
-            f"Reading topic <b>{esc(self.tables.captions[topic])}</b></div>"
+            f"Reading topic <b>{esc(self.results.captions[topic])}</b></div>"
         )
         panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
         for panel in panels:
@@ -135,9 +132,11 @@ class TopicView(w.VBox):
     def _pick(self, topic: int) -> None:
         self.topic = int(topic)
 
-    def _contrast_changed(self, change):
+    def _settings_changed(self, change):
+        # The wording follows the weighting and the pair of sources compared.
         if self.sources_panel.pair is None:
             return
+        self.terms_panel.results = self.sources_panel.results
         self.terms_panel.pair = self.sources_panel.pair
         self.terms_panel.show_topic(self.topic)
 
