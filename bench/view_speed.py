@@ -60,9 +60,9 @@ def from_scratch(fit, prepared, topic: int, n_boot: int) -> None:
 
     comparison.prevalence(fit, prepared, n_boot=n_boot)
     comparison.differences(fit, prepared, n_boot=n_boot)
-    terms.term_rankings(fit, "probability", topn=12, prepared=prepared)
-    terms.source_wording(fit, prepared, topic, against="each", topn=8)
-    documents.representative_documents(fit, prepared, topic, per_source=4)
+    terms.term_rankings(fit, prepared, "probability", n_terms=12)
+    terms.source_wording(fit, prepared, topic, against="each", n_terms=8)
+    documents.representative_documents(fit, prepared, topic, n_docs=4)
 
 
 def main() -> None:
