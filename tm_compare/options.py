@@ -45,8 +45,9 @@ _TABLE = (
         "cluster",
         "group",
         ("group", "outlet", None),
-        "what the bootstrap resamples: readers ('group'), outlets, or documents (None); "
-        "'group' falls back to documents when the corpus has no group column, and says so",
+        "what the bootstrap resamples: readers ('group'), outlets ('outlet') or documents "
+        "(None in Python, 'document' on the command line); 'group' falls back to documents "
+        "when the corpus has no group column, and says so",
     ),
     Option("n_boot", 1000, None, "bootstrap replicates"),
     Option("ci", 0.95, None, "coverage of the intervals"),

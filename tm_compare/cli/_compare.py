@@ -16,7 +16,7 @@ from pathlib import Path
 import pandas as pd
 
 from .._deprecation import warn_renamed
-from ..options import OPTIONS, cli_help, default
+from ..options import OPTIONS, default
 from . import add_option
 
 #: Tables ``compare`` writes, of those :meth:`ModelResults.tables` returns.
@@ -43,8 +43,7 @@ def add_settings(parser) -> None:
     for name in SETTINGS:
         if name == "cluster":
             choices = [c for c in OPTIONS[name].choices if c is not None] + [NO_CLUSTER]
-            help_ = cli_help(name) + f"; '{NO_CLUSTER}' resamples documents"
-            add_option(parser, name, choices=choices, help=help_)
+            add_option(parser, name, choices=choices)
         else:
             add_option(parser, name, renamed=("--weight",) if name == "weighting" else ())
 

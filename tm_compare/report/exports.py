@@ -26,6 +26,7 @@ from .._atomic import atomic_path, atomic_write_bytes, atomic_write_text
 from .._deprecation import warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ProjectError
+from ..options import default
 from ..results import CANDIDATES, ModelResults
 
 TABLE_FORMATS = ("csv", "parquet")
@@ -173,7 +174,7 @@ def _flat(table: pd.DataFrame) -> pd.DataFrame:
     return out
 
 
-def charts(results: Results, measure: str = "npmi") -> dict:
+def charts(results: Results, measure: str = default("measure")) -> dict:
     """The charts of ``results`` by file stem: the sweep, the sources, each topic's terms."""
     from ..views import charts as ch
 
