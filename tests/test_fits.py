@@ -106,7 +106,8 @@ def test_bars_topics_are_recovered(engine):
 
 
 # -- the engines' own functions ------------------------------------------------------------------
-SETTINGS = {"passes": 3, "iterations": 50, "chunksize": 100}
+# tol=0: every pass runs, as in the engines' own fixed-pass loops used as references.
+SETTINGS = {"passes": 3, "iterations": 50, "chunksize": 100, "tol": 0}
 
 
 def test_gensim_fit_equals_plain_ldamodel_and_its_perplexity(lee):
@@ -305,8 +306,64 @@ def test_empty_vocabulary_is_refused():
         ("decay", 2.0, "'decay' parameter"),
         ("holdout", 1.0, "'holdout' parameter"),
         ("epochs", 3, "'settings' parameter of fit_lda must be one of 'passes'"),
+        ("chunksize", "big", "'chunksize' parameter of fit_lda must be 'auto' or an integer"),
+        ("tol", -0.1, "'tol' parameter of fit_lda must be a number in \\[0, 1\\)"),
     ],
 )
 def test_bad_settings_name_what_is_accepted(lee, option, value, match):
     with pytest.raises(SettingsError, match=match):
         fit_lda(lee, 3, **{option: value})
+
+
+# -- passes and convergence ----------------------------------------------------------------------
+def test_auto_chunksize_makes_ten_updates_per_pass_of_at_most_2000():
+    from tm_compare.models._engines import resolve_chunksize
+
+    # The bars training set of the issue: 1,800 documents -> 180 per update.
+    assert resolve_chunksize("auto", 1800) == 180
+    assert resolve_chunksize("auto", 1801) == 181  # rounded up: still ten updates
+    assert resolve_chunksize("auto", 50_000) == 2000  # gensim's default chunk is the largest
+    assert resolve_chunksize("auto", 5) == 1
+    assert resolve_chunksize(300, 1800) == 300  # a fixed size is kept
+
+
+def test_topic_change_is_mean_total_variation():
+    from tm_compare.models._engines import topic_change
+
+    a = np.array([[0.5, 0.5, 0.0], [1.0, 0.0, 0.0]])
+    b = np.array([[0.5, 0.0, 0.5], [1.0, 0.0, 0.0]])
+    # By hand: row 0 moves half its mass (TV 0.5), row 1 none -> mean 0.25.
+    assert topic_change(a, b) == pytest.approx(0.25)
+    assert topic_change(a * 7, b * 3) == pytest.approx(0.25)  # rows are normalised first
+
+
+def test_fits_stop_once_settled_and_record_it(lee):
+    capped = fit_lda(lee, 4, random_state=0, passes=40, tol=0.01)
+    assert capped.converged and capped.passes_used < 40 and capped.last_change < 0.01
+    # Run again with every pass forced up to where it stopped: the same topics (stopping
+    # does not change the passes it made), here compared with gensim's own passes loop.
+    same = fit_lda(lee, 4, random_state=0, passes=capped.passes_used, tol=0)
+    np.testing.assert_allclose(same.topic_term, capped.topic_term, rtol=1e-10)
+    assert same.passes_used == capped.passes_used and same.converged  # judged at the default tol
+    one = fit_lda(lee, 4, random_state=0, passes=1, tol=0.01)
+    assert (one.passes_used, one.converged) == (1, False) and np.isnan(one.last_change)
+
+
+def test_convergence_is_saved_and_old_files_without_it_still_load(small_fit, tmp_path):
+    from tm_compare.models.fits import _checksum
+
+    loaded = Fit.load(small_fit.save(tmp_path / "fit.npz"))
+    assert (loaded.passes_used, loaded.converged) == (1, False)
+    # A file of an earlier version: same layout, no convergence fields in its meta.
+    with np.load(tmp_path / "fit.npz") as npz:
+        arrays = {name: npz[name] for name in npz.files if name != "checksum"}
+    meta = json.loads(arrays["meta"].tobytes())
+    for name in ("passes_used", "converged", "last_change"):
+        del meta[name]
+    arrays["meta"] = np.frombuffer(json.dumps(meta, sort_keys=True).encode(), dtype=np.uint8)
+    checksum = np.frombuffer(_checksum(arrays).encode(), dtype=np.uint8)
+    with open(tmp_path / "old.npz", "wb") as fh:
+        np.savez(fh, checksum=checksum, **arrays)
+    old = Fit.load(tmp_path / "old.npz")
+    assert old.passes_used is None and old.converged is None and np.isnan(old.last_change)
+    assert old.fingerprint == small_fit.fingerprint

@@ -288,48 +288,93 @@ def crafted():
 
 
 def test_recommend_one_standard_error_rule(crafted):
-    # Rule: highest mean NPMI among k whose mean stability is within one standard error
-    # of the best (a one-standard-error rule, common practice in model selection).
+    # Rule (recommend's docstring): among k within one standard error of the best stability
+    # (a one-standard-error rule, common practice in model selection; stability after Greene,
+    # O'Callaghan & Cunningham 2014), keep k within one standard error of the best NPMI; with
+    # no perplexities the best mean NPMI decides. By hand: stability keeps 5 and 10; NPMI
+    # best 0.075 at k = 10 with s.e. sd(0.07, 0.08, 0.075)/sqrt(3) = 0.00289, so k = 5
+    # (0.05) drops out and is the runner-up.
     rec = recommend(crafted)
     assert (rec.k, rec.seed) == (10, 1)
     assert rec.rule == (
-        "k = 10: highest mean NPMI (0.075) among k whose mean stability (0.79) is within one "
-        "standard error (0.0115) of the best (0.8 at k = 5); seed 1 has the highest NPMI at that k"
+        "k = 10: best mean NPMI among k with stability and NPMI within one standard error of "
+        "the best; runner-up k = 5 has lower mean NPMI (0.05 vs 0.075, beyond one standard error)"
+    )
+    assert (rec.runner_up, rec.why_not_runner_up) == (
+        5,
+        "has lower mean NPMI (0.05 vs 0.075, beyond one standard error)",
     )
     assert str(rec) == rec.rule
     assert rec.table.loc[rec.table["chosen"], "k"].tolist() == [10]
-    assert rec.table["candidate"].tolist() == [True, True, False]
+    assert rec.table["candidate"].tolist() == [False, True, False]
+    assert rec.table["step"].tolist() == [2, 4, 1]
+    assert rec.table["stability_se"].iloc[0] == pytest.approx(0.02 / np.sqrt(3))
+    assert any("best 0.8 at k = 5; kept 5, 10" in line for line in rec.details)
+    assert any("Junk topics: not counted" in line for line in rec.details)
+
+
+def test_recommend_drops_junk_then_takes_the_best_held_out_fit(crafted):
+    # k = 15 is the most coherent but has a near-empty topic in 2 of its 3 fits: out at step 1.
+    # k = 5 and 10 pass stability and NPMI once NPMI spreads; held-out perplexity decides.
+    table = crafted.assign(
+        npmi=[0.07, 0.08, 0.075, 0.07, 0.08, 0.074, 0.09, 0.085, 0.095],
+        perplexity=[100.0, 101, 102, 90, 91, 92, 80, 81, 82],
+        near_empty=[0, 0, 0, 0, 0, 0, 1, 1, 0],
+        near_duplicate=[0, 0, 0, 0, 0, 1, 0, 0, 0],
+        converged=[True] * 5 + [False] + [True] * 3,
+    )
+    rec = recommend(table)
+    # Seed: seed 2 did not converge and has a near-duplicate pair; of seeds 0 and 1 seed 0
+    # has the lower perplexity (90).
+    assert (rec.k, rec.seed) == (10, 0)
+    assert rec.rule == (
+        "k = 10: lowest held-out perplexity among k with no junk topics, stability and NPMI "
+        "within one standard error of the best; runner-up k = 5 has higher held-out "
+        "perplexity (101 vs 91)"
+    )
+    assert rec.table["step"].tolist() == [3, 4, 0]
+    assert rec.table["near_empty_mean"].tolist() == pytest.approx([0, 0, 2 / 3])
+    assert rec.table["converged_share"].tolist() == pytest.approx([1, 2 / 3, 1])
+    assert "Note: 1 of 9 fits did not converge: k = 10 seed 2" in rec.details
+    # Junk everywhere: the k with the fewest junk topics per fit go on.
+    everywhere = table.assign(near_duplicate=1)
+    assert recommend(everywhere).k == 10
+    assert "every k has junk topics in most fits" in recommend(everywhere).details[0]
 
 
 def test_recommend_says_what_is_missing(crafted):
     no_stability = recommend(crafted.drop(columns="stability"))
-    assert no_stability.k == 15 and no_stability.seed == 2
-    assert (
-        "stability did not enter the choice: the scores have no 'stability' column"
-        in no_stability.rule
+    assert (no_stability.k, no_stability.seed) == (15, 2)
+    assert "(stability across seeds cannot be judged with fewer than 3 seeds)" not in (
+        no_stability.rule
     )
+    assert any("no fit has a finite stability" in line for line in no_stability.details)
     single_seed = recommend(crafted.assign(stability=np.nan))
-    assert "a single seed per k gives none" in single_seed.rule
+    assert single_seed.k == 15
     no_npmi = recommend(crafted.assign(npmi=np.nan))
-    assert no_npmi.k == 5 and no_npmi.rule.startswith("k = 5: highest mean stability (0.8)")
-    assert "NPMI did not enter the choice" in no_npmi.rule
+    assert no_npmi.k == 5
+    assert any(line.startswith("3. NPMI: no kept k") for line in no_npmi.details)
     gaps = crafted.copy()
     gaps.loc[8, "npmi"] = np.inf
-    assert "1 of 9 fits without a finite NPMI were left out" in recommend(gaps).rule
+    assert "Note: 1 of 9 fits without a finite NPMI were left out" in recommend(gaps).details
     with pytest.raises(InputError, match="'npmi' or 'stability'"):
         recommend(crafted.drop(columns=["npmi", "stability"]))
     with pytest.raises(SettingsError, match="'scores'"):
         recommend(crafted.drop(columns="k"))
 
 
-def test_recommend_says_two_seeds_give_no_spread(crafted):
+def test_recommend_with_fewer_than_three_seeds_says_stability_cannot_be_judged(crafted):
     # With seeds 0 and 1 only, each k has one pair of runs (Greene et al. 2014 average the
-    # pairs), so both fits carry the same stability and its standard error is 0.
+    # pairs), so both fits carry the same stability: there is no spread to judge it by, and
+    # the rule says so instead of using a standard error of 0.
     two = crafted[crafted["seed"] < 2].copy()
     two["stability"] = two.groupby("k")["stability"].transform("mean")
     rec = recommend(two)
-    assert rec.k == 5  # only the most stable k qualifies when the spread is 0
-    assert "with two seeds k = 5 has one pair of runs, so its standard error is 0" in rec.rule
+    assert rec.rule.endswith("(stability across seeds cannot be judged with fewer than 3 seeds)")
+    assert "standard error (0)" not in rec.rule
+    assert any("needs 3 or more seeds per k (this sweep has 2)" in d for d in rec.details)
+    # NPMI alone then: means 0.055, 0.075, 0.0875, s.e. 0.0025 at k = 15.
+    assert rec.k == 15
 
 
 def test_old_names_of_n_terms_work_with_a_future_warning():

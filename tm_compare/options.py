@@ -111,9 +111,26 @@ _TABLE = (
         None,
         "worker processes on this machine (joblib convention: None is 1, -1 all cores)",
     ),
-    Option("passes", 10, None, "passes over the corpus per fit"),
+    Option(
+        "passes",
+        20,
+        None,
+        "most passes over the corpus per fit; a fit stops earlier once its topics settle (tol)",
+    ),
+    Option(
+        "tol",
+        0.01,
+        None,
+        "a fit has converged when a pass moves its topics less than this (mean total-variation "
+        "distance) twice in a row; 0 runs every pass",
+    ),
     Option("iterations", 50, None, "inference iterations per document"),
-    Option("chunksize", 2000, None, "documents per online update"),
+    Option(
+        "chunksize",
+        "auto",
+        None,
+        "documents per online update; 'auto' makes ten updates per pass (at most 2000 each)",
+    ),
     Option("alpha", "symmetric", None, "document-topic prior"),
     Option("eta", "symmetric", None, "topic-word prior"),
     # gensim's names and defaults; scikit-learn gets the same values under its own names.

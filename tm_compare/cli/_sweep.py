@@ -5,11 +5,9 @@ from __future__ import annotations
 import argparse
 
 from ..models._engines import SETTINGS
-from ..models.scores import MEASURES
 from ..options import default
 from . import add_option
 
-SHOWN = ["k", "seed", *MEASURES, "perplexity", "stability", "diversity", "fit_seconds"]
 #: Options of the sweep given on the command line under their Python names.
 SWEEP_OPTIONS = ("k", "seeds", "engine", "holdout", "holdout_random_state", "n_terms", *SETTINGS)
 
@@ -65,9 +63,7 @@ def register(subparsers) -> None:
     )
     fits = parser.add_argument_group("fit settings (defaults in brackets)")
     for name in SETTINGS:
-        add_option(
-            fits, name, **({"type": prior, "metavar": "PRIOR"} if name in ("alpha", "eta") else {})
-        )
+        add_option(fits, name, **_TYPES.get(name, {}))
     add_option(fits, "holdout")
     add_option(fits, "holdout_random_state")
     scores = parser.add_argument_group("scores (defaults in brackets)")
@@ -75,6 +71,17 @@ def register(subparsers) -> None:
     add_option(scores, "measure", help="coherence measure the proposal maximises [%(default)s]")
     parser.add_argument("--no-progress", action="store_true", help="hide the progress bar")
     parser.set_defaults(func=run)
+
+
+def chunk_size(text: str) -> str | int:
+    """Documents per online update: ``auto`` (ten updates per pass) or an integer >= 1."""
+    if text == "auto":
+        return text
+    try:
+        return int(text)
+    except ValueError:
+        msg = f"got {text!r}; give 'auto' (ten updates per pass) or an integer >= 1"
+        raise argparse.ArgumentTypeError(msg) from None
 
 
 def prior(text: str) -> str | float:
@@ -114,7 +121,15 @@ def seed_list(text: str) -> int | list[int]:
         raise argparse.ArgumentTypeError(msg) from None
 
 
+_TYPES = {
+    "alpha": {"type": prior, "metavar": "PRIOR"},
+    "eta": {"type": prior, "metavar": "PRIOR"},
+    "chunksize": {"type": chunk_size, "metavar": "auto|N"},
+}
+
+
 def run(args) -> int:
+    from ..models.sweep_summary import summary
     from ..models.sweeps import sweep
     from ..project import Project
     from ..text.prepared import load_prepared
@@ -130,11 +145,7 @@ def run(args) -> int:
         progress=not args.no_progress,
         **{name: getattr(args, name) for name in SWEEP_OPTIONS},
     )
-    shown = [c for c in SHOWN if c in result.scores_.columns]
-    print(f"Scores of {len(result.scores_)} fits ({args.engine}), one row per fit:")
-    print(result.scores_[shown].to_string(index=False, float_format=lambda x: f"{x:.4g}"))
-    print()
-    print(f"Proposed: {result.recommend(measure=args.measure).rule}")
+    print(summary(result, args.measure))
     print()
     print(
         f"Fits saved in {project.path / 'fits'}; score tables (CSV, Parquet) in "

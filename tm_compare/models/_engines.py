@@ -23,6 +23,25 @@ its own names (``passes`` -> ``max_iter``, ``iterations`` ->
 ``max_doc_update_iter``, ``chunksize`` -> ``batch_size``, ``decay`` ->
 ``learning_decay``, ``offset`` -> ``learning_offset``, ``gamma_threshold`` ->
 ``mean_change_tol``) so both run the same algorithm with the same schedule.
+
+Passes and when to stop
+-----------------------
+Both engines run one pass over the training documents at a time (gensim
+``LdaModel.update`` with the learning-rate offset moved on by one per pass and
+documents counted towards the rate in the first pass only, which is exactly
+``LdaModel(passes=n)``; scikit-learn ``partial_fit``, exactly
+``fit(max_iter=n)``). After each pass the *change* of the topics is measured: the
+total-variation distance between each topic's word distribution before and after
+the pass, averaged over topics (0 = unchanged, 1 = disjoint). A fit has
+*converged* when the change stays below ``tol`` for two passes in a row; it then
+stops, and otherwise stops after ``passes`` passes (the cap) and is marked
+unconverged. ``tol=0`` runs all ``passes`` passes, as fixed settings did before, and
+judges convergence with the default tolerance.
+
+``chunksize="auto"`` (the default) makes ten online updates per pass: the
+training documents split into ten chunks, at most 2000 documents each (gensim's
+default chunk). A fixed chunk of 2000 gives a corpus of 1,800 documents one
+update per pass, whose topics are still moving after ten passes.
 """
 
 from __future__ import annotations
@@ -48,6 +67,7 @@ SETTINGS = (
     "decay",
     "offset",
     "gamma_threshold",
+    "tol",
 )
 DEFAULT_SETTINGS = {name: default(name) for name in SETTINGS}
 
@@ -58,6 +78,54 @@ class EngineResult:
     gamma: np.ndarray  # D x k variational Dirichlet parameters
     word_bound: float  # per-word natural-log bound on the held-out documents (nan if none)
     version: str
+    passes_used: int
+    converged: bool
+    last_change: float  # topic change of the last pass (nan after a single pass)
+
+
+AUTO_UPDATES = 10  # online updates per pass with chunksize="auto"
+MAX_CHUNK = 2000  # gensim's default chunksize: the largest chunk "auto" makes
+STABLE_PASSES = 2  # passes in a row with a change below tol before a fit stops
+
+
+def resolve_chunksize(value, n_train: int) -> int:
+    """Documents per online update: ``value``, or for ``"auto"`` a tenth of the training
+    documents (rounded up), at most 2000."""
+    if value == "auto":
+        return max(1, min(MAX_CHUNK, -(-n_train // AUTO_UPDATES)))
+    return int(value)
+
+
+def topic_change(before: np.ndarray, after: np.ndarray) -> float:
+    """Mean total-variation distance between matching rows of two topic-word matrices."""
+    a = before / before.sum(axis=1, keepdims=True)
+    b = after / after.sum(axis=1, keepdims=True)
+    return float(0.5 * np.abs(a - b).sum(axis=1).mean())
+
+
+class Stopper:
+    """Counts passes and says when to stop (see module notes).
+
+    With ``tol=0`` every pass runs, and ``converged`` is judged with the default tolerance.
+    """
+
+    def __init__(self, passes: int, tol: float):
+        self.passes, self.tol = passes, tol
+        self.judge = tol if tol > 0 else default("tol")
+        self.done, self.calm, self.change, self.before = 0, 0, np.nan, None
+
+    def after_pass(self, topics: np.ndarray) -> bool:
+        """Record a pass that left ``topics``; True when the fit should stop."""
+        self.done += 1
+        if self.before is not None:
+            self.change = topic_change(self.before, topics)
+            self.calm = self.calm + 1 if self.change < self.judge else 0
+        self.before = np.array(topics, dtype=np.float64)
+        return (self.tol > 0 and self.converged) or self.done >= self.passes
+
+    @property
+    def converged(self) -> bool:
+        return self.calm >= STABLE_PASSES
 
 
 def engine_version(engine: str) -> str:
@@ -102,25 +170,42 @@ def run(
     fitter = _gensim if engine == "gensim" else _sklearn
     train = np.flatnonzero(~heldout)
     held = np.flatnonzero(heldout)
-    topic_term, gamma, word_bound = fitter(
-        matrix, train, held, k, random_state, {**DEFAULT_SETTINGS, **settings}, vocab
-    )
+    s = {**DEFAULT_SETTINGS, **settings}
+    s["chunksize"] = resolve_chunksize(s["chunksize"], len(train))
+    stopper = Stopper(s["passes"], s["tol"])
+    topic_term, gamma, word_bound = fitter(matrix, train, held, k, random_state, s, vocab, stopper)
     topic_term = np.asarray(topic_term, dtype=np.float64)
     topic_term /= topic_term.sum(axis=1, keepdims=True)
     return EngineResult(
-        topic_term, np.asarray(gamma, dtype=np.float64), float(word_bound), engine_version(engine)
+        topic_term,
+        np.asarray(gamma, dtype=np.float64),
+        float(word_bound),
+        engine_version(engine),
+        stopper.done,
+        stopper.converged,
+        stopper.change,
     )
 
 
-def _gensim(matrix, train, held, k, random_state, s, vocab):
+def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
     from gensim.models import LdaModel
 
-    model = LdaModel(
-        corpus=RowStream(matrix, train),
+    class OnePassAtATime(LdaModel):
+        """gensim's own pass loop counts the documents once: towards the learning rate in the
+        first pass only (``do_mstep(..., extra_pass=pass_ > 0)``) and in ``state.numdocs``
+        (the size the topic statistics are scaled to) once per ``update`` call; so does
+        this one."""
+
+        later_pass = False
+
+        def do_mstep(self, rho, other, extra_pass=False):
+            return super().do_mstep(rho, other, extra_pass or self.later_pass)
+
+    model = OnePassAtATime(
         id2word=dict(enumerate(vocab)),
         num_topics=k,
         chunksize=s["chunksize"],
-        passes=s["passes"],
+        passes=1,
         iterations=s["iterations"],
         alpha=prior(s["alpha"], k),
         eta=prior(s["eta"], k),
@@ -131,6 +216,15 @@ def _gensim(matrix, train, held, k, random_state, s, vocab):
         random_state=random_state,
         dtype=np.float64,
     )
+    stream = RowStream(matrix, train)
+    while True:
+        # gensim's own pass loop raises the offset by one per pass; so does this one.
+        if model.later_pass:
+            model.state.numdocs -= len(stream)  # update() adds them again
+        model.update(stream, offset=s["offset"] + stopper.done, passes=1, eval_every=None)
+        model.later_pass = True
+        if stopper.after_pass(model.state.get_lambda()):
+            break
     # Chunk by chunk, so only one chunk of documents is ever held as Python lists.
     n_docs, size = matrix.shape[0], s["chunksize"]
     gamma = np.concatenate(
@@ -151,7 +245,7 @@ def _gensim(matrix, train, held, k, random_state, s, vocab):
     return model.get_topics(), gamma, word_bound
 
 
-def _sklearn(matrix, train, held, k, random_state, s, vocab):
+def _sklearn(matrix, train, held, k, random_state, s, vocab, stopper):
     from sklearn.decomposition import LatentDirichletAllocation
 
     lda = LatentDirichletAllocation(
@@ -171,7 +265,9 @@ def _sklearn(matrix, train, held, k, random_state, s, vocab):
         random_state=random_state,
     )
     x = matrix.astype(np.float64)
-    lda.fit(x[train])
+    # partial_fit once per pass is fit(max_iter=passes) pass by pass.
+    while not stopper.after_pass(lda.partial_fit(x[train]).components_):
+        pass
     # transform(normalize=False) is the E-step's gamma: the variational Dirichlet parameters.
     gamma = lda.transform(x, normalize=False)
     word_bound = np.nan

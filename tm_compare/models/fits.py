@@ -54,6 +54,8 @@ _META = (
     "vocab",
     "doc_ids",
 )
+# Recorded since fits stop on convergence; files written before have none of them.
+_CONVERGENCE = ("passes_used", "converged", "last_change")
 # Saved files, fingerprints and sweep state keep the names of the first release, so that a
 # fit keeps its fingerprint (labels are stored under it) and older versions read newer files.
 _STORED_NAMES = {"random_state": "seed", "holdout_random_state": "holdout_seed", "n_terms": "topn"}
@@ -96,6 +98,15 @@ class Fit:
         Held-out per-word perplexity, natural log (see module notes); nan if none held out.
     corpus_fingerprint : str
         Fingerprint of the prepared corpus the model was fitted on.
+    passes_used : int or None
+        Passes the engine made over the training documents.
+    converged : bool or None
+        Whether the topics settled (a pass moved them less than ``tol`` twice in a row,
+        see :mod:`tm_compare.models._engines`) before the cap of ``passes``. None when not
+        known: fits made elsewhere (:meth:`from_arrays`) or saved by an older version.
+    last_change : float
+        How much the last pass moved the topics (mean total-variation distance); nan
+        when not known.
     """
 
     seed = renamed_attribute("seed", "random_state")
@@ -118,6 +129,9 @@ class Fit:
         perplexity,
         corpus_fingerprint,
         doc_topic=None,
+        passes_used=None,
+        converged=None,
+        last_change=None,
     ):
         self.k = int(k)
         self.random_state = int(random_state)
@@ -135,6 +149,9 @@ class Fit:
         self.heldout = np.asarray(heldout, dtype=bool)
         self.perplexity = float(perplexity)
         self.corpus_fingerprint = corpus_fingerprint
+        self.passes_used = None if passes_used is None else int(passes_used)
+        self.converged = None if converged is None else bool(converged)
+        self.last_change = np.nan if last_change is None else float(last_change)
         self.fingerprint = _fingerprint(
             "fit",
             engine,
@@ -205,6 +222,8 @@ class Fit:
             self.doc_dirichlet if self.doc_dirichlet is not None else self.doc_topic
         )
         meta = stored({name: getattr(self, name) for name in _META})
+        meta.update({name: getattr(self, name) for name in _CONVERGENCE})
+        meta["last_change"] = None if np.isnan(self.last_change) else self.last_change
         meta.update(
             format=FILE_FORMAT,
             version=FILE_VERSION,
@@ -248,6 +267,7 @@ class Fit:
         meta["settings"] = from_stored(meta["settings"])
         return cls(
             **{name: meta[name] for name in _META},
+            **{name: meta.get(name) for name in _CONVERGENCE},
             topic_term=arrays["topic_term"],
             doc_dirichlet=arrays.get("doc_dirichlet"),
             doc_topic=arrays.get("doc_topic"),
@@ -360,8 +380,11 @@ def check_settings(owner: str, settings: dict) -> dict:
     full = {**_engines.DEFAULT_SETTINGS, **settings}
     for name in ("passes", "iterations", "chunksize"):
         value = full[name]
+        if name == "chunksize" and value == "auto":
+            continue
         if isinstance(value, bool) or not isinstance(value, int | np.integer) or value < 1:
-            raise param_error(owner, name, value, "an integer >= 1")
+            accepted = "'auto' or an integer >= 1" if name == "chunksize" else "an integer >= 1"
+            raise param_error(owner, name, value, accepted)
     for name in ("alpha", "eta"):
         value = full[name]
         if value != "symmetric" and not (isinstance(value, float | int) and value > 0):
@@ -372,8 +395,11 @@ def check_settings(owner: str, settings: dict) -> dict:
     for name in ("offset", "gamma_threshold"):
         if not full[name] > 0:
             raise param_error(owner, name, full[name], "a number > 0")
+    tol = full["tol"]
+    if isinstance(tol, bool) or not isinstance(tol, int | float) or not 0 <= tol < 1:
+        raise param_error(owner, "tol", tol, "a number in [0, 1)", "Use 0 to run every pass.")
     return {
-        name: (int(v) if name in ("passes", "iterations", "chunksize") else v)
+        name: (int(v) if name in ("passes", "iterations", "chunksize") and v != "auto" else v)
         for name, v in full.items()
     }
 
@@ -417,6 +443,9 @@ def train(data: TrainingData, k: int, random_state: int, engine: str, settings: 
         heldout=data.heldout,
         perplexity=perplexity,
         corpus_fingerprint=data.corpus_fingerprint,
+        passes_used=result.passes_used,
+        converged=result.converged,
+        last_change=result.last_change,
     )
 
 
@@ -446,9 +475,11 @@ def fit_lda(
         (formerly ``holdout_seed``). It is separate from ``random_state`` so that fits with
         different seeds are judged on the same held-out documents.
     **settings
-        Fit settings with gensim's names: ``passes``, ``iterations``, ``chunksize``,
-        ``alpha``, ``eta``, ``decay``, ``offset``, ``gamma_threshold`` (defaults in
-        :mod:`tm_compare.options`).
+        Fit settings with gensim's names: ``passes`` (the most passes), ``iterations``,
+        ``chunksize`` (``"auto"``: ten updates per pass), ``alpha``, ``eta``, ``decay``,
+        ``offset``, ``gamma_threshold``, and ``tol``, the topic change below which a fit
+        stops early (``0`` runs every pass); see :mod:`tm_compare.models._engines`. Defaults
+        in :mod:`tm_compare.options`.
     """
     check_choice("fit_lda", "engine", engine, _engines.ENGINES)
     settings = check_settings("fit_lda", settings)

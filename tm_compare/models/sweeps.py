@@ -30,7 +30,7 @@ from .._validation import check_choice, param_error, require
 from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
 from ..options import choices, default
 from ..project import Project
-from . import _engines
+from . import _engines, quality
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
 from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, recommend, stability
 
@@ -65,8 +65,10 @@ class Sweep:
         uses 25).
     measures : tuple of str
         Coherence measures, from ``("npmi", "c_v", "uci", "umass")``.
-    passes, iterations, chunksize, alpha, eta, decay, offset, gamma_threshold
-        Fit settings (gensim's names, see :func:`tm_compare.models.fits.fit_lda`).
+    passes, iterations, chunksize, alpha, eta, decay, offset, gamma_threshold, tol
+        Fit settings (gensim's names, see :func:`tm_compare.models.fits.fit_lda`): by
+        default each fit makes ten online updates per pass and stops once its topics
+        settle (``tol``), after at most ``passes`` passes.
     progress : bool
         Show a progress bar of fits done and time left.
     fallback_local : bool
@@ -79,11 +81,15 @@ class Sweep:
     fits_ : Mapping
         ``{(k, seed): Fit}``; fits saved in a project are read from disk when asked for.
     scores_ : DataFrame
-        One row per fit: ``k``, ``seed``, ``engine``, ``fit_seconds``, mean of each
-        coherence measure, ``perplexity``, ``stability``, ``diversity``, ``fingerprint``.
+        One row per fit: ``k``, ``seed``, ``engine``, ``fit_seconds``, ``passes`` (made),
+        ``converged`` (whether the topics settled before the cap; missing for fits saved
+        by older versions), ``last_change``, mean of each coherence measure,
+        ``perplexity``, ``near_empty`` (topics) and ``near_duplicate`` (pairs, see
+        :mod:`tm_compare.models.quality`), ``stability``, ``diversity``, ``fingerprint``.
     topic_scores_ : DataFrame
         One row per topic of each fit: ``k``, ``seed``, ``topic``, ``top_words``,
-        each coherence measure and ``stability``.
+        each coherence measure, ``prevalence``, ``near_empty``, ``duplicate_of`` (-1 for
+        none) and ``stability``.
     settings_ : dict
         The fit settings every fit was made with.
     corpus_fingerprint_ : str
@@ -122,6 +128,7 @@ class Sweep:
         decay=default("decay"),
         offset=default("offset"),
         gamma_threshold=default("gamma_threshold"),
+        tol=default("tol"),
         progress=True,
         fallback_local=False,
     ):
@@ -144,6 +151,7 @@ class Sweep:
         self.decay = decay
         self.offset = offset
         self.gamma_threshold = gamma_threshold
+        self.tol = tol
         self.progress = progress
         self.fallback_local = fallback_local
 
@@ -417,9 +425,15 @@ def _save(fit: Fit, path: Path) -> Path:
 
 
 def _summary(fit: Fit, n_terms: int) -> dict:
+    per_topic = quality.topic_quality(fit)
     return {
         "fit_seconds": fit.fit_seconds,
+        "passes": fit.passes_used,
+        "converged": fit.converged,
+        "last_change": fit.last_change,
         "perplexity": fit.perplexity,
+        **quality.fit_quality(fit),
+        "topic_quality": per_topic[["prevalence", "near_empty", "duplicate_of"]],
         "fingerprint": fit.fingerprint,
         "top": fit.top_words(max(n_terms, DIVERSITY_N_TERMS)),
     }
@@ -498,6 +512,7 @@ def _score(summaries: dict, prepared, measures: list[str], n_terms: int, engine:
                 **{m: per_topic[m] for m in measures},
             }
         )
+        frame = pd.concat([frame, summaries[key]["topic_quality"].reset_index(drop=True)], axis=1)
         topic_rows.append(frame)
         rows.append(
             {
@@ -505,8 +520,13 @@ def _score(summaries: dict, prepared, measures: list[str], n_terms: int, engine:
                 "seed": seed,
                 "engine": engine,
                 "fit_seconds": summaries[key]["fit_seconds"],
+                "passes": summaries[key]["passes"],
+                "converged": summaries[key]["converged"],
+                "last_change": summaries[key]["last_change"],
                 **{m: float(np.mean(per_topic[m])) for m in measures},
                 "perplexity": summaries[key]["perplexity"],
+                "near_empty": summaries[key]["near_empty"],
+                "near_duplicate": summaries[key]["near_duplicate"],
                 "diversity": diversity(summaries[key]["top"], n_terms=DIVERSITY_N_TERMS),
                 "fingerprint": summaries[key]["fingerprint"],
             }
@@ -521,6 +541,8 @@ def _score(summaries: dict, prepared, measures: list[str], n_terms: int, engine:
             topic_stability[(k, row.seed, row.topic)] = row.stability
     scores = pd.DataFrame(rows)
     scores.insert(len(scores.columns) - 2, "stability", [float(fit_stability[key]) for key in keys])
+    scores["passes"] = scores["passes"].astype("Int64")  # unknown for fits saved before 0.x
+    scores["converged"] = scores["converged"].astype("boolean")
     topic_scores = pd.concat(topic_rows, ignore_index=True)
     topic_scores["stability"] = [
         float(topic_stability[key])

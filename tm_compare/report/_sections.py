@@ -15,6 +15,8 @@ import math
 import pandas as pd
 
 from .. import _html
+from ..models.quality import topic_badge
+from ..models.sweep_summary import health
 from .exports import chart_svg, charts
 
 WORDS = 8  # top terms shown per topic
@@ -159,6 +161,9 @@ def sweep_section(results, made: dict) -> dict:
         ("stability_se", "stability (s.e.)", num),
         ("perplexity_mean", "held-out perplexity", lambda v: num(v, 1)),
         ("diversity_mean", "diversity", num),
+        ("near_empty_mean", "near-empty topics per fit", num),
+        ("near_duplicate_mean", "near-duplicate pairs per fit", num),
+        ("converged_share", "fits converged", lambda v: "" if pd.isna(v) else f"{v:.0%}"),
         (lambda r: "recommended" if r["chosen"] else "", "", None),
     ]
     scores = results.tables["scores"]
@@ -169,6 +174,8 @@ def sweep_section(results, made: dict) -> dict:
             if name in made
         ],
         "rule": results.recommendation.rule,
+        "details": results.recommendation.details,
+        "health": health(scores),
         "table": table(
             rec, [c for c in cols if not isinstance(c[0], str) or c[0] in rec], key="sweep"
         ),
@@ -194,6 +201,8 @@ def topics_section(results) -> dict:
     rows["verdict"] = [_consensus(consensus, i, "verdict") for i in rows["topic"]]
     rows["words"] = rows["topic"].map(words["probability"])
     rows["frex"] = rows["topic"].map(words["frex"])
+    if {"near_empty", "duplicate_of"} <= set(rows.columns):
+        rows["junk"] = [topic_badge(r) for _, r in rows.iterrows()]
     return {
         "table": table(
             rows,
@@ -205,6 +214,7 @@ def topics_section(results) -> dict:
                 ("frex", "most distinctive terms (FREX)", None),
                 ("npmi", "NPMI", num),
                 ("stability", "stability", num),
+                *([("junk", "junk topic?", None)] if "junk" in rows else []),
             ],
             key="topics",
         )

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import ipywidgets as w
+import pandas as pd
 import traitlets
 
 from .._deprecation import warn_renamed
@@ -74,6 +75,12 @@ class SweepView(w.VBox):
             style={"description_width": "initial"},
         )
         self.advice = w.HTML(self._advice_html())
+        self.health = w.HTML(self._health_html())
+        # The numbers behind the suggestion, one click away.
+        self.numbers = w.Accordion(
+            [w.HTML(self._numbers_html())], titles=("Numbers behind the suggestion",)
+        )
+        self.numbers.selected_index = None
         self.picked = w.HTML()
         self.use_suggested = w.Button(
             description="Pick the suggested fit", icon="star", layout=w.Layout(width="200px")
@@ -101,6 +108,8 @@ class SweepView(w.VBox):
                 self.measure_choice,
                 self.chart,
                 self.advice,
+                self.numbers,
+                self.health,
                 w.HBox([self.picked, self.use_suggested, self.open_model]),
                 self.fits_table,
                 self.model_area,
@@ -113,18 +122,68 @@ class SweepView(w.VBox):
         s = self.suggestion
         return (
             f'<div style="font-size:13px;border-left:4px solid {charts.ACCENT};padding:4px 10px">'
-            f"<b>Suggested: k = {int(s.k)}</b> (seed {int(s.seed)}). Rule: {esc(s.rule)}"
-            f'<br><span style="color:#6b7078">{_WHY_NPMI}</span></div>'
+            f"<b>Suggested: k = {int(s.k)}</b> (seed {int(s.seed)}). {esc(s.rule)}</div>"
         )
+
+    def _numbers_html(self) -> str:
+        steps = "".join(f"<li>{esc(line)}</li>" for line in self.suggestion.details)
+        return (
+            f'<ol style="font-size:12px;margin:2px 0;list-style:none;padding-left:4px">{steps}</ol>'
+            f'<div style="font-size:12px;color:#6b7078">{_WHY_NPMI}</div>'
+        )
+
+    def _health_html(self) -> str:
+        """Fits that did not converge, and junk topics per fit, in plain words."""
+        from ..models.quality import describe
+
+        scores = self.sweep.scores_
+        lines = []
+        if "converged" in scores:
+            stuck = scores[scores["converged"].astype("boolean").eq(False).fillna(False)]
+            if len(stuck):
+                fits = ", ".join(
+                    f"k = {a} seed {b}" for a, b in zip(stuck["k"], stuck["seed"], strict=True)
+                )
+                lines.append(
+                    f'<b style="color:#b03a2e">{len(stuck)} of {len(scores)} fits did not '
+                    f"converge</b> (their topics still moved at the last pass): {esc(fits)}"
+                )
+        if {"near_empty", "near_duplicate"} <= set(scores.columns):
+            junk = scores[(scores["near_empty"] > 0) | (scores["near_duplicate"] > 0)]
+            if len(junk):
+                lines.append(
+                    "Junk topics: "
+                    + "; ".join(
+                        esc(describe(r.k, r.near_empty, r.near_duplicate)) + f" (seed {r.seed})"
+                        for r in junk.itertuples()
+                    )
+                )
+        return f'<div style="font-size:12px">{"<br>".join(lines)}</div>' if lines else ""
 
     def _table_frame(self):
         scores = self.sweep.scores_
         cols = (
             ["k", "seed"]
             + [m for m in MEASURES if m in scores.columns]
-            + [c for c in ("fit_seconds", "engine") if c in scores.columns]
+            + [
+                c
+                for c in (
+                    "near_empty",
+                    "near_duplicate",
+                    "passes",
+                    "converged",
+                    "fit_seconds",
+                    "engine",
+                )
+                if c in scores.columns
+            ]
         )
         frame = scores[cols].copy()
+        if "converged" in frame:
+            frame["converged"] = [
+                "unknown" if c is None or c is pd.NA else ("yes" if c else "no")
+                for c in frame["converged"]
+            ]
         for col in frame.columns:
             if frame[col].dtype.kind == "f":
                 frame[col] = frame[col].round(4)
@@ -138,7 +197,6 @@ class SweepView(w.VBox):
             data,
             title=_measure_title(self.measure),
             recommended_k=self.suggestion.k,
-            rule=self.suggestion.rule,
             picked=(self.k, self.seed),
         )
 

@@ -7,6 +7,7 @@ import traitlets
 
 from .._deprecation import renamed_parameters
 from .._validation import param_error
+from ..models.quality import topic_badge, topic_quality
 from ..options import default
 from ..results import ModelResults
 from ._cards import esc
@@ -78,6 +79,7 @@ class TopicView(w.VBox):
         self.sources_panel.observe(self._settings_changed, names="results")
         self.sources_panel.contrast.observe(self._settings_changed, names="value")
         self.reading_title = w.HTML()
+        self.quality = topic_quality(fit)  # near-empty and near-duplicate flags per topic
         children = [
             w.HTML(
                 f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
@@ -122,12 +124,20 @@ class TopicView(w.VBox):
     def _update_panels(self, topic: int) -> None:
         self.reading_title.value = (
             f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
-            f"Reading topic <b>{esc(self.results.captions[topic])}</b></div>"
+            f"Reading topic <b>{esc(self.results.captions[topic])}</b>{self._badge(topic)}</div>"
         )
         panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
         for panel in panels:
             if panel is not None:
                 panel.show_topic(topic)
+
+    def _badge(self, topic: int) -> str:
+        flag = topic_badge(self.quality.iloc[topic])
+        return (
+            f' <span class="tmc-junk" style="font-size:12px;color:#8a4b00">(junk topic? {esc(flag)})</span>'
+            if flag
+            else ""
+        )
 
     def _pick(self, topic: int) -> None:
         self.topic = int(topic)

@@ -1,0 +1,109 @@
+"""Junk topics of one fit: near-empty topics and near-duplicate pairs.
+
+A fit with more topics than its corpus supports shows it in two ways, both counted here
+per fit and flagged per topic:
+
+- **Near-empty topics**: topics that almost no text uses. A topic's *prevalence* is its
+  mean share over the fit's documents (rows of ``fit.doc_topic``); with k topics the fair
+  share is 1/k. A topic is near-empty when its prevalence is below ``EMPTY_SHARE / k``
+  (one tenth of its fair share). An unused topic of online LDA keeps only the prior in
+  each document's shares, about ``alpha / (1 + n_tokens)``, i.e. ~0.001 for 100-token
+  documents at k = 10, a hundred times below 1/k; a real but rare theme at a tenth of
+  the fair share is still read in ~1 document in 10k/1 (common practice is to report
+  such topics rather than drop them, and the flag says so).
+- **Near-duplicate pairs**: two topics of one fit whose word distributions are nearly the
+  same: Jensen-Shannon divergence (base 2, so 0 = identical and 1 = disjoint; Lin 1991)
+  below ``DUPLICATE_JSD``. Two copies of one topic give 0. Among the fits of the demo
+  and of the bars data of Griffiths & Steyvers (2004), distinct topics lie above 0.5 and
+  the halves of a split theme between 0.1 and 0.3 (measured, see DEVELOPERS.md).
+
+:func:`topic_quality` gives one row per topic; :func:`fit_quality` the counts of one fit;
+:func:`describe` the counts in words ("k = 12: 2 topics near-empty, 1 pair near-duplicate").
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from scipy.spatial.distance import jensenshannon
+
+EMPTY_SHARE = 0.1  # near-empty: prevalence below EMPTY_SHARE / k
+DUPLICATE_JSD = 0.25  # near-duplicate: Jensen-Shannon divergence (base 2) below this
+
+
+def prevalence(fit) -> np.ndarray:
+    """Each topic's mean share over the fit's documents (sums to 1)."""
+    shares = np.asarray(fit.doc_topic, dtype=float)
+    return shares.mean(axis=0)
+
+
+def divergences(topic_term) -> np.ndarray:
+    """k x k Jensen-Shannon divergences (base 2) between the topics' word distributions."""
+    topics = np.asarray(topic_term, dtype=float)
+    topics = topics / topics.sum(axis=1, keepdims=True)
+    k = len(topics)
+    out = np.zeros((k, k))
+    for i in range(k):
+        # scipy returns the distance (square root of the divergence).
+        out[i] = jensenshannon(topics[i][None, :], topics, axis=1, base=2) ** 2
+    np.fill_diagonal(out, 0.0)
+    return np.clip((out + out.T) / 2, 0.0, 1.0)
+
+
+def topic_quality(fit) -> pd.DataFrame:
+    """One row per topic: ``topic``, ``prevalence``, ``near_empty``, ``nearest`` (the most
+    similar other topic), ``divergence`` (to it) and ``duplicate_of`` (``nearest`` when the
+    pair is near-duplicate, else -1)."""
+    k = fit.k
+    share = prevalence(fit)
+    jsd = divergences(fit.topic_term)
+    np.fill_diagonal(jsd, np.inf)
+    nearest = jsd.argmin(axis=1) if k > 1 else np.zeros(k, dtype=int)
+    closest = jsd[np.arange(k), nearest] if k > 1 else np.full(k, np.nan)
+    return pd.DataFrame(
+        {
+            "topic": np.arange(k),
+            "prevalence": share,
+            "near_empty": share < EMPTY_SHARE / k,
+            "nearest": nearest,
+            "divergence": closest,
+            "duplicate_of": np.where(closest < DUPLICATE_JSD, nearest, -1),
+        }
+    )
+
+
+def duplicate_pairs(fit) -> list[tuple[int, int]]:
+    """Pairs (i, j), i < j, of near-duplicate topics."""
+    jsd = divergences(fit.topic_term)
+    i, j = np.triu_indices(fit.k, 1)
+    keep = jsd[i, j] < DUPLICATE_JSD
+    return [(int(a), int(b)) for a, b in zip(i[keep], j[keep], strict=True)]
+
+
+def fit_quality(fit) -> dict:
+    """``near_empty`` (topics) and ``near_duplicate`` (pairs) of one fit."""
+    share = prevalence(fit)
+    return {
+        "near_empty": int((share < EMPTY_SHARE / fit.k).sum()),
+        "near_duplicate": len(duplicate_pairs(fit)),
+    }
+
+
+def describe(k: int, near_empty: int, near_duplicate: int) -> str:
+    """The counts in words: "k = 12: 2 topics near-empty, 1 pair near-duplicate"."""
+    parts = []
+    if near_empty:
+        parts.append(f"{near_empty} topic{'s' if near_empty != 1 else ''} near-empty")
+    if near_duplicate:
+        parts.append(f"{near_duplicate} pair{'s' if near_duplicate != 1 else ''} near-duplicate")
+    return f"k = {k}: " + (", ".join(parts) if parts else "no junk topics")
+
+
+def topic_badge(row) -> str:
+    """A short flag for one topic's row of :func:`topic_quality` ('' when it is fine)."""
+    flags = []
+    if row["near_empty"]:
+        flags.append(f"near-empty ({row['prevalence']:.1%} of the text)")
+    if row["duplicate_of"] >= 0:
+        flags.append(f"near-duplicate of topic {int(row['duplicate_of'])}")
+    return "; ".join(flags)
