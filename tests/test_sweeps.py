@@ -21,6 +21,7 @@ from test_fits import corpus_of, lee_corpus
 import tm_compare.models.sweeps as sweep_module
 from tm_compare.errors import ClusterUnavailableError, InputError, SettingsError, SweepError
 from tm_compare.models.fits import fit_lda
+from tm_compare.models.quality import fit_quality
 from tm_compare.models.sweeps import Sweep, sweep
 
 FAST = {"passes": 1, "chunksize": 100, "progress": False}
@@ -54,8 +55,19 @@ def test_tables_have_one_row_per_fit_and_per_topic(saved):
         "c_v",
         "uci",
         "umass",
+        "prevalence",
+        "near_empty",
+        "duplicate_of",
         "stability",
     ]
+    # Each fit's convergence and junk topics are those of the fit itself.
+    for row in result.scores_.itertuples():
+        fit = result.get_fit(row.k, row.seed)
+        assert (row.passes, row.converged) == (fit.passes_used, fit.converged)
+        assert row.near_empty == fit_quality(fit)["near_empty"]
+        assert row.near_duplicate == fit_quality(fit)["near_duplicate"]
+    prevalence = result.topic_scores_.query("k == 4 and seed == 1")["prevalence"]
+    np.testing.assert_allclose(prevalence, result.get_fit(4, 1).doc_topic.mean(axis=0))
     assert all(len(words) == 10 for words in result.topic_scores_["top_words"])
     means = result.topic_scores_.groupby(["k", "seed"])[["npmi", "umass"]].mean().reset_index()
     np.testing.assert_allclose(means[["npmi", "umass"]], result.scores_[["npmi", "umass"]])
