@@ -69,9 +69,7 @@ def _corpus(rng, topics, vocab, n_docs, lengths, alpha):
         )
         rng.shuffle(tokens)
         texts.append(" ".join(vocab[j] for j in tokens))
-    frame = pd.DataFrame(
-        {"id": [f"doc{i}" for i in range(n_docs)], "text": texts, "source": "all"}
-    )
+    frame = pd.DataFrame({"id": [f"doc{i}" for i in range(n_docs)], "text": texts, "source": "all"})
     return Corpus.from_frame(frame, id="id")
 
 

@@ -343,3 +343,30 @@ def test_cli_sweeps_the_projects_prepared_corpus(tmp_path, capsys):
     assert k_grid("5:40:5") == list(range(5, 41, 5)) and k_grid("5,10") == [5, 10]
     assert main(["sweep", str(tmp_path), "--k", "1:3", "--no-progress"]) == 1
     assert "'k' parameter of sweep" in capsys.readouterr().err
+
+
+def test_unconverged_fits_and_junk_topics_are_named_on_every_surface(saved):
+    # One pass cannot show two settled passes in a row, so every fit of FAST is unconverged.
+    from tm_compare.models.quality import describe
+    from tm_compare.models.sweep_summary import summary
+    from tm_compare.views import SweepView
+
+    result, _ = saved
+    assert not result.scores_["converged"].any() and (result.scores_["passes"] == 1).all()
+    text = summary(result)
+    assert "NOT CONVERGED: 4 of 4 fits still moved after 1 passes" in text
+    junk = result.scores_.groupby("k")[["near_empty", "near_duplicate"]].sum()
+    for k, row in junk.iterrows():
+        assert describe(k, row.near_empty, row.near_duplicate) in text
+    rec = result.recommend()
+    assert f"Proposed: {rec.rule}" in text and rec.details[0] in text
+    # Two seeds: the rule says stability cannot be judged (no zero spread is computed).
+    assert rec.rule.endswith("(stability across seeds cannot be judged with fewer than 3 seeds)")
+    assert rec.runner_up in (3, 4) and rec.runner_up != rec.k and rec.why_not_runner_up in rec.rule
+    view = SweepView(result)
+    assert "4 of 4 fits did not converge" in view.health.value
+    assert view.numbers.selected_index is None  # the numbers are one click away
+    assert all(line.split(":")[0] in view.numbers.children[0].value for line in rec.details)
+    frame = view._table_frame()
+    assert {"near_empty", "near_duplicate", "passes", "converged"} <= set(frame.columns)
+    assert set(frame["converged"]) == {"NO"}

@@ -3,12 +3,13 @@
 from __future__ import annotations
 
 import ipywidgets as w
-import pandas as pd
 import traitlets
 
 from .._deprecation import warn_renamed
 from .._validation import param_error
+from ..models.quality import describe
 from ..models.scores import MEASURE_NAMES
+from ..models.sweep_summary import converged_text, unconverged
 from ..models.sweeps import Sweep
 from ..options import default
 from . import charts
@@ -134,20 +135,17 @@ class SweepView(w.VBox):
 
     def _health_html(self) -> str:
         """Fits that did not converge, and junk topics per fit, in plain words."""
-        from ..models.quality import describe
-
         scores = self.sweep.scores_
         lines = []
-        if "converged" in scores:
-            stuck = scores[scores["converged"].astype("boolean").eq(False).fillna(False)]
-            if len(stuck):
-                fits = ", ".join(
-                    f"k = {a} seed {b}" for a, b in zip(stuck["k"], stuck["seed"], strict=True)
-                )
-                lines.append(
-                    f'<b style="color:#b03a2e">{len(stuck)} of {len(scores)} fits did not '
-                    f"converge</b> (their topics still moved at the last pass): {esc(fits)}"
-                )
+        stuck = unconverged(scores)
+        if len(stuck):
+            fits = ", ".join(
+                f"k = {a} seed {b}" for a, b in zip(stuck["k"], stuck["seed"], strict=True)
+            )
+            lines.append(
+                f'<b style="color:#b03a2e">{len(stuck)} of {len(scores)} fits did not '
+                f"converge</b> (their topics still moved at the last pass): {esc(fits)}"
+            )
         if {"near_empty", "near_duplicate"} <= set(scores.columns):
             junk = scores[(scores["near_empty"] > 0) | (scores["near_duplicate"] > 0)]
             if len(junk):
@@ -180,10 +178,7 @@ class SweepView(w.VBox):
         )
         frame = scores[cols].copy()
         if "converged" in frame:
-            frame["converged"] = [
-                "unknown" if c is None or c is pd.NA else ("yes" if c else "no")
-                for c in frame["converged"]
-            ]
+            frame["converged"] = frame["converged"].map(converged_text)
         for col in frame.columns:
             if frame[col].dtype.kind == "f":
                 frame[col] = frame[col].round(4)
