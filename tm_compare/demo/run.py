@@ -25,7 +25,7 @@ DEFAULT_PROJECT = "quillhaven-demo"
 DEMO_FOLDER = "demo"  # inside the project: the input file and what was planted in it
 #: The demo's sweep: around the nine planted themes, three seeds (stability needs three), fits
 #: that stop once their topics settle; a few minutes on two cores.
-GRID = {"k": (6, 8, 9, 10, 12), "seeds": 3, "passes": default("passes")}
+GRID = {"k": (6, 9, 12), "seeds": 3, "passes": default("passes")}
 N_BOOT = default("n_boot")
 ANALYSTS = ("analyst_a", "analyst_b")  # invented, pseudonymous team members
 
