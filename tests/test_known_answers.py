@@ -18,10 +18,10 @@ from tm_compare.text.prepared import prepare
 pytestmark = pytest.mark.slow
 
 
-def _suggested(prepared, ks):
-    # Default fit settings and seeds (3); n_jobs only spreads the fits over processes
-    # (results do not depend on it, see test_sweeps).
-    result = sweep(prepared, k=ks, n_jobs=2, progress=False)
+def _suggested(prepared, ks, **grid):
+    # Default fit settings and seeds (3) unless said; n_jobs only spreads the fits over
+    # processes (results do not depend on it, see test_sweeps).
+    result = sweep(prepared, k=ks, n_jobs=2, progress=False, **grid)
     rec = result.recommend()
     return result, rec, result.get_fit(rec.k, rec.seed)
 
@@ -71,7 +71,10 @@ def test_lda_generated_corpus_with_unequal_prevalences_gives_its_k():
     alpha = np.array([0.3, 0.25, 0.2, 0.1, 0.08, 0.05])
     corpus, truth, vocab = lda_corpus(k=6, n_docs=1500, alpha=alpha, random_state=3)
     prepared = prepare(corpus, progress=False)
-    result, rec, fit = _suggested(prepared, [4, 6, 8])
+    # Five seeds: online LDA leaves a topic empty at k = 6 in about a third of the seeds here
+    # (seeds 1 and 2 of 0-5, measured), so with three seeds the junk step drops k = 6 and the
+    # rule proposes 4, naming 6 as the runner-up with its near-empty topics.
+    result, rec, fit = _suggested(prepared, [4, 6, 8], seeds=5)
     assert rec.k == 6, (rec.rule, rec.details)
     # Recovery floor chosen here: 0.8 (0.83 measured; the rarest topic, alpha 0.05, is the one
     # read worst).
