@@ -607,7 +607,7 @@ def recommend(
             )
     spread = "one standard error" if n_se == 1 else f"{n_se:g} standard errors"
     within = [x for x, on in (("stability", judged), (label, has_measure)) if on]
-    kept_by = ["no junk topics"] if has_junk else []
+    kept_by = ["no junk topics in most fits"] if has_junk else []
     if within:
         kept_by.append(f"{' and '.join(within)} within {spread} of the best")
     among = f"among k with {', '.join(kept_by)}" if kept_by else "among all k"
