@@ -6,16 +6,15 @@ per fit and flagged per topic:
 - **Near-empty topics**: topics that almost no text uses. A topic's *prevalence* is its
   mean share over the fit's documents (rows of ``fit.doc_topic``); with k topics the fair
   share is 1/k. A topic is near-empty when its prevalence is below ``EMPTY_SHARE / k``
-  (one tenth of its fair share). An unused topic of online LDA keeps only the prior in
-  each document's shares, about ``alpha / (1 + n_tokens)``, i.e. ~0.001 for 100-token
-  documents at k = 10, a hundred times below 1/k; a real but rare theme at a tenth of
-  the fair share is still read in ~1 document in 10k/1 (common practice is to report
-  such topics rather than drop them, and the flag says so).
+  (a tenth of its fair share). A topic that online LDA leaves unused keeps only the prior's
+  crumbs in each document, about ``alpha / (1 + n_tokens)`` (~0.001 for 100-token documents
+  at k = 10, a hundredth of 1/k); a real theme at a tenth of the fair share is rare but not
+  absurd, so the flag asks the reader to look rather than dropping the topic.
 - **Near-duplicate pairs**: two topics of one fit whose word distributions are nearly the
   same: Jensen-Shannon divergence (base 2, so 0 = identical and 1 = disjoint; Lin 1991)
-  below ``DUPLICATE_JSD``. Two copies of one topic give 0. Among the fits of the demo
-  and of the bars data of Griffiths & Steyvers (2004), distinct topics lie above 0.5 and
-  the halves of a split theme between 0.1 and 0.3 (measured, see DEVELOPERS.md).
+  below ``DUPLICATE_JSD``. Two copies of one topic give 0. Measured on the 3,000-document
+  demo: the closest pair of distinct topics lies at 0.5-0.73 for k = 6 to 10, while the
+  extra topics of k = 12 sit at 0.0-0.23 from another topic.
 
 :func:`topic_quality` gives one row per topic; :func:`fit_quality` the counts of one fit;
 :func:`describe` the counts in words ("k = 12: 2 topics near-empty, 1 pair near-duplicate").
