@@ -53,7 +53,7 @@ def test_sweep_grid_and_recommendation_follow_the_saved_scores():
     run, _ = small_demo()
     scores = run.sweep.scores_
     assert sorted(zip(scores["k"], scores["seed"], strict=True)) == [(4, 0), (4, 1), (6, 0), (6, 1)]
-    from tm_compare.models.scores import recommend
+    from tm_compare.models.choice import recommend
 
     again = recommend(scores)  # the rule re-applied to the scores as saved
     assert (run.results.fit.k, run.results.fit.random_state) == (again.k, again.seed)

@@ -18,13 +18,13 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from tm_compare.errors import InputError, SettingsError
+from tm_compare.models.choice import recommend
 from tm_compare.models.scores import (
     CoherenceScorer,
     average_jaccard,
     coherence,
     diversity,
     match_topics,
-    recommend,
     stability,
 )
 

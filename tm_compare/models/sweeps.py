@@ -31,8 +31,9 @@ from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError
 from ..options import choices, default
 from ..project import Project
 from . import _engines, quality
+from .choice import recommend
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
-from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, recommend, stability
+from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, stability
 
 CONNECT_TIMEOUT = 10  # seconds to wait for a Dask scheduler
 _STATE = "sweep.json"
@@ -283,7 +284,7 @@ class Sweep:
         return self.get_fit(k, seed)
 
     def recommend(self, measure: str = default("measure")):
-        """Propose a k with the rule spelled out (see :func:`.scores.recommend`)."""
+        """Propose a k with the rule spelled out (see :func:`.choice.recommend`)."""
         return recommend(self.scores_, measure=measure)
 
     def _save_tables(self, project: Project, files: dict) -> None:
