@@ -55,9 +55,9 @@ import scipy.sparse as sp
 from ..options import choices, default
 
 ENGINES = choices("engine")
-#: Fit settings, with gensim's names; their defaults (in :mod:`tm_compare.options`) are
-#: gensim's except ``passes``: one pass of online LDA makes a single update on corpora
-#: smaller than ``chunksize``, which rarely converges.
+#: Fit settings, with gensim's names (``tol`` is ours); their defaults (in
+#: :mod:`tm_compare.options`) are gensim's except ``passes`` (a cap, 20), ``chunksize``
+#: ("auto") and ``tol``: see "Passes and when to stop" above.
 SETTINGS = (
     "passes",
     "iterations",
