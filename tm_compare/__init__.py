@@ -46,6 +46,8 @@ _EXPORTS = {
     "diversity": "models.scores",
     "recommend": "models.choice",
     "Recommendation": "models.choice",
+    "topic_quality": "models.quality",
+    "fit_quality": "models.quality",
     "average_jaccard": "models.scores",
     "match_topics": "models.scores",
     "align_topics": "models.alignment",
