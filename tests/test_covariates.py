@@ -250,3 +250,45 @@ def test_model_results_and_chart(planted):
     spec = chart.to_dict()
     rows = [r for data in spec["datasets"].values() for r in data]
     assert len(rows) == K * 3 and {r["value"] for r in rows} == {"o1", "o2", "o3"}
+
+
+@pytest.fixture(scope="module")
+def project(tmp_path_factory):
+    from tm_compare.demo.quillhaven import make_corpus
+    from tm_compare.models.sweeps import sweep
+    from tm_compare.project import Project
+    from tm_compare.text.corpus import save_corpus
+    from tm_compare.text.prepared import prepare
+
+    project = Project.create(tmp_path_factory.mktemp("cov") / "p")
+    corpus = make_corpus(300, random_state=2)
+    save_corpus(corpus, project)
+    sweep(prepare(corpus, project=project), k=[3], seeds=1, project=project, passes=2)
+    return project
+
+
+@pytest.mark.slow
+def test_report_section_and_cli(project, capsys):
+    from tm_compare.cli import main
+    from tm_compare.report.exports import collect
+    from tm_compare.report.html import render
+
+    results = collect(project, 3, 0, n_boot=20)
+    model = results.results.prevalence_model("~ source + period", n_draws=2)
+    page = render(results)
+    assert 'id="prevalence-model"' in page and "<code>~ source + period</code>" in page
+    first = model.effects.sort_values("p_value", kind="stable").iloc[0]
+    assert f"{first['estimate']:+.3f}" in page  # the table shows the model's own numbers
+    args = ["compare", str(project.path), "--k", "3", "--n-boot", "20", "--n-draws", "2"]
+    assert main([*args, "--model", "~ source + period"]) == 0
+    assert "Model 1 '~ source + period'" in capsys.readouterr().out
+    folder = project.path / "comparison" / "k3_seed0"
+    written = pd.read_csv(next(folder.glob("model_effects-1-*.csv")))
+    np.testing.assert_allclose(
+        written.sort_values(["topic", "value"])["estimate"],
+        model.effects.sort_values(["topic", "value"])["estimate"],
+        atol=1e-12,
+    )
+    assert main([*args, "--model", "~ source + outlet_type"]) == 1
+    last = capsys.readouterr().err.splitlines()[-1]  # after any Note lines
+    assert last.startswith("Error: The formula '~ source + outlet_type'")

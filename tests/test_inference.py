@@ -157,6 +157,7 @@ def test_new_documents_join_the_comparison_as_a_source(fit, prepared, corpus):
         with_new_documents(fit, prepared, clash)
 
 
+@pytest.mark.slow
 def test_cli_infer_writes_shares_and_report(tmp_path, prepared, corpus, capsys):
     from tm_compare.models.sweeps import sweep
     from tm_compare.project import Project
