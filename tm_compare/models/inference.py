@@ -416,7 +416,6 @@ def with_new_documents(fit, prepared, new: NewDocuments, *, source: str | None =
     (Fit, PreparedCorpus)
     """
     from ..text.prepared import PreparedCorpus
-    from .fits import Fit
 
     meta_new = new.frame.drop(columns=[c for c in new.frame if c.startswith("topic_")])
     clash = sorted(set(meta_new["id"]) & set(prepared.doc_ids))
@@ -445,7 +444,7 @@ def with_new_documents(fit, prepared, new: NewDocuments, *, source: str | None =
     dirichlet = None
     if fit.doc_dirichlet is not None:
         dirichlet = np.vstack([np.asarray(fit.doc_dirichlet, float), new.doc_dirichlet])
-    joined = Fit(
+    joined = type(fit)(  # a Fit (fits.py imports this module: no import back)
         k=fit.k,
         random_state=fit.random_state,
         engine=fit.engine,
