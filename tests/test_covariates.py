@@ -10,8 +10,6 @@ a planted effect by simulation.
 
 from __future__ import annotations
 
-import warnings
-
 import numpy as np
 import pandas as pd
 import patsy
@@ -20,7 +18,7 @@ import statsmodels.api as sm
 
 from tests._builders import build_prepared
 from tm_compare.compare.covariates import prevalence_model
-from tm_compare.errors import InputError
+from tm_compare.errors import InputError, SettingsError
 from tm_compare.models.fits import Fit
 from tm_compare.results import ModelResults
 from tm_compare.views.charts import covariate_chart
@@ -176,8 +174,10 @@ def test_period_is_made_from_dates(planted):
 def test_planted_source_effect_is_covered_at_the_nominal_rate():
     """Coverage of the 95% interval of a planted source effect, by simulation.
 
-    Measured: 0.950 over 400 replications (Monte Carlo standard error
-    sqrt(0.95 * 0.05 / 400) = 0.011), with 24 readers x 12 documents, 5 draws per replication.
+    Measured: 0.970 over 400 replications (Monte Carlo standard error
+    sqrt(0.95 * 0.05 / 400) = 0.011), with 24 readers x 12 documents, 5 draws per replication:
+    nominal within three Monte Carlo errors, on the conservative side (the spread of the draws
+    is added to residuals that already hold the shares' noise).
     """
     rng = np.random.default_rng(2024)
     reader, source, outlet, date, weight = _design(rng)
@@ -234,10 +234,8 @@ def test_other_bad_formulas(planted):
     refit = Fit.from_arrays(nested, TOPICS, doc_dirichlet=fit.doc_dirichlet)
     with pytest.raises(InputError, match="only 2 are independent"):
         prevalence_model(refit, nested, "~ source + outlet", n_draws=0)
-    with warnings.catch_warnings():
-        warnings.simplefilter("error")
-        with pytest.raises(Exception, match="n_draws"):
-            prevalence_model(fit, prepared, "~ source", n_draws=-1)
+    with pytest.raises(SettingsError, match="'n_draws' parameter of prevalence_model"):
+        prevalence_model(fit, prepared, "~ source", n_draws=-1)
 
 
 def test_model_results_and_chart(planted):

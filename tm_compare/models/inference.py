@@ -120,7 +120,9 @@ class NewDocuments:
         )
 
 
-def infer(fit, prepared, corpus, *, random_state: int | None = None) -> NewDocuments:
+def infer(
+    fit, prepared, corpus, *, random_state: int | None = None, near_duplicates: bool = True
+) -> NewDocuments:
     """Topic shares of the documents of ``corpus`` under ``fit``, without refitting.
 
     Parameters
@@ -134,6 +136,9 @@ def infer(fit, prepared, corpus, *, random_state: int | None = None) -> NewDocum
     random_state : int, optional
         Seed of gensim's random start of each document's inference (default: the fit's).
         The same seed gives the same shares.
+    near_duplicates : bool
+        Flag copies of training documents (this tokenizes the training texts again: turn it
+        off to save time on a large corpus; ``near_duplicate_of`` is then missing).
 
     Returns
     -------
@@ -159,7 +164,10 @@ def infer(fit, prepared, corpus, *, random_state: int | None = None) -> NewDocum
     known = [[t for t in doc if t in index] for doc in texts]
     n_unknown = np.array([len(a) - len(b) for a, b in zip(texts, known, strict=True)])
     n_tokens = np.array([len(b) for b in known])
-    dup_of, similarity = _near_copies(prepared, clean)
+    if near_duplicates:
+        dup_of, similarity = _near_copies(prepared, clean)
+    else:
+        dup_of, similarity = np.full(len(clean), None, dtype=object), np.full(len(clean), np.nan)
     ok = n_tokens > 0
     report = pd.DataFrame(
         {
