@@ -290,3 +290,17 @@ def test_report_section_and_cli(project, capsys):
     assert main([*args, "--model", "~ source + outlet_type"]) == 1
     last = capsys.readouterr().err.splitlines()[-1]  # after any Note lines
     assert last.startswith("Error: The formula '~ source + outlet_type'")
+
+
+def test_many_valued_covariate_gets_coefficients_only(planted):
+    fit, prepared = planted
+    day = prepared.meta["date"].dt.strftime("%m-%d")  # about 90 values
+    daily = build_prepared(
+        prepared.sources, prepared.texts, groups=prepared.groups, vocab=VOCAB, day=day
+    )
+    refit = Fit.from_arrays(daily, TOPICS, doc_dirichlet=fit.doc_dirichlet)
+    model = prevalence_model(refit, daily, "~ source + day", n_draws=0)
+    assert day.nunique() > 30
+    assert set(model.prevalence["covariate"]) == {"source"}
+    terms = model.coefficients[model.coefficients["topic"] == 0]["term"]
+    assert terms.str.startswith("day[").sum() == day.nunique() - 1

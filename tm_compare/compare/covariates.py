@@ -25,7 +25,8 @@ Besides coefficients, every covariate gets the estimated prevalence at each of i
 (categories; a numeric covariate at its quantiles) and the effect of moving from the first
 value to each other one (a numeric covariate: one unit up), averaged over the documents'
 observed other covariates with the regression weights ("average predictions", Hanmer & Kalkan
-2013, AJPS 57(1)). Covariates interacting with others are averaged over the others too.
+2013, AJPS 57(1)). Covariates interacting with others are averaged over the others too. A
+categorical covariate with more than 30 values (readers as fixed effects) gets coefficients only.
 
 A column ``period`` that ``prepared.meta`` does not hold is made from ``date`` (calendar
 periods of ``freq``, default months), so ``"~ source * period"`` works on any dated corpus.
@@ -51,6 +52,9 @@ STATED = ("formula", "weighting", "cluster", "n_clusters", "n_docs", "n_draws", 
 QUANTILES = (0.1, 0.25, 0.5, 0.75, 0.9)
 #: Numeric covariates with at most this many distinct values are shown at each of them.
 FEW_VALUES = 12
+#: Categorical covariates with more values than this (readers as fixed effects, raw dates) get
+#: coefficients only, no prevalence or effect rows.
+MAX_LEVELS = 30
 
 
 class PrevalenceModel:
@@ -358,6 +362,8 @@ def _contrasts(spec, data, weights, needed) -> dict[str, pd.DataFrame]:
         series = data[name]
         numeric = pd.api.types.is_numeric_dtype(series) and not pd.api.types.is_bool_dtype(series)
         values = _values(series)
+        if not numeric and len(values) > MAX_LEVELS:
+            continue
         rows = {
             v: average(data.assign(**{name: pd.Series([v] * len(data), dtype=series.dtype)}))
             for v in values
