@@ -102,7 +102,7 @@ def register(subparsers) -> None:
         action="append",
         default=[],
         help='also regress prevalence on covariates, e.g. "~ source * period + outlet" '
-        "(columns of the corpus; repeatable); writes model-*.csv",
+        "(columns of the corpus; repeatable); writes model_*.csv",
     )
     add_option(parser, "n_draws")
     parser.add_argument(
@@ -162,6 +162,8 @@ def run(args) -> int:
     project, fit, prepared = _load(args.project, args.k, args.seed)
     with notes():
         results = ModelResults(fit, prepared, **settings(args))
+        # Prevalence models first: a bad formula stops before any table is written.
+        models = [results.prevalence_model(f, n_draws=args.n_draws) for f in args.model]
         made = {n: t for n, t in results.tables().items() if n in WRITTEN}
     s = results.settings
     suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
@@ -182,9 +184,7 @@ def run(args) -> int:
         print("One source only: no differences to show.")
     else:
         print(summary(made["differences"], fit).to_string(index=False))
-    for number, formula in enumerate(args.model, start=1):
-        with notes():
-            model = results.prevalence_model(formula, n_draws=args.n_draws)
+    for number, model in enumerate(models, start=1):
         for name, table in model.tables().items():
             with atomic_path(folder / f"{name}-{number}-{suffix}.csv") as tmp:
                 table.to_csv(tmp, index=False)
@@ -197,6 +197,5 @@ def run(args) -> int:
         if len(clear):
             shown = clear.sort_values("p_adjusted").head(default("n_topics"))
             print(shown[[*MODEL_SHOWN, "p_adjusted"]].round(3).to_string(index=False))
-    made_models = 3 * len(args.model)
-    print(f"Wrote {len(made) + made_models} tables to {folder}")
+    print(f"Wrote {len(made) + 3 * len(models)} tables to {folder}")
     return 0
