@@ -180,3 +180,32 @@ def test_cli_infer_writes_shares_and_report(tmp_path, prepared, corpus, capsys):
     assert main(["infer", str(project.path), str(bad), "--k", "3", "--as-source", "w"]) == 1
     err = capsys.readouterr().err
     assert err.startswith("Error: None of the 1 new documents") and err.count("\n") == 1
+
+
+def test_planted_topics_use_the_variational_e_step_with_fixed_topics():
+    from scipy.special import digamma
+
+    from tests._builders import build_prepared
+    from tm_compare.models.fits import Fit
+
+    vocab = ["ferry", "harbour", "court", "judge"]
+    topic_term = np.array([[0.45, 0.45, 0.05, 0.05], [0.05, 0.05, 0.45, 0.45]])
+    prepared = build_prepared(["only"], [vocab], vocab=vocab)  # tokens given, not prepared here
+    fit = Fit.from_arrays(prepared, topic_term, np.full((1, 2), 0.5))
+    frame = pd.DataFrame(
+        {"id": ["a", "b"], "source": "new", "text": ["ferry ferry harbour judge", "court zz"]}
+    )
+    new = infer(fit, prepared, frame, random_state=0)
+    assert new.report["n_unknown"].tolist() == [0, 1]
+    # Reference: Blei, Ng & Jordan (2003), section 5.2 / figure 6: iterate
+    # phi_wk ~ beta_kw exp(digamma(gamma_k)), gamma = alpha + sum_w n_w phi_w, beta fixed.
+    alpha = 1 / 2
+    for row, counts in enumerate(([2, 1, 0, 1], [0, 0, 1, 0])):
+        n = np.array(counts, dtype=float)
+        gamma = np.full(2, alpha + n.sum() / 2)
+        for _ in range(500):
+            phi = topic_term * np.exp(digamma(gamma))[:, None]
+            phi /= phi.sum(axis=0, keepdims=True)
+            gamma = alpha + phi @ n
+        # gensim stops once the mean change is below gamma_threshold (1e-3).
+        np.testing.assert_allclose(new.doc_dirichlet[row], gamma, atol=2e-3)
