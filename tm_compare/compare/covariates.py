@@ -39,6 +39,7 @@ import warnings
 import numpy as np
 import pandas as pd
 from scipy import stats
+from threadpoolctl import threadpool_limits
 
 from .._validation import param_error
 from ..errors import ComparisonError, InputError
@@ -223,6 +224,30 @@ def prevalence_model(
             g = rng.standard_gamma(gamma)
             draws.append((g / g.sum(axis=1, keepdims=True))[:, topics])
 
+    # One math-library thread, as fits use: statsmodels runs many small SVDs, which a BLAS
+    # spreading each over busy cores makes far slower.
+    with threadpool_limits(limits=1):
+        coef, pred, eff = _fit_topics(sm, x, weights, groups, draws, topics, names, contrasts)
+    settings = {
+        "formula": formula,
+        "weighting": weighting,
+        "cluster": cluster_name,
+        "n_clusters": n_clusters,
+        "n_docs": len(rows),
+        "n_draws": n_draws,
+        "ci_level": ci,
+        "random_state": random_state,
+    }
+    coefficients = _finish(pd.concat(coef, ignore_index=True), ci, settings, tests=True)
+    prevalence = _finish(_concat(pred, ["covariate", "value"]), ci, settings, tests=False)
+    effects = _finish(_concat(eff, ["covariate", "value", "reference"]), ci, settings, tests=True)
+    if len(effects):
+        effects["p_adjusted"] = stats.false_discovery_control(effects["p_value"].to_numpy())
+    return PrevalenceModel(coefficients, prevalence, effects, formula, settings)
+
+
+def _fit_topics(sm, x, weights, groups, draws, topics, names, contrasts):
+    """Per topic: statsmodels WLS with cluster-robust covariance on every draw, pooled."""
     coef, pred, eff = [], [], []
     for j, topic in enumerate(topics):
         params, covs = [], []
@@ -242,23 +267,7 @@ def prevalence_model(
             a = np.vstack(table["row"].to_numpy())
             est, se = _pool(params @ a.T, np.einsum("ci,mij,cj->mc", a, covs, a))
             out.append(table.drop(columns="row").assign(topic=topic, estimate=est, std_error=se))
-
-    settings = {
-        "formula": formula,
-        "weighting": weighting,
-        "cluster": cluster_name,
-        "n_clusters": n_clusters,
-        "n_docs": len(rows),
-        "n_draws": n_draws,
-        "ci_level": ci,
-        "random_state": random_state,
-    }
-    coefficients = _finish(pd.concat(coef, ignore_index=True), ci, settings, tests=True)
-    prevalence = _finish(_concat(pred, ["covariate", "value"]), ci, settings, tests=False)
-    effects = _finish(_concat(eff, ["covariate", "value", "reference"]), ci, settings, tests=True)
-    if len(effects):
-        effects["p_adjusted"] = stats.false_discovery_control(effects["p_value"].to_numpy())
-    return PrevalenceModel(coefficients, prevalence, effects, formula, settings)
+    return coef, pred, eff
 
 
 def _rhs(formula, owner: str) -> str:
