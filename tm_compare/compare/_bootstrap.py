@@ -29,6 +29,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.special import ndtr, ndtri
 from scipy.stats import false_discovery_control, poisson
+from threadpoolctl import threadpool_limits
 
 # Elements of one (replicates x units) count block: about 32 MB of float64, small enough to
 # stay near the caches; two blocks are in flight at a time.
@@ -155,7 +156,9 @@ def replicate(
         num[rows, s], den[rows, s] = both[:, :k], both[:, k]
 
     batches = np.array_split(np.arange(n_boot), n_redraws if redraw else 1)
-    with ThreadPoolExecutor(max_workers=1) as pool:
+    # One BLAS thread: drawing already keeps the other core busy, and a multi-threaded
+    # product of these thin blocks spends more CPU than it saves (measured here).
+    with threadpool_limits(limits=1, user_api="blas"), ThreadPoolExecutor(max_workers=1) as pool:
         pending: list[Future] = []
         for batch in batches:
             current = redraw(rng) if redraw else units
