@@ -354,12 +354,13 @@ def _decode_png(data: bytes) -> np.ndarray:
 
 
 def _cells(chars: str) -> list[np.ndarray]:
+    """Each character drawn in a cell of its own (vl-convert PNG), cropped to its ink."""
     import vl_convert
 
     width = 36
     data = pd.DataFrame({"t": list(chars), "x": np.arange(len(chars)) + 0.5})
     chart = (
-        alt.Chart(data)
+        alt.Chart(data, padding=0)
         .mark_text(fontSize=24)
         .encode(
             x=alt.X("x:Q", scale=alt.Scale(domain=[0, len(chars)]), axis=None),
@@ -369,8 +370,16 @@ def _cells(chars: str) -> list[np.ndarray]:
         .configure_view(stroke=None)
     )
     ink = _decode_png(vl_convert.vegalite_to_png(chart.to_dict(), scale=1)) < 128
-    left = np.flatnonzero(ink.any(axis=0)).min() - 4
-    return [ink[:, left + i * width : left + (i + 1) * width] for i in range(len(chars))]
+    out = []
+    for i in range(len(chars)):
+        cell = ink[:, i * width : (i + 1) * width]
+        rows, cols = np.flatnonzero(cell.any(axis=1)), np.flatnonzero(cell.any(axis=0))
+        out.append(
+            cell[rows.min() : rows.max() + 1, cols.min() : cols.max() + 1]
+            if len(rows)
+            else cell[:0, :0]
+        )
+    return out
 
 
 @pytest.mark.slow
