@@ -5,6 +5,7 @@ from __future__ import annotations
 import struct
 import warnings
 import zlib
+from types import SimpleNamespace
 
 import altair as alt
 import numpy as np
@@ -406,3 +407,24 @@ def test_exported_svg_keeps_accented_greek_and_cyrillic_text():
     svg = chart_svg(chart)
     for word in words:
         assert word.replace("'", "&#39;") in svg or word in svg, word
+
+
+def test_report_and_sources_panel_show_the_language_mix(mixed):
+    from tm_compare.models.fits import Fit
+    from tm_compare.report._sections import corpus_section
+    from tm_compare.results import ModelResults
+    from tm_compare.views._sources_panel import SourcesPanel
+
+    _, _, prepared, _ = mixed
+    rng = np.random.default_rng(0)
+    topic_term = rng.dirichlet(np.ones(len(prepared.dictionary)), size=3)
+    fit = Fit.from_arrays(prepared, topic_term, rng.dirichlet(np.ones(3), size=len(prepared)))
+    results = ModelResults(fit, prepared, n_boot=20)
+    # The section reads the prepared corpus and the removals table of the report's Results.
+    section = SimpleNamespace(
+        prepared=prepared, corpus=None, tables={"removals": prepared.report.to_frame()}
+    )
+    html = corpus_section(section)["languages"]
+    assert "german" in html and "english" in html
+    panel = SourcesPanel(results, on_pick=lambda topic: None)
+    assert "shared: " in panel.languages.value and "de " in panel.languages.value

@@ -65,11 +65,8 @@ def build_corpus(run: DemoRun) -> str:
     save_corpus(run.corpus, run.project)
     run.project.update_manifest(
         settings={
-            "demo": {
-                "n_docs": run.n_docs,
-                "random_state": run.random_state,
-                "language": run.language,
-            }
+            "demo": {"n_docs": run.n_docs, "random_state": run.random_state}
+            | ({} if run.language == "en" else {"language": run.language})
         }
     )
     f = run.frame

@@ -58,7 +58,7 @@ UNDETECTED = "und"
 #: Least normalised probability of the detector's best guess that counts as detected.
 MIN_CONFIDENCE = 0.5
 #: Characters of a document read by the detector (the rest adds time, not accuracy).
-DETECT_CHARS = 2000
+DETECT_CHARS = 600
 REASON_UNDETECTED = "language not detected"
 REASON_FALLBACK = "language not detected: prepared in the fallback language"
 
