@@ -428,3 +428,14 @@ def test_report_and_sources_panel_show_the_language_mix(mixed):
     assert "german" in html and "english" in html
     panel = SourcesPanel(results, on_pick=lambda topic: None)
     assert "shared: " in panel.languages.value and "de " in panel.languages.value
+
+
+@pytest.mark.slow
+def test_cli_demo_in_german(tmp_path, capsys):
+    args = ["demo", "--project", str(tmp_path / "de"), "--docs", "300", "--language", "de"]
+    args += ["--k", "6,8", "--seeds", "1", "--passes", "2", "--n-boot", "20", "--no-progress"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    assert "Sperrwerk" in (tmp_path / "de" / "demo" / "quillhaven.csv").read_text(encoding="utf-8")
+    assert "Languages" in (tmp_path / "de" / "report" / "report.html").read_text(encoding="utf-8")
+    assert "Project folder" in out
