@@ -439,3 +439,17 @@ def test_cli_demo_in_german(tmp_path, capsys):
     assert "Sperrwerk" in (tmp_path / "de" / "demo" / "quillhaven.csv").read_text(encoding="utf-8")
     assert "Languages" in (tmp_path / "de" / "report" / "report.html").read_text(encoding="utf-8")
     assert "Project folder" in out
+
+
+def test_lemmas_are_dictionary_forms():
+    # German and French dictionary forms (from memory of their grammars: "Häfen" is the plural
+    # of "Hafen", "gestiegen" the participle of "steigen", "écoles" the plural of "école").
+    pytest.importorskip("simplemma")
+    text = "Häfen Schulen Stadträte gestiegen Häfen Schulen Stadträte gestiegen"
+    fr = "écoles boutiques écoles boutiques"
+    corpus = Corpus.from_frame(pd.DataFrame({"text": [text, fr], "source": ["a", "b"]}))
+    with pytest.warns(UserWarning, match="mixes 2 languages"):
+        out = prepare(corpus, language=["de", "fr"], stem="lemma", **LOOSE)
+    assert sorted(set(out.texts[0])) == ["hafen", "schule", "stadtrat", "steigen"]
+    assert sorted(set(out.texts[1])) == ["boutique", "école"]
+    assert out.settings["stem"] == "lemma"

@@ -48,6 +48,11 @@ def register(subparsers) -> None:
         "--stem", action="store_true", help="Snowball stemming in each document's language [off]"
     )
     knobs.add_argument(
+        "--lemmas",
+        action="store_true",
+        help="dictionary forms instead of stems (needs tm_compare[lemmas]) [off]",
+    )
+    knobs.add_argument(
         "--keep-numbers", action="store_true", help="keep tokens with digits [dropped]"
     )
     knobs.add_argument(
@@ -99,7 +104,7 @@ def settings_from_args(args) -> dict:
             "min_doc_tokens",
         )
     }
-    settings["stem"] = "snowball" if args.stem else None
+    settings["stem"] = "lemma" if args.lemmas else "snowball" if args.stem else None
     settings["language"] = args.language
     settings["undetected"] = args.undetected
     settings["drop_numbers"] = not args.keep_numbers

@@ -8,7 +8,9 @@ those only). Each document is then prepared in its own language:
   language takes the list of the ``stop-words`` package (BSD-3-Clause, its lists ship inside
   the wheel) unchanged, plus the few news words listed in :data:`ADDITIONS`;
 - **stemming** (``stem="snowball"``): the Snowball stemmer of that language, from
-  ``snowballstemmer`` (pure Python, BSD-3-Clause);
+  ``snowballstemmer`` (pure Python, BSD-3-Clause); or **lemmas** (``stem="lemma"``): the
+  dictionary form from ``simplemma`` (MIT; its dictionaries ship inside the wheel; the optional
+  extra ``tm_compare[lemmas]``), lower-cased ("Häfen" -> "hafen", "gestiegen" -> "steigen");
 - **elisions**: French, Italian and Catalan articles and prepositions written with an apostrophe
   are cut off a word ("l'école" -> "école", "dell'anno" -> "anno"); only English cuts a trailing
   possessive "'s". Compounds (German "Sturmflutwarnung") stay whole: tokens split only at spaces
@@ -74,6 +76,7 @@ class Language:
     detector: str  # code in py3langid's model
     elisions: frozenset = frozenset()
     possessive: bool = False
+    lemmas: str = ""  # code in simplemma
 
 
 def _lang(code, name, stop=None, detector=None, elisions="", possessive=False):
@@ -85,6 +88,7 @@ def _lang(code, name, stop=None, detector=None, elisions="", possessive=False):
         detector or code,
         frozenset(elisions.split()),
         possessive,
+        stop or code,
     )
 
 
@@ -199,8 +203,24 @@ def stop_words(code: str) -> frozenset[str]:
     return frozenset(words | ADDITIONS.get(code, frozenset()))
 
 
-def stemmer(code: str):
-    """The Snowball stemmer of ``code``, as a function of one word."""
+def stemmer(code: str, method: str = "snowball"):
+    """The Snowball stemmer of ``code`` (or, with ``method="lemma"``, simplemma's lemmatiser,
+    lower-cased), as a function of one word."""
+    if method == "lemma":
+        from .._validation import require
+        from ._tokens import normalise
+
+        simplemma = require("simplemma", "lemmas")
+        lang = LANGUAGES[code].lemmas
+
+        def lemma(word: str) -> str:
+            # Tokens are lower-cased, but German nouns are capitalised in the dictionaries.
+            found = simplemma.lemmatize(word, lang=lang)
+            if found == word:
+                found = simplemma.lemmatize(word.capitalize(), lang=lang)
+            return normalise(found)
+
+        return lemma
     import snowballstemmer
 
     return snowballstemmer.stemmer(LANGUAGES[code].snowball).stemWord
@@ -209,7 +229,7 @@ def stemmer(code: str):
 def versions() -> dict[str, str]:
     """Versions of the libraries whose lists, stemmers and model shape a prepared corpus."""
     out = {}
-    for dist in ("stop-words", "snowballstemmer", "py3langid"):
+    for dist in ("stop-words", "snowballstemmer", "py3langid", "simplemma"):
         try:
             out[dist] = metadata.version(dist)
         except metadata.PackageNotFoundError:
@@ -410,7 +430,7 @@ class TokensByLanguage:
             for d, code in zip(docs, langs, strict=True)
         ]
 
-    def classify(self, stop_set, *, stem: bool, connectors: frozenset, **rules):
+    def classify(self, stop_set, *, stem: str | None, connectors: frozenset, **rules):
         """Forms and kinds of every raw token, each classified by the rules of its language."""
         from ._tokens import classify
 
@@ -422,7 +442,7 @@ class TokensByLanguage:
                 index.strings,
                 stop_words=stop,
                 connectors=frozenset(connectors & stop) if code == "en" else frozenset(),
-                stem=stemmer(code) if stem and lang is not None else None,
+                stem=stemmer(code, stem) if stem and lang is not None else None,
                 elisions=lang.elisions if lang is not None else frozenset(),
                 possessive=lang.possessive if lang is not None else False,
                 **rules,

@@ -11,8 +11,9 @@
    one source (and group) merge into the fullest copy, their weights added;
    copies in different sources both stay, flagged ``cross_source_duplicate``;
 4. stop words (of each document's language), numbers and too short/long
-   tokens dropped, optional Snowball stemming (of that language), then n-gram phrases joined with gensim's ``Phrases`` (Mikolov et
-   al. 2013, eq. 6); phrases never span punctuation or a dropped word, except
+   tokens dropped, optional Snowball stemming or lemmas (of that language),
+   then n-gram phrases joined with gensim's ``Phrases`` (Mikolov et al. 2013,
+   eq. 6); phrases never span punctuation or a dropped word, except
    the connector words gensim allows inside a phrase ("cost_of_living");
 5. vocabulary pruned by the rules of gensim's ``Dictionary.filter_extremes``;
 6. documents shorter than ``min_doc_tokens`` counted out in the report.
@@ -147,9 +148,9 @@ def prepare(
         list instead.
     extra_stop_words : list of str
         Added to ``stop_words``.
-    stem : None or "snowball"
+    stem : None, "snowball" or "lemma"
         Snowball stemming of kept words, by the stemmer of each document's language
-        (Porter2 for English).
+        (Porter2 for English), or their dictionary forms (simplemma; ``tm_compare[lemmas]``).
     boilerplate : bool, default True
     boilerplate_by : str, optional
         Column grouping documents for boilerplate lines; default "outlet" if
@@ -420,7 +421,7 @@ def _check_settings(corpus, settings: dict) -> dict:
     for name in ("boilerplate_min_share", "near_duplicate_threshold", "max_doc_fraction"):
         need(name, _is_real(s[name]) and 0 < s[name] <= 1, "a number in (0, 1]")
     need("phrase_threshold", _is_real(s["phrase_threshold"]), "a number")
-    check_choice("prepare", "stem", s["stem"], [None, "snowball"])
+    check_choice("prepare", "stem", s["stem"], [None, "snowball", "lemma"])
     s["language"] = check_language("prepare", s["language"])
     if s["undetected"] != "remove":
         s["undetected"] = check_language("prepare", s["undetected"])
@@ -565,7 +566,7 @@ def _build(corpus, s: dict, progress: bool) -> dict:
     connectors = frozenset(ENGLISH_CONNECTOR_WORDS & _stop_set(s, "en"))
     forms, kinds = index.classify(
         partial(_stop_set, s),
-        stem=s["stem"] == "snowball",
+        stem=s["stem"],
         connectors=connectors,
         drop_numbers=s["drop_numbers"],
         min_length=s["min_token_length"],
