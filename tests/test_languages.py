@@ -437,7 +437,11 @@ def test_cli_demo_in_german(tmp_path, capsys):
     assert main(args) == 0
     out = capsys.readouterr().out
     assert "Sperrwerk" in (tmp_path / "de" / "demo" / "quillhaven.csv").read_text(encoding="utf-8")
-    assert "Languages" in (tmp_path / "de" / "report" / "report.html").read_text(encoding="utf-8")
+    report = (tmp_path / "de" / "report" / "report.html").read_text(encoding="utf-8")
+    assert "Languages" in report
+    planted = {w for words in truth(300, 0, "de").theme_words.values() for w in words}
+    shown = {w for w in planted if w in report}
+    assert len(shown) >= 10 and any(set(w) & set("äöüß") for w in shown)  # German, as written
     assert "Project folder" in out
 
 
