@@ -33,6 +33,8 @@ _EXPORTS = {
     "PreparedCorpus": "text.prepared",
     "load_prepared": "text.prepared",
     "RemovalLog": "text.removals",
+    "SUPPORTED_LANGUAGES": "text.languages",
+    "detect_languages": "text.languages",
     "Project": "project",
     "Fit": "models.fits",
     "fit_lda": "models.fits",

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import time
 
+from ..demo.quillhaven import DEMO_LANGUAGES
 from ..demo.run import DEFAULT_PROJECT, GRID, N_BOOT
 from . import add_option
 from ._sweep import k_grid, seed_list
@@ -43,6 +44,13 @@ def register(subparsers) -> None:
         renamed=("--seed",),
         metavar="S",
         help="seed of the invented corpus: the same seed gives the same corpus",
+    )
+    parser.add_argument(
+        "--language",
+        choices=DEMO_LANGUAGES,
+        default="en",
+        help="language of the invented articles; de+en mixes German and English articles, "
+        "detects each one's language and reports the mix",
     )
     grid = parser.add_argument_group("sweep and comparison (smaller is faster)")
     grid.add_argument(
@@ -91,6 +99,7 @@ def run(args) -> int:
         passes=args.passes,
         n_boot=args.n_boot,
         progress=not args.no_progress,
+        language=args.language,
     )
     folder = result.project.path.resolve()
     print(f"\n== Summary ({time.perf_counter() - started:.0f} s in all) ==")

@@ -47,13 +47,14 @@ class DemoRun:
     results: Any = None
     report_path: Path | None = None
     exported: list = field(default_factory=list)
+    language: str = "en"
 
 
 def build_corpus(run: DemoRun) -> str:
     """Generate the invented articles, keep them as a CSV file, and take them in as a corpus."""
     from ..text.corpus import Corpus, save_corpus
 
-    run.frame, run.truth = demo.scenario(run.n_docs, run.random_state)
+    run.frame, run.truth = demo.scenario(run.n_docs, run.random_state, run.language)
     folder = run.project.folder(DEMO_FOLDER)
     with atomic_path(folder / "quillhaven.csv") as tmp:
         run.frame.to_csv(tmp, index=False)
@@ -63,7 +64,10 @@ def build_corpus(run: DemoRun) -> str:
     run.corpus = Corpus.from_frame(run.frame, **demo.CORPUS_COLUMNS)
     save_corpus(run.corpus, run.project)
     run.project.update_manifest(
-        settings={"demo": {"n_docs": run.n_docs, "random_state": run.random_state}}
+        settings={
+            "demo": {"n_docs": run.n_docs, "random_state": run.random_state}
+            | ({} if run.language == "en" else {"language": run.language})
+        }
     )
     f = run.frame
     return "\n".join(
@@ -83,9 +87,13 @@ def build_corpus(run: DemoRun) -> str:
 
 def prepare_corpus(run: DemoRun) -> str:
     """Prepare the corpus for LDA (cached in the project) and say what was removed."""
+    from ..text.languages import describe_mix
     from ..text.prepared import prepare
 
-    run.prepared = prepare(run.corpus, project=run.project)
+    codes = run.language.split("+")  # a mixed demo detects each article's language
+    run.prepared = prepare(
+        run.corpus, project=run.project, language=codes[0] if len(codes) == 1 else codes
+    )
     meta = run.prepared.meta
     merged = meta[meta["duplicate_ids"].map(len) > 0]
     lines = [
@@ -101,6 +109,8 @@ def prepare_corpus(run: DemoRun) -> str:
         "",
         str(run.prepared.report),
     ]
+    if "+" in run.language:
+        lines += ["", "Languages detected per source:", describe_mix(run.prepared)]
     return "\n".join(lines)
 
 
@@ -334,6 +344,7 @@ def run_demo(
     passes: int = GRID["passes"],
     n_boot: int = N_BOOT,
     progress: bool = True,
+    language: str = "en",
 ) -> DemoRun:
     """Build the Quillhaven demo project and run every step of the job on it.
 
@@ -351,10 +362,14 @@ def run_demo(
         Bootstrap replicates of the comparison.
     progress : bool
         Show progress bars.
+    language : "en", "de" or "de+en"
+        Language of the invented articles; "de+en" mixes both, prepares each article in the
+        language detected for it and reports the mix (see ``tm_compare.demo.DEMO_LANGUAGES``).
     """
-    demo._check("run_demo", n_docs, random_state)  # before any folder is made
+    demo._check("run_demo", n_docs, random_state, language)  # before any folder is made
     grid = {"k": tuple(k), "seeds": seeds, "passes": passes}
     run = DemoRun(Project.create(project), int(n_docs), int(random_state), grid, n_boot, progress)
+    run.language = language
     for title, step in STEPS:
         report = step(run)
         if echo is not None:
