@@ -452,7 +452,7 @@ def _make_v1_store(url):
 def test_v1_store_is_upgraded_in_place(store_url):
     _make_v1_store(store_url)
     with LabelStore(store_url, analyst="Ben Harrow") as store:
-        assert store.schema_version == 2
+        assert store.schema_version == _label_schema.SCHEMA_VERSION
         assert store.history(MODEL)["name"].tolist() == ["Harbour", "Harbour works"]
         store.define_category("Economy")
         store.save(MODEL, 0, name="Port economy", category="Economy")
@@ -482,7 +482,7 @@ def test_failed_upgrade_leaves_the_old_store_untouched(store_url, monkeypatch):
     engine.dispose()
     monkeypatch.undo()
     with LabelStore(store_url, analyst="Ben Harrow") as store:
-        assert store.schema_version == 2
+        assert store.schema_version == _label_schema.SCHEMA_VERSION
 
 
 def test_store_from_newer_package_is_refused(ana, store_url):
