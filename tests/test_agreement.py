@@ -13,7 +13,7 @@ from tm_compare.labels.agreement import (
     agreement_summary,
     agreement_table,
     can_compute,
-    explain,
+    explain_agreement,
     krippendorff_alpha,
     percent_agreement,
 )
@@ -166,12 +166,12 @@ def test_cannot_compute_exactly_when_the_reference_library_refuses(table, refere
 def test_sentence_for_no_shared_topics_names_what_is_needed():
     summary = agreement_summary([["usable", None], [None, "noise"]])
     assert summary["n_units"] == 0
-    assert explain(summary, "verdicts") == f"Agreement on verdicts {NEEDS_TWO_ANALYSTS}."
+    assert explain_agreement(summary, "verdicts") == f"Agreement on verdicts {NEEDS_TWO_ANALYSTS}."
     assert NEEDS_TWO_ANALYSTS == "needs labels from 2 analysts on the same topics"
 
 
 def test_sentence_for_no_variation_says_why_and_that_they_agree():
-    text = explain(agreement_summary([["a", "a"], ["a", "a"], ["a", None]]), "categories")
+    text = explain_agreement(agreement_summary([["a", "a"], ["a", "a"], ["a", None]]), "categories")
     assert "cannot be computed yet" in text and "2 topics labelled by 2 analysts" in text
     assert "nan" not in text.lower()
 
@@ -188,7 +188,7 @@ def test_sentence_quotes_the_alpha_of_the_reference_library(seed):
     )
     row = agreement_table(table).iloc[-1]
     assert can_compute(row)
-    text = explain(row, "verdicts")
+    text = explain_agreement(row, "verdicts")
     assert f"is {reference:.2f} on " in text
     band = "reliable" if reference >= 0.8 else "tentative" if reference >= 0.667 else "too low"
     assert band in text
@@ -197,6 +197,6 @@ def test_sentence_quotes_the_alpha_of_the_reference_library(seed):
 def test_sentence_on_the_worked_example():
     # Krippendorff (2011): alpha = 0.743 on 11 pairable units by 4 observers, which his
     # (2004) bands place between 0.667 and 0.800: tentative conclusions only.
-    text = explain(agreement_table(UNITS_BY_CODERS).iloc[-1], "verdicts")
+    text = explain_agreement(agreement_table(UNITS_BY_CODERS).iloc[-1], "verdicts")
     assert text.startswith("Krippendorff's alpha for verdicts is 0.74 on 11 topics labelled by 4")
     assert "tentative conclusions only" in text

@@ -11,7 +11,7 @@ import pandas as pd
 from .._deprecation import warn_renamed
 from ..errors import LabelStoreError
 from ..labels._schema import LABEL_FIELDS
-from ..labels.agreement import can_compute, explain
+from ..labels.agreement import can_compute, explain_agreement
 from ..models.sweeps import load_fit
 from ..project import Project
 
@@ -174,7 +174,7 @@ def run(args) -> int:
             table = store.agreement(fit)
             if not (args.format or args.out):  # on screen: sentences, and figures only where alpha exists
                 overall = table[table["scope"] == "overall"].to_dict("records")
-                lines = [explain(row) for row in overall]
+                lines = [explain_agreement(row) for row in overall]
                 _write("\n".join(lines) + "\n", None)
                 if any(map(can_compute, overall)):
                     _emit(table[table["n_coders"] >= 2], args)

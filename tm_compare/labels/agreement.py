@@ -182,7 +182,7 @@ def can_compute(row) -> bool:
     return row["n_units"] > 0 and alpha is not None and not pd.isna(alpha)
 
 
-def explain(row, what: str | None = None) -> str:
+def explain_agreement(row, what: str | None = None) -> str:
     """One plain sentence about a row of an agreement table or a summary dict.
 
     ``what`` names what was labelled (default: from the row's ``field``, e.g. "verdicts").

@@ -21,7 +21,7 @@ import pandas as pd
 
 from .._html import esc
 from ..errors import LabelConflictError, TmCompareError
-from ..labels.agreement import FIELD_WORDS, NEEDS_TWO_ANALYSTS, explain
+from ..labels.agreement import FIELD_WORDS, NEEDS_TWO_ANALYSTS, explain_agreement
 from ..labels.store import LabelStore
 
 _TABLE = "border-collapse:collapse;font-size:12px;margin:2px 0 8px 0;max-width:100%"
@@ -83,7 +83,9 @@ def agreement_html(table: pd.DataFrame | None, topic: int) -> str:
     if overall.empty or not (overall["n_units"] > 0).any():
         parts.append(f'<div style="font-size:12px">Agreement {NEEDS_TWO_ANALYSTS}.</div>')
     else:
-        items = "".join(f"<li>{esc(explain(row))}</li>" for row in overall.to_dict("records"))
+        items = "".join(
+            f"<li>{esc(explain_agreement(row))}</li>" for row in overall.to_dict("records")
+        )
         parts.append(
             f'<div style="font-size:12px">Over all topics:<ul style="margin:2px 0 4px 0;'
             f'padding-left:18px">{items}</ul></div>'
