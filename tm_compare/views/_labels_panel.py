@@ -208,7 +208,7 @@ class LabelsPanel(w.VBox):
 
     def _build_category_editor(self) -> w.VBox:
         self.category_text = w.Text(
-            placeholder="category name", layout=w.Layout(width="100%"), description="Category"
+            placeholder="category name", layout=w.Layout(width="100%"), description="New name"
         )
         buttons = []
         for text, action, tip in (
