@@ -248,6 +248,23 @@ def test_retired_category_is_not_offered_and_labels_keep_it(ana, ben):
     assert ana.check().ok
 
 
+def test_label_file_carries_renames_and_retirements(ana, tmp_path):
+    ana.define_categories([("Crime", "police, courts"), "Ferries"])
+    ana.save(MODEL, 0, name="Court cases", category="Crime")
+    ana.save(MODEL, 1, name="Ferry timetable", category="Ferries")
+    ana.rename_category("Crime", "Courts")
+    ana.retire_category("Ferries")
+    path = ana.export(MODEL, tmp_path / "labels.json", history=True)
+    with LabelStore(tmp_path / "elsewhere.sqlite", analyst="Ben Harrow") as fresh:
+        assert fresh.import_labels(path, fit=MODEL) == {"added": 2, "skipped": 0}
+        assert fresh.import_labels(path, fit=MODEL) == {"added": 0, "skipped": 2}
+        assert fresh.categories() == ["Courts"]
+        assert fresh.categories(retired=True) == ["Courts", "Ferries"]
+        assert fresh.category_aliases()["Crime"] == "Courts"
+        assert fresh.current(MODEL)["category"].tolist() == ["Crime", "Ferries"]  # as saved
+        assert fresh.check().ok
+
+
 def test_saving_an_unchanged_label_adds_no_version(ana):
     first = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="usable", confidence=0.7)
     again = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="usable", confidence=0.7)

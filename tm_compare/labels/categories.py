@@ -91,25 +91,50 @@ def _taken(conn, name: str, cid: int | None = None) -> str | None:
 
 def add(conn, entries: list[dict]) -> list[str]:
     """Define categories (dicts with ``category``, ``description``, ``added_by`` and optionally
-    ``created_at``); names already defined are skipped. Returns the names added."""
+    ``created_at``, and, from a label file's codebook, ``former_names``, ``retired_at`` and
+    ``retired_by``); names already defined are skipped. Returns the names added."""
     known = {r.category for r in _rows(conn)} | set(_former(conn))
     added = []
     for entry in entries:
-        if entry["category"] in known:
-            continue
-        when = entry.get("created_at") or _s.utc_now()
-        cid = conn.execute(
-            _cb.insert().values(
-                category=entry["category"],
-                description=entry.get("description") or "",
-                added_by=entry["added_by"],
-                created_at=when,
-            )
-        ).inserted_primary_key[0]
-        _log(conn, cid, "defined", None, entry["category"], entry["added_by"], when)
-        known.add(entry["category"])
-        added.append(entry["category"])
+        name = entry["category"]
+        if name not in known:
+            when = entry.get("created_at") or _s.utc_now()
+            cid = conn.execute(
+                _cb.insert().values(
+                    category=name,
+                    description=entry.get("description") or "",
+                    added_by=entry["added_by"],
+                    created_at=when,
+                    retired_at=entry.get("retired_at"),
+                    retired_by=entry.get("retired_by"),
+                )
+            ).inserted_primary_key[0]
+            _log(conn, cid, "defined", None, name, entry["added_by"], when)
+            known.add(name)
+            added.append(name)
+        cid = next((r.id for r in _rows(conn) if r.category == name), None)
+        for old in entry.get("former_names") or []:
+            if cid is not None and old not in known:  # keeps labels saved under it readable
+                _log(conn, cid, "renamed", old, name, entry["added_by"])
+                known.add(old)
     return added
+
+
+def codebook_frame(conn) -> pd.DataFrame:
+    """Every category with its description, who added it and when, its retirement, and its
+    former names (a list): what a label file carries so that an import keeps all of it."""
+    former: dict[int, list[str]] = {}
+    for old, cid in _former(conn).items():
+        former.setdefault(cid, []).append(old)
+    columns = ["category", "description", "added_by", "created_at", "retired_at", "retired_by"]
+    rows = [
+        {
+            **{c: getattr(r, c) for c in columns},
+            "former_names": [n for n in former.get(r.id, []) if n != r.category],
+        }
+        for r in _rows(conn)
+    ]
+    return pd.DataFrame(rows, columns=[*columns, "former_names"])
 
 
 def _find(conn, owner: str, name: str):
@@ -251,21 +276,10 @@ class CategoriesMixin:
         """Every category: ``category``, ``description``, ``status`` ("in use" or "retired"),
         ``former_names`` (comma-separated), ``added_by``, ``created_at``."""
         with self._guard(), self._engine.connect() as conn:
-            former: dict[int, list[str]] = {}
-            for old, cid in _former(conn).items():
-                former.setdefault(cid, []).append(old)
-            rows = [
-                {
-                    "category": r.category,
-                    "description": r.description,
-                    "status": "retired" if r.retired_at else "in use",
-                    "former_names": ", ".join(n for n in former.get(r.id, []) if n != r.category),
-                    "added_by": r.added_by,
-                    "created_at": r.created_at,
-                }
-                for r in _rows(conn)
-            ]
-        return pd.DataFrame(rows, columns=list(CATEGORY_COLUMNS))
+            frame = codebook_frame(conn)
+        frame["status"] = ["retired" if r else "in use" for r in frame["retired_at"].notna()]
+        frame["former_names"] = frame["former_names"].map(", ".join)
+        return frame[list(CATEGORY_COLUMNS)]
 
     def category_history(self) -> pd.DataFrame:
         """Every change to the codebook, oldest first: ``category`` (its current name),

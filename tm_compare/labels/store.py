@@ -299,17 +299,10 @@ class LabelStore(_categories.CategoriesMixin):
         _categories.add(conn, entries)  # codebook entries of an imported label file
 
     def codebook(self) -> pd.DataFrame:
-        """The codebook: ``category``, ``description``, ``added_by``, ``created_at``."""
-        cb = _s.codebook
-        rows = self._read(
-            sa.select(cb.c.category, cb.c.description, cb.c.added_by, cb.c.created_at).order_by(
-                cb.c.id
-            )
-        )
-        return pd.DataFrame(
-            [dict(r._mapping) for r in rows],
-            columns=["category", "description", "added_by", "created_at"],
-        )
+        """The codebook: ``category``, ``description``, ``added_by``, ``created_at``,
+        ``retired_at``, ``retired_by`` and ``former_names`` (a list), as label files carry it."""
+        with self._guard(), self._engine.connect() as conn:
+            return _categories.codebook_frame(conn)
 
     # --- rounds and visibility --------------------------------------------------------------
 
@@ -515,7 +508,8 @@ class LabelStore(_categories.CategoriesMixin):
         if values["verdict"] is not None:
             check_choice(owner, "verdict", values["verdict"], _s.read_verdicts(conn))
         known = list(conn.execute(_s.CATEGORIES).scalars()) if values["category"] else []
-        if values["category"] is not None and values["category"] not in known:
+        former = _categories.aliases(conn) if values["category"] not in known else {}
+        if values["category"] is not None and values["category"] not in {*known, *former}:
             listed = ", ".join(map(repr, known)) or "none yet"
             fix = "Add it first with store.define_category(...)."
             raise param_error(
@@ -651,6 +645,7 @@ class LabelStore(_categories.CategoriesMixin):
             raise LabelStoreError(msg)
         values = {"name": name, "note": note, "verdict": verdict, "category": category}
         with self._guard(), _s.write_transaction(self._engine) as conn:
+            _categories.refuse_for_new_label(conn, values["category"])
             values = self._clean(conn, values)
             current = [r for r in self._current_rows(conn, fit) if r.topic == topic]
             if from_labels is None:

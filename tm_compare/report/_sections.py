@@ -15,6 +15,7 @@ import math
 import pandas as pd
 
 from .. import _html
+from ..labels.agreement import explain_agreement
 from .exports import chart_svg, charts
 
 WORDS = 8  # top terms shown per topic
@@ -376,6 +377,7 @@ def labels_section(results) -> dict:
                 "alpha": num(r.alpha, 2),
                 "percent": f"{r.percent_agreement:.0%}",
                 "units": int(r.n_units),
+                "sentence": explain_agreement(r._asdict()),  # says what is missing, if alpha is
             }
             for r in overall.itertuples(index=False)
         ],
