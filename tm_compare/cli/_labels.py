@@ -21,7 +21,7 @@ ACTIONS = ("list", "export", "import", "agreement", "categories")
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "labels",
-        help="list, export, import topic labels and report coder agreement",
+        help="list, export, import topic labels, report coder agreement, edit the categories",
         description=(
             "Work with a project's topic labels. The store is PROJECT/labels.sqlite unless "
             "--store gives another (e.g. a PostgreSQL URL). Pick the fit by its fingerprint "
