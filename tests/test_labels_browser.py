@@ -43,13 +43,13 @@ def _notebook(path, *sources):
 
 
 def _covered(page, element) -> list[str]:
-    """Points of ``element`` (corners inset by 3 px, and its centre) where another element lies
+    """Points of ``element`` (corners inset by 1 px, and its centre) where another element lies
     on top of it, or that fall outside the window."""
     return element.evaluate(
         """el => {
             const r = el.getBoundingClientRect();
-            const points = [[r.left + 3, r.top + 3], [r.right - 3, r.top + 3],
-                            [r.left + 3, r.bottom - 3], [r.right - 3, r.bottom - 3],
+            const points = [[r.left + 1, r.top + 1], [r.right - 1, r.top + 1],
+                            [r.left + 1, r.bottom - 1], [r.right - 1, r.bottom - 1],
                             [(r.left + r.right) / 2, (r.top + r.bottom) / 2]];
             return points.filter(([x, y]) => {
                 if (x < 0 || y < 0 || x > window.innerWidth || y > window.innerHeight) return true;
@@ -126,19 +126,32 @@ def test_label_categories_and_agreement_in_jupyterlab(tmp_path):
         assert re.fullmatch(r"\d{1,2} [A-Z][a-z]{2} \d\d:\d\d", stamp.inner_text().strip())
         assert re.fullmatch(r"\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.\d{6}Z", stamp.get_attribute("title"))
 
-        # At 1,000 px the name and note inputs are whole and nothing lies on top of them.
-        for field in (
-            form.locator(".widget-text:has(label:text-is('Name')) input"),
-            form.locator(".widget-textarea textarea"),
-        ):
-            field.scroll_into_view_if_needed()
-            assert _covered(page, field) == []
-        reading = form.locator(".tmc-label-reading").bounding_box()
-        name_box = form.locator(".widget-text:has(label:text-is('Name')) input").bounding_box()
-        beside = name_box["x"] + name_box["width"] <= reading["x"]
-        below = reading["y"] >= name_box["y"] + name_box["height"]
-        assert beside or below
-        form.screenshot(path=str(ARTIFACTS / "labels-form-1000px.png"))
+        # At 1,000 px the name and note inputs are whole and nothing lies on top of them, both
+        # with JupyterLab's file browser open (the tables wrap under the form) and closed (the
+        # tables sit beside it).
+        layouts = {}
+        for sidebar in ("open", "closed"):
+            if sidebar == "closed":
+                page.locator(".jp-Notebook").first.click()
+                page.keyboard.press("Escape")
+                page.keyboard.press("Control+b")  # JupyterLab: show or hide the left area
+                page.wait_for_timeout(1000)
+            reading = form.locator(".tmc-label-reading").bounding_box()
+            column = form.locator(".tmc-label-form").bounding_box()
+            for field in (
+                form.locator(".widget-text:has(label:text-is('Name')) input"),
+                form.locator(".widget-textarea textarea"),
+            ):
+                field.scroll_into_view_if_needed()
+                assert _covered(page, field) == [], sidebar
+                box = field.bounding_box()
+                assert box["x"] + box["width"] <= column["x"] + column["width"] + 0.5, sidebar
+            beside = reading["x"] >= column["x"] + column["width"] - 0.5
+            below = reading["y"] >= column["y"] + column["height"] - 0.5
+            assert beside or below, sidebar
+            layouts[sidebar] = "beside" if beside else "below"
+            form.screenshot(path=str(ARTIFACTS / f"labels-form-1000px-sidebar-{sidebar}.png"))
+        assert layouts == {"open": "below", "closed": "beside"}
 
         # Rename the new category from the form: the store keeps the old name in its history.
         category.select_option(label="harbour")

@@ -25,10 +25,9 @@ from ..labels.agreement import FIELD_WORDS, NEEDS_TWO_ANALYSTS, explain_agreemen
 from ..labels.store import LabelStore
 
 _TABLE = "border-collapse:collapse;font-size:12px;margin:2px 0 8px 0;max-width:100%"
-_CELL = (
-    "padding:2px 8px;border-top:1px solid #e3e6ea;text-align:left;vertical-align:top;"
-    "overflow-wrap:anywhere"
-)
+_CELL = "padding:2px 8px;border-top:1px solid #e3e6ea;text-align:left;vertical-align:top"
+# Free text wraps anywhere (a long name never widens the table); short fields stay on one line.
+_WRAPPING = ("name", "note")
 _MUTED = "color:#6b7078;font-size:12px"
 # Column headings of the tables, in words (the stored field names stay in the API).
 _HEADINGS = {"created_at": "saved", "retracted": "withdrawn", "confidence": "confidence"}
@@ -53,7 +52,8 @@ def _cell(column: str, value) -> str:
         value = "yes" if value else ""
     elif isinstance(value, float):
         value = f"{value:.2f}"
-    return f'<td style="{_CELL}">{esc(value)}</td>'
+    wrap = "overflow-wrap:anywhere;min-width:6em" if column in _WRAPPING else "white-space:nowrap"
+    return f'<td style="{_CELL};{wrap}">{esc(value)}</td>'
 
 
 def label_table(frame: pd.DataFrame, columns: list[str]) -> str:
@@ -62,7 +62,8 @@ def label_table(frame: pd.DataFrame, columns: list[str]) -> str:
     if frame.empty:
         return f'<div style="{_MUTED}">None yet.</div>'
     head = "".join(
-        f'<th scope="col" style="{_CELL}">{esc(_HEADINGS.get(c, c))}</th>' for c in columns
+        f'<th scope="col" style="{_CELL};white-space:nowrap">{esc(_HEADINGS.get(c, c))}</th>'
+        for c in columns
     )
     rows = "".join(
         "<tr>" + "".join(_cell(c, row.get(c)) for c in columns) + "</tr>"
@@ -88,7 +89,7 @@ def agreement_html(table: pd.DataFrame | None, topic: int) -> str:
         )
         parts.append(
             f'<div style="font-size:12px">Over all topics:<ul style="margin:2px 0 4px 0;'
-            f'padding-left:18px">{items}</ul></div>'
+            f'padding-left:18px;line-height:1.4">{items}</ul></div>'
         )
     here = table[(table["scope"] == "topic") & (table["topic"] == topic)]
     if not here.empty and (here["n_coders"] >= 2).any():
@@ -131,7 +132,7 @@ class LabelsPanel(w.VBox):
         self._data: dict | None = None
         self._lock = threading.RLock()
         self._stop = threading.Event()
-        wide = w.Layout(width="100%")
+        wide = w.Layout(width="auto")  # fills the form column, margins included
         self.analyst = w.Text(value=store.analyst or "", description="Analyst", layout=wide)
         self.name = w.Text(
             description="Name", placeholder="a short name for the topic", layout=wide
@@ -139,10 +140,12 @@ class LabelsPanel(w.VBox):
         self.note = w.Textarea(
             description="Note",
             placeholder="why this name; doubts",
-            layout=w.Layout(width="100%", height="60px"),
+            layout=w.Layout(width="auto", height="60px"),
         )
         self.verdict = w.Dropdown(description="Verdict", layout=wide)
-        self.category = w.Dropdown(description="Category", layout=w.Layout(flex="1 1 auto"))
+        self.category = w.Dropdown(
+            description="Category", layout=w.Layout(width="auto", flex="1 1 0%", min_width="0")
+        )
         self.edit_categories = w.ToggleButton(
             description="Edit list",
             tooltip="Add, rename or retire the team's categories",
@@ -208,7 +211,7 @@ class LabelsPanel(w.VBox):
 
     def _build_category_editor(self) -> w.VBox:
         self.category_text = w.Text(
-            placeholder="category name", layout=w.Layout(width="100%"), description="New name"
+            placeholder="category name", layout=w.Layout(width="auto"), description="New name"
         )
         buttons = []
         for text, action, tip in (
@@ -362,7 +365,7 @@ class LabelsPanel(w.VBox):
         current = data["current"][data["current"]["topic"] == topic]
         who = "your own: a blind round is open" if data["blind"] else "everyone's"
         self.labels.value = f"<b>Current labels of topic {topic}</b> ({who})" + label_table(
-            current, ["analyst", "name", "verdict", "category", "confidence", "note", "created_at"]
+            current, ["analyst", "name", "verdict", "category", "confidence", "note"]
         )
         history = data["history"]
         history = history[history["topic"] == topic].tail(12)
