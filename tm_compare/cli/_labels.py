@@ -80,7 +80,8 @@ def _register_categories(parser) -> None:
 
 def _categories(store, args) -> None:
     if not (args.add or args.rename or args.retire or args.restore):
-        _emit(store.category_history() if args.changes else store.category_table(), args)
+        frame = store.category_history() if args.changes else store.category_table()
+        _emit(frame if args.format else frame.fillna(""), args)  # no "NaN" on screen
         return
     if store.analyst is None:
         msg = "Changing categories needs --analyst NAME (who made each change is recorded)."
@@ -172,7 +173,8 @@ def run(args) -> int:
             _emit(frame if args.format else frame[shown], args)
         elif args.action == "agreement":
             table = store.agreement(fit)
-            if not (args.format or args.out):  # on screen: sentences, and figures only where alpha exists
+            # On screen: a sentence per field, and figures only where alpha exists.
+            if not (args.format or args.out):
                 overall = table[table["scope"] == "overall"].to_dict("records")
                 lines = [explain_agreement(row) for row in overall]
                 _write("\n".join(lines) + "\n", None)
