@@ -149,3 +149,16 @@ def test_agreement_is_a_sentence_until_it_can_be_computed(panel, store):
 
 def test_blind_round_sentence(store):
     assert "Blind round open" in agreement_html(None, 0)
+
+
+def test_choices_follow_the_store_and_keep_what_was_chosen(panel, store):
+    store.define_categories(["housing"])
+    panel.name.value, panel.verdict.value = "rents", "usable"
+    panel.category_text.value = "transit"
+    panel.add_category()  # reloading the lists keeps the verdict chosen before
+    assert panel.verdict.value == "usable" and panel.category.value == "transit"
+    # a colleague adds a category: the form lists it at its next look, the choice stays
+    store.as_analyst("analyst_b").define_categories(["schools"])
+    panel.check_for_news()
+    assert _options(panel.category) == ["(none)", "housing", "transit", "schools"]
+    assert panel.category.value == "transit" and panel.verdict.value == "usable"

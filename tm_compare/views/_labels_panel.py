@@ -130,6 +130,7 @@ class LabelsPanel(w.VBox):
         self._base: int | None = None
         self._cursor = 0
         self._data: dict | None = None
+        self._categories_shown: list[str] = []
         self._lock = threading.RLock()
         self._stop = threading.Event()
         wide = w.Layout(width="auto")  # fills the form column, margins included
@@ -240,10 +241,7 @@ class LabelsPanel(w.VBox):
             except TmCompareError as exc:
                 self.status.value = f'<span style="color:#b5523b">{esc(exc)}</span>'
                 return
-            keep = self.category.value
             self._load_choices()
-            if keep in [v for _, v in self.category.options]:
-                self.category.value = keep
             self.status.value = f'<span style="color:#1b6f80">{esc(done)}</span>'
 
     def add_category(self) -> None:
@@ -288,6 +286,9 @@ class LabelsPanel(w.VBox):
             lambda store: store.retire_category(name),
             f"Retired {name!r}: no longer offered; labels that use it keep it.",
         )
+        own = self.store.label(self.fit, self._topic) if self.store.analyst else None
+        if name not in self.store.categories() and (own is None or own.category != name):
+            self._load_choices(category=None)  # not this label's: no longer listed
 
     # --- reading the store ----------------------------------------------------------------
 
@@ -298,12 +299,29 @@ class LabelsPanel(w.VBox):
             self.store = self.store.as_analyst(who)
         return self.store
 
-    def _load_choices(self, keep=None):
-        self.verdict.options = [("(none)", None)] + [(v, v) for v in self.store.verdicts]
-        options = [("(none)", None)] + [(c, c) for c in self.store.categories()]
-        if keep is not None and keep not in [v for _, v in options]:
-            options.append((f"{keep} (retired)", keep))  # shown as saved, not offered anew
-        self.category.options = options
+    def _load_choices(self, category=...):
+        """Refresh the lists of verdicts and categories, keeping the chosen values.
+
+        ``category``: the category to show (default: the one chosen now). A former name shows
+        as the category's name today; a retired category is listed, marked, because the label
+        being edited has it, but it is not offered for other labels.
+        """
+        verdict = self.verdict.value
+        category = self.category.value if category is ... else category
+        active = self.store.categories()
+        if category is not None and category not in active:
+            category = self.store.category_aliases().get(category, category)
+        options = [("(none)", None)] + [(c, c) for c in active]
+        if category is not None and category not in active:
+            options.append((f"{category} (retired)", category))
+        verdicts = [("(none)", None)] + [(v, v) for v in self.store.verdicts]
+        if list(self.verdict.options) != verdicts:
+            self.verdict.options = verdicts
+        if list(self.category.options) != options:
+            self.category.options = options
+        self.verdict.value = verdict if verdict in self.store.verdicts else None
+        self.category.value = category
+        self._categories_shown = active
 
     def show_topic(self, topic: int) -> None:
         """Fill the form with this analyst's label of ``topic`` and show the topic's labels."""
@@ -318,15 +336,11 @@ class LabelsPanel(w.VBox):
     def _fill_form(self):
         own = self.store.label(self.fit, self._topic) if self.store.analyst else None
         self._base = None if own is None else own.version
-        category = None if own is None else own.category
-        if category is not None:  # a label saved under a former name shows the current one
-            category = self.store.category_aliases().get(category, category)
-        self._load_choices(keep=category)
+        self._load_choices(category=None if own is None else own.category)
         with self.hold_trait_notifications():
             self.name.value = "" if own is None or own.retracted else own.name
             self.note.value = "" if own is None or own.retracted else own.note
             self.verdict.value = None if own is None else own.verdict
-            self.category.value = category
             if own is not None and own.confidence is not None:
                 self.confidence.value = own.confidence
 
@@ -338,6 +352,8 @@ class LabelsPanel(w.VBox):
         """
         news = self.store.poll(self._cursor, fit=self.fit)
         blind = self.store.in_blind_round(self.fit)
+        if self.store.categories() != self._categories_shown:  # a colleague edited the list
+            self._load_choices()
         if (
             not force
             and self._data is not None
