@@ -96,6 +96,11 @@ def test_label_categories_and_agreement_in_jupyterlab(tmp_path):
         editor.get_by_role("button", name="Add").click()
         form.get_by_text("Category 'harbour' is on the list.").wait_for(timeout=30_000)
         category = form.locator(".widget-dropdown:has(label:text-is('Category')) select")
+        category.evaluate(  # the status line comes last, but let the select catch up
+            "s => new Promise(ok => { const t0 = Date.now(); (function look() {"
+            " if (s.options[s.selectedIndex]?.text === 'harbour' || Date.now() - t0 > 10000) ok();"
+            " else setTimeout(look, 100); })(); })"
+        )
         assert category.evaluate("s => s.options[s.selectedIndex].text") == "harbour"
 
         # Save the label of topic 2 under "transit": one shared topic, one value, still no alpha.

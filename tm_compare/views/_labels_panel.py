@@ -234,14 +234,18 @@ class LabelsPanel(w.VBox):
     def _toggle_editor(self, change) -> None:
         self.category_editor.layout.display = None if change["new"] else "none"
 
-    def _category_change(self, act, done: str) -> None:
+    def _category_change(self, act, done: str, choose=...) -> None:
+        """Run ``act(store)``; on success refresh the lists, choose ``choose`` (default: keep
+        the choice), clear the typed name, and only then say what was done (so a reader of the
+        message sees the form already updated)."""
         with self._lock:
             try:
                 act(self._writer_store())
             except TmCompareError as exc:
                 self.status.value = f'<span style="color:#b5523b">{esc(exc)}</span>'
                 return
-            self._load_choices()
+            self._load_choices(category=choose)
+            self.category_text.value = ""
             self.status.value = f'<span style="color:#1b6f80">{esc(done)}</span>'
 
     def add_category(self) -> None:
@@ -254,10 +258,7 @@ class LabelsPanel(w.VBox):
             else:
                 store.define_categories([name])
 
-        self._category_change(act, f"Category {name!r} is on the list.")
-        if self.category_text.value.strip() in self.store.categories():
-            self.category.value = name
-            self.category_text.value = ""
+        self._category_change(act, f"Category {name!r} is on the list.", choose=name)
 
     def rename_category(self) -> None:
         """Rename the chosen category to the typed name; labels follow the new name."""
@@ -268,27 +269,25 @@ class LabelsPanel(w.VBox):
             )
             return
         self._category_change(
-            lambda store: store.rename_category(old, new), f"Renamed {old!r} to {new!r}."
+            lambda store: store.rename_category(old, new), f"Renamed {old!r} to {new!r}.", new
         )
-        if new in self.store.categories():
-            self.category.value = new
-            self.category_text.value = ""
 
     def retire_category(self) -> None:
-        """Stop offering the chosen category; labels that use it keep it."""
+        """Stop offering the chosen category; labels that use it keep it (this label too: the
+        form then shows it marked as retired)."""
         name = self.category.value
         if name is None:
             self.status.value = (
                 '<span style="color:#b5523b">Choose the category to retire first.</span>'
             )
             return
+        own = self.store.label(self.fit, self._topic) if self.store.analyst else None
+        keep = name if own is not None and own.category == name else None
         self._category_change(
             lambda store: store.retire_category(name),
             f"Retired {name!r}: no longer offered; labels that use it keep it.",
+            keep,
         )
-        own = self.store.label(self.fit, self._topic) if self.store.analyst else None
-        if name not in self.store.categories() and (own is None or own.category != name):
-            self._load_choices(category=None)  # not this label's: no longer listed
 
     # --- reading the store ----------------------------------------------------------------
 
