@@ -272,11 +272,17 @@ def test_saving_an_unchanged_label_adds_no_version(ana):
     assert again == first and len(ana.history(MODEL)) == 1
     changed = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=1)
     assert changed.version == 2 and len(ana.history(MODEL)) == 2
-    ana.retract(MODEL, 5, based_on=2)
+    # Inside a coding round the same label is saved again, so that the round counts it.
+    round_id = ana.open_round(MODEL, name="second pass", blind=False)
+    in_round = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=2)
+    assert (in_round.version, in_round.round) == (3, round_id)
+    assert ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed").version == 3
+    ana.close_round(MODEL)
+    ana.retract(MODEL, 5, based_on=3)
     # After a retraction the same fields are a new label again, not a no-op.
     assert (
-        ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=3).version
-        == 4
+        ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=4).version
+        == 5
     )
 
 

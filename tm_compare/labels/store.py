@@ -556,12 +556,13 @@ class LabelStore(_categories.CategoriesMixin):
         key = {"fit": fit, "topic": topic, "analyst": who}
         with self._guard(), _s.write_transaction(self._engine) as conn:
             latest = conn.execute(_s.LATEST["labels"], key).first()
-            if _unchanged(latest, values):
+            opened = self._open_round(conn, fit)
+            round_id = None if opened is None else opened.id
+            if _unchanged(latest, values) and round_id in (None, latest.round_id):
                 return _label(latest)  # saving what is stored adds no version
             _categories.refuse_for_new_label(conn, values["category"])
             values = self._clean(conn, values)
-            opened = self._open_round(conn, fit)
-            values["round_id"] = None if opened is None else opened.id
+            values["round_id"] = round_id
             row = self._append(conn, key, values, based_on)
         return _label(row)
 
