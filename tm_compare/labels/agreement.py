@@ -172,7 +172,7 @@ FIELD_WORDS = {"verdict": "verdicts", "category": "categories", "name": "names"}
 _READINGS = (
     (0.800, "reliable enough to rely on (Krippendorff's threshold: 0.800)"),
     (0.667, "good enough for tentative conclusions only (0.667 to 0.800)"),
-    (-np.inf, "too low to rely on (below 0.667): talk the disagreements through"),
+    (-np.inf, "too low to rely on (below 0.667)"),
 )
 
 
