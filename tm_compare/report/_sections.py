@@ -377,7 +377,7 @@ def labels_section(results) -> dict:
                 "alpha": num(r.alpha, 2),
                 "percent": f"{r.percent_agreement:.0%}",
                 "units": int(r.n_units),
-                "sentence": explain_agreement(r._asdict()),  # says what is missing, if alpha is
+                "sentence": explain_agreement(r._asdict()),  # or what alpha still needs
             }
             for r in overall.itertuples(index=False)
         ],
