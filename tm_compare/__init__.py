@@ -70,6 +70,7 @@ _EXPORTS = {
     "krippendorff_alpha": "labels.agreement",
     "percent_agreement": "labels.agreement",
     "agreement_table": "labels.agreement",
+    "explain_agreement": "labels.agreement",
     "ModelResults": "results",
     "SweepView": "views",
     "TopicView": "views",

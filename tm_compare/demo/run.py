@@ -48,6 +48,7 @@ class DemoRun:
     report_path: Path | None = None
     exported: list = field(default_factory=list)
     language: str = "en"
+    views_path: Path | None = None
 
 
 def build_corpus(run: DemoRun) -> str:
@@ -295,15 +296,56 @@ def write_outputs(run: DemoRun) -> str:
 
     run.report_path = write_report(run.project, results=run.results)
     run.exported = export(run.project, results=run.results)
+    run.views_path = write_views_notebook(run)
     folder = run.report_path.parent
     return "\n".join(
         [
             f"Report: {run.report_path}",
+            f"Views: {run.views_path} (a notebook that opens the views of this project)",
             f"Exports ({len(run.exported)} files) in {folder}: tables as CSV and Parquet, "
             "charts as PNG and SVG (charts/), column meanings in columns.md, topic shares per "
             "document in document_topics.csv",
         ]
     )
+
+
+VIEWS_NOTEBOOK = "views.ipynb"
+
+
+def write_views_notebook(run: DemoRun) -> Path:
+    """Write ``PROJECT/views.ipynb``: one cell that opens the project's views on the
+    recommended model (``jupyter lab views.ipynb`` from the project folder)."""
+    rec = run.results.recommendation
+    line = f"%tm_compare . --k {int(rec.k)} --seed {int(rec.seed)} --analyst analyst_c"
+    intro = (
+        "# Quillhaven demo: the views\n\n"
+        "Run the cell below (Shift+Enter). It opens the sweep of the demo project and, under it, "
+        f"the recommended model (k = {int(rec.k)}, seed {int(rec.seed)}). Put your own name "
+        "after `--analyst` before you label topics; the demo's invented analysts are "
+        f"{' and '.join(ANALYSTS)}."
+    )
+    cells = [
+        {"cell_type": "markdown", "metadata": {}, "source": intro},
+        {
+            "cell_type": "code",
+            "metadata": {},
+            "execution_count": None,
+            "outputs": [],
+            "source": f"%load_ext tm_compare\n{line}",
+        },
+    ]
+    kernel = {"name": "python3", "display_name": "Python 3 (ipykernel)", "language": "python"}
+    notebook = {
+        "cells": cells,
+        "metadata": {"kernelspec": kernel, "language_info": {"name": "python"}},
+        "nbformat": 4,
+        "nbformat_minor": 5,
+    }
+    for i, cell in enumerate(cells):
+        cell["id"] = f"views-{i}"
+    path = run.project.path / VIEWS_NOTEBOOK
+    atomic_write_json(path, notebook)
+    return path
 
 
 def summary(run: DemoRun) -> str:

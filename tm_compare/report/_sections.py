@@ -15,6 +15,7 @@ import math
 import pandas as pd
 
 from .. import _html
+from ..labels.agreement import explain_agreement
 from ..text.languages import is_only_english, language_mix
 from .exports import chart_svg, charts
 
@@ -391,6 +392,7 @@ def labels_section(results) -> dict:
                 "alpha": num(r.alpha, 2),
                 "percent": f"{r.percent_agreement:.0%}",
                 "units": int(r.n_units),
+                "sentence": explain_agreement(r._asdict()),  # or what alpha still needs
             }
             for r in overall.itertuples(index=False)
         ],
