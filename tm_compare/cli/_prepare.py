@@ -94,8 +94,9 @@ def settings_from_args(args) -> dict:
     if args.no_near_duplicates:
         settings["near_duplicates"] = None
     if args.stop_words:
-        with open(args.stop_words, encoding="utf-8") as fh:
-            settings["extra_stop_words"] = [w.strip() for w in fh if w.strip()]
+        from ..text._stopwords import read_stop_words
+
+        settings["extra_stop_words"] = read_stop_words(args.stop_words)
     return settings
 
 

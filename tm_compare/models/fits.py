@@ -25,6 +25,7 @@ import dataclasses
 import json
 import os
 import time
+import warnings
 import zipfile
 from pathlib import Path
 
@@ -378,6 +379,25 @@ def check_settings(owner: str, settings: dict) -> dict:
     }
 
 
+def check_pair(owner: str, fit, prepared) -> None:
+    """Refuse a fit and a prepared corpus that do not belong together: the fit records the
+    fingerprint of the prepared corpus it was trained on."""
+    recorded = getattr(fit, "corpus_fingerprint", None)
+    given = getattr(prepared, "fingerprint", None)
+    if prepared is not None and recorded and given and recorded != given:
+        msg = (
+            f"{owner} got a fit trained on the prepared corpus {recorded} with the prepared "
+            f"corpus {given}: its topics and documents would be paired with the wrong texts. "
+            "Pass the prepared corpus the fit was trained on (load_prepared(project, "
+            "fit.corpus_fingerprint)), or fit again on this one."
+        )
+        raise InputError(msg)
+
+
+#: Documents and vocabulary terms per topic below which a k draws a warning (common practice).
+SUPPORT_PER_TOPIC = 10
+
+
 def check_k(owner: str, k, data: TrainingData) -> int:
     if isinstance(k, bool) or not isinstance(k, int | np.integer) or not 2 <= k <= data.n_train:
         raise param_error(
@@ -387,6 +407,20 @@ def check_k(owner: str, k, data: TrainingData) -> int:
             f"integers from 2 to the number of training documents ({data.n_train})",
             f"The corpus has {len(data.doc_ids)} documents, {int(data.heldout.sum())} of them "
             "held out; choose fewer topics or add documents.",
+        )
+    # Common practice (no single source): a topic needs a few documents of its own and its own
+    # top words; below 10 of each per topic, expect duplicated or junk topics.
+    per_doc, per_term = data.n_train / k, len(data.vocab) / k
+    if min(per_doc, per_term) < SUPPORT_PER_TOPIC:
+        warnings.warn(
+            f"k={int(k)} topics is more than this corpus can support ({data.n_train} training "
+            f"documents and {len(data.vocab)} terms: {per_doc:.1f} documents and "
+            f"{per_term:.1f} terms per topic, below {SUPPORT_PER_TOPIC} of each). Expect "
+            f"duplicated or junk topics; choose k <= "
+            f"{max(2, int(min(data.n_train, len(data.vocab)) // SUPPORT_PER_TOPIC))} or add "
+            "documents.",
+            UserWarning,
+            stacklevel=3,
         )
     return int(k)
 

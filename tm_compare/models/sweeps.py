@@ -26,7 +26,14 @@ import pandas as pd
 from .._atomic import atomic_path, atomic_write_json
 from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._hashing import fingerprint as _fingerprint
-from .._validation import check_choice, param_error, require
+from .._validation import (
+    check_choice,
+    check_limit,
+    check_n_jobs,
+    check_scheduler,
+    param_error,
+    require,
+)
 from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
 from ..options import choices, default
 from ..project import Project
@@ -210,7 +217,11 @@ class Sweep:
     def _checked_options(self):
         """The grid, measures and fit settings, validated (nothing runs before this passes)."""
         check_choice("sweep", "engine", self.engine, _engines.ENGINES)
+        check_n_jobs("sweep", self.n_jobs)
+        check_scheduler("sweep", self.scheduler)
         ks = _grid("k", self.k, minimum=2)
+        n_seeds = self.seeds if _is_int(self.seeds) else _size(self.seeds)
+        check_limit("sweep", "grid of fits (k x seeds)", len(ks) * max(n_seeds, 1), "fits")
         if _is_int(self.seeds) and self.seeds < 1:
             raise param_error(
                 "sweep",
@@ -289,6 +300,7 @@ class Sweep:
             with atomic_path(folder / f"{name}.csv") as tmp:
                 flat.to_csv(tmp, index=False)
         state = {
+            "checksums": {n: _sha256(folder / n) for n in _TABLES},
             "engine": self.engine,
             "settings": stored(self.settings_),
             "n_terms": self.n_terms,
@@ -303,7 +315,12 @@ class Sweep:
         project = project if isinstance(project, Project) else Project.open(project)
         folder = project.path / "scores"
         try:
-            state = json.loads((folder / _STATE).read_text(encoding="utf-8"))
+            state = _read_state(folder)
+            changed = [
+                n for n in _TABLES if _sha256(folder / n) != state.get("checksums", {}).get(n)
+            ]
+            if changed:
+                return cls._rescored(project, state, folder / changed[0])
             scores = pd.read_parquet(folder / "scores.parquet")
             topic_scores = pd.read_parquet(folder / "topic_scores.parquet")
         except FileNotFoundError as exc:
@@ -320,22 +337,38 @@ class Sweep:
             )
             raise CorruptArtifactError(msg) from exc
         topic_scores["top_words"] = topic_scores["top_words"].map(list)
-        state = from_stored(state)
         settings = from_stored(state["settings"])
         self = cls(
-            sorted({f["k"] for f in state["fits"]}),
-            sorted({f["seed"] for f in state["fits"]}),
-            state["engine"],
-            project=project,
-            n_terms=state["n_terms"],
-            **settings,
+            *_grid_of(state), state["engine"], project=project, n_terms=state["n_terms"], **settings
         )
         self.fits_ = FitShelf(
-            {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]}
+            {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]},
+            state["corpus_fingerprint"],
         )
         self.scores_, self.topic_scores_ = scores, topic_scores
         self.settings_, self.corpus_fingerprint_ = settings, state["corpus_fingerprint"]
         return self
+
+    @classmethod
+    def _rescored(cls, project, state: dict, changed: Path) -> Sweep:
+        """The sweep of ``state`` with its score tables recomputed from the saved fits (a table
+        that fails its checksum is never used)."""
+        from ..text.prepared import load_prepared
+
+        warnings.warn(
+            f"The score table {str(changed)!r} was edited or damaged since the sweep wrote it "
+            "(its sha256 differs from the one recorded in sweep.json); it is not used. "
+            "Recomputing the score tables from the saved fits.",
+            UserWarning,
+            stacklevel=3,
+        )
+        prepared = load_prepared(project, state["corpus_fingerprint"])
+        settings = from_stored(state["settings"])
+        again = cls(*_grid_of(state), state["engine"], project=project, n_terms=state["n_terms"])
+        for name, value in settings.items():
+            setattr(again, name, value)
+        again.progress = False
+        return again.fit(prepared)
 
 
 def sweep(
@@ -351,14 +384,28 @@ def sweep(
 
 
 class FitShelf(Mapping):
-    """Fits of a sweep by ``(k, seed)``; those saved in a project are read when asked for."""
+    """Fits of a sweep by ``(k, seed)``; those saved in a project are read when asked for, and
+    checked to be the fit their name says (a file copied over another's name is refused)."""
 
-    def __init__(self, entries: dict):
+    def __init__(self, entries: dict, corpus_fingerprint: str | None = None):
         self._entries = entries
+        self._corpus = corpus_fingerprint
 
     def __getitem__(self, key) -> Fit:
         entry = self._entries[key]
-        return Fit.load(entry) if isinstance(entry, Path) else entry
+        if not isinstance(entry, Path):
+            return entry
+        fit = Fit.load(entry)
+        found = (fit.k, fit.random_state)
+        if found != tuple(key) or self._corpus not in (None, fit.corpus_fingerprint):
+            msg = (
+                f"The fit file {str(entry)!r} holds the fit k={fit.k}, seed={fit.random_state} "
+                f"of corpus {fit.corpus_fingerprint}, but the sweep saved it as k={key[0]}, "
+                f"seed={key[1]} of corpus {self._corpus}: it was copied or renamed. Delete it "
+                "and run the same sweep again, which refits it."
+            )
+            raise CorruptArtifactError(msg)
+        return fit
 
     def __contains__(self, key) -> bool:  # without reading the file
         return key in self._entries
@@ -375,7 +422,74 @@ def _is_int(value) -> bool:
     return isinstance(value, int | np.integer) and not isinstance(value, bool)
 
 
+_TABLES = ("scores.parquet", "topic_scores.parquet")
+#: Keys of sweep.json (after ``from_stored``) and the type each must have.
+_STATE_KEYS = {
+    "engine": str,
+    "settings": dict,
+    "n_terms": int,
+    "corpus_fingerprint": str,
+    "fits": list,
+}
+
+
+def _sha256(path: Path) -> str:
+    import hashlib
+
+    with open(path, "rb") as fh:
+        return hashlib.file_digest(fh, "sha256").hexdigest()
+
+
+def _read_state(folder: Path) -> dict:
+    """sweep.json, checked: every key present with its type (a damaged file is refused)."""
+    path = folder / _STATE
+    try:
+        state = json.loads(path.read_text(encoding="utf-8"))
+    except UnicodeDecodeError as exc:
+        raise ValueError(f"{_STATE} is not UTF-8 text ({exc.reason})") from exc
+    state = from_stored(state) if isinstance(state, dict) else state
+    wrong = (
+        [key for key, kind in _STATE_KEYS.items() if not isinstance(state.get(key), kind)]
+        if isinstance(state, dict)
+        else ["(the file is not a JSON object)"]
+    )
+    if not wrong:
+        fit_keys = {"k": int, "seed": int, "file": str}
+        for entry in state["fits"]:
+            if (
+                not isinstance(entry, dict)
+                or any(
+                    not isinstance(entry.get(n), t) or isinstance(entry.get(n), bool)
+                    for n, t in fit_keys.items()
+                )
+                or Path(entry["file"]).name != entry["file"]
+            ):
+                wrong = [f"fits entry {entry!r}"]
+                break
+    if wrong:
+        msg = (
+            f"{str(path)!r} is damaged: {', '.join(wrong)} missing or of the wrong type "
+            f"(expected {', '.join(_STATE_KEYS)}). Run the sweep again (`tm-compare sweep "
+            f"{folder.parent}` with the same grid): finished fits are reused."
+        )
+        raise CorruptArtifactError(msg)
+    return state
+
+
+def _grid_of(state: dict) -> tuple[list[int], list[int]]:
+    return sorted({f["k"] for f in state["fits"]}), sorted({f["seed"] for f in state["fits"]})
+
+
+def _size(values) -> int:
+    try:
+        return len(values)
+    except TypeError:
+        return 1
+
+
 def _grid(name: str, values, minimum: int) -> list[int]:
+    if not _is_int(values):
+        check_limit("sweep", name, _size(values), "fits")  # before listing a huge range
     items = [values] if _is_int(values) else list(values) if isinstance(values, Iterable) else None
     accepted = f"an integer or a non-empty list of integers >= {minimum}"
     if not items:
