@@ -22,6 +22,7 @@ import functools
 import json
 import numbers
 import uuid
+import warnings
 from dataclasses import asdict, dataclass, fields
 from pathlib import Path
 from typing import NamedTuple
@@ -32,7 +33,7 @@ import sqlalchemy as sa
 from .._atomic import atomic_write_text
 from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._validation import check_choice, param_error
-from ..errors import LabelStoreError
+from ..errors import LabelStoreError, ReadOnlyStoreError
 from . import _files as _f
 from . import _schema as _s
 from ._files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
@@ -117,8 +118,15 @@ def model_id(model) -> str:
 
 
 def _topic(topic) -> int:
-    if isinstance(topic, bool) or not isinstance(topic, numbers.Integral) or topic < 0:
-        raise param_error("LabelStore", "topic", topic, "a topic number, an integer >= 0")
+    # The same bound on every back end: PostgreSQL's integer holds up to 2**31 - 1, so SQLite
+    # refuses more too and a store moves between them unchanged.
+    if (
+        isinstance(topic, bool)
+        or not isinstance(topic, numbers.Integral)
+        or not 0 <= topic <= _s.INT_MAX
+    ):
+        accepted = f"a topic number, an integer from 0 to {_s.INT_MAX:,} (PostgreSQL's integer)"
+        raise param_error("LabelStore", "topic", topic, accepted)
     return int(topic)
 
 
@@ -171,13 +179,28 @@ class LabelStore:
             _s.check_text("analyst", analyst)
         self.analyst = analyst
         self.timeout = float(timeout)
+        self._damaged = None  # the message of a corruption found: every later write is refused
         self._url = _s.resolve_url(location, read_only)
+        self._read_only_media = not read_only and _s.on_read_only_media(self._url)
+        if self._read_only_media:
+            read_only = True
+            # immutable: SQLite then needs no -shm/-wal files, which read-only media cannot hold
+            ro = _s.resolve_url(location, read_only)
+            self._url = ro.update_query_dict({"immutable": "1"})
+            warnings.warn(
+                f"The label store {self.url} is on read-only media (or a folder you may not "
+                "write): it is opened read-only. Listing, export and agreement work; saving "
+                "labels does not. Copy it to a writable folder to label.",
+                UserWarning,
+                stacklevel=2,
+            )
         read_only = self.read_only = read_only or self._url.query.get("mode") == "ro"
         self._engine = _s.make_engine(self._url, self.timeout, read_only)
         wanted = None if verdicts is None else self._clean_verdicts(verdicts)
         with self._guard():
             with self._engine.connect() as conn:
                 version = _s.stored_version(conn)
+                _s.refuse_damaged(conn, self.url)
             if version is not None:
                 _s.refuse_newer(version, self.url)
             if read_only and version is None:
@@ -221,13 +244,34 @@ class LabelStore:
 
     @contextlib.contextmanager
     def _guard(self):
-        """Turn driver errors into LabelStoreError with a clear, password-free message."""
+        """Turn driver errors into LabelStoreError with a clear, password-free message; once a
+        corruption is seen, the store refuses every later write."""
         try:
             yield
         except Exception as exc:
             if _s.is_driver_error(exc):
-                raise _s.translate(exc, self._url, self.timeout) from None
+                error = _s.translate(exc, self._url, self.timeout)
+                if _s.CORRUPT in str(error):
+                    self._damaged = str(error)
+                raise error from None
             raise
+
+    @contextlib.contextmanager
+    def _write_transaction(self):
+        """The store's write transaction, refused on a damaged or read-only store."""
+        if self._damaged:
+            msg = f"{self._damaged} (found earlier in this session; nothing was written)"
+            raise LabelStoreError(msg)
+        if self.read_only:
+            why = " because it is on read-only media" if self._read_only_media else ""
+            msg = (
+                f"The label store {self.url} is read-only{why}, so labels cannot be saved. "
+                "Listing, export and agreement work; to label, open a writable copy without "
+                "read_only=True / mode=ro."
+            )
+            raise ReadOnlyStoreError(msg)
+        with _s.write_transaction(self._engine) as conn:
+            yield conn
 
     def _read(self, query) -> list:
         with self._guard(), self._engine.connect() as conn:
@@ -270,7 +314,7 @@ class LabelStore:
         """Replace the allowed verdicts; refuses to drop one that a stored label uses."""
         values = self._clean_verdicts(verdicts)
         self._writer("change the verdicts")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             used = set(conn.execute(sa.select(_s.labels.c.verdict).distinct()).scalars()) - {None}
             used |= set(conn.execute(sa.select(_s.consensus.c.verdict).distinct()).scalars()) - {
                 None
@@ -295,7 +339,7 @@ class LabelStore:
         _s.check_text("category", category)
         _s.check_text("description", description)
         who = self._writer("define a category")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             self._add_categories(
                 conn, [{"category": category, "description": description, "added_by": who}]
             )
@@ -336,7 +380,7 @@ class LabelStore:
         fit = fit_id(fit)
         who = self._writer("open a round")
         _s.check_text("name", name)
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             existing = self._open_round(conn, fit)
             if existing is not None:
                 msg = f"Round {existing.id} ({existing.name!r}) is still open on fit {fit!r}; close it with close_round first."
@@ -352,7 +396,7 @@ class LabelStore:
         """Close the open round on ``fit``; everyone's labels become visible. Returns its id."""
         fit = fit_id(fit)
         who = self._writer("close a round")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             existing = self._open_round(conn, fit)
             if existing is None:
                 msg = f"No round is open on fit {fit!r}."
@@ -572,7 +616,7 @@ class LabelStore:
                 based_on,
                 "the version your edit started from (an integer >= 0), or None for a new label",
             )
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             values = self._clean(conn, values)
             opened = self._open_round(conn, fit)
             values["round_id"] = None if opened is None else opened.id
@@ -656,7 +700,7 @@ class LabelStore:
             msg = f"A blind round is open on fit {fit!r}; close it before settling labels."
             raise LabelStoreError(msg)
         values = {"name": name, "note": note, "verdict": verdict, "category": category}
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             values = self._clean(conn, values)
             current = [r for r in self._current_rows(conn, fit) if r.topic == topic]
             if from_labels is None:
