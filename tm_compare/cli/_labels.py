@@ -81,7 +81,9 @@ def _emit(frame: pd.DataFrame, args) -> None:
     if args.format == "json":
         text = frame.to_json(orient="records", force_ascii=False, indent=2) + "\n"
     elif args.format == "csv":
-        text = frame.to_csv(index=False)
+        from .._csv import to_csv
+
+        text = to_csv(frame)
     else:
         text = (
             frame.map(_printable).to_string(index=False) + "\n" if len(frame) else "(no labels)\n"

@@ -21,6 +21,7 @@ from pathlib import Path
 import pandas as pd
 import sqlalchemy as sa
 
+from .._csv import restore_cell, safe_cell
 from .._validation import check_choice, param_error
 from ..errors import LabelStoreError
 from . import _schema as _s
@@ -171,7 +172,8 @@ def csv_text(records: list[dict], words: dict[int, list[str]], columns) -> str:
     writer.writeheader()
     for rec in records:
         row = {k: "" if rec.get(k) is None else rec[k] for k in columns if k != "top_words"}
-        writer.writerow({**row, "top_words": " ".join(words.get(rec["topic"], []))})
+        row["top_words"] = " ".join(words.get(rec["topic"], []))
+        writer.writerow({k: safe_cell(v) for k, v in row.items()})  # spreadsheet-safe text
     return buffer.getvalue()
 
 
@@ -194,7 +196,7 @@ def read_export(path: Path, format_name: str, format_version: int, csv_columns) 
         if not found or set(csv_columns) - set(found):
             msg = f"{str(path)!r} is not a label export: a CSV needs the columns {list(csv_columns)}; found {reader.fieldnames}."
             raise LabelStoreError(msg)
-        rows = [_s.record(r) for r in reader]
+        rows = [_s.record({k: restore_cell(v) for k, v in r.items()}) for r in reader]
         fits = {r["fit"] for r in rows}
         return {"fit": next(iter(fits)) if len(fits) == 1 else None, "labels": rows}
     try:
