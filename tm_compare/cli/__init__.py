@@ -129,9 +129,9 @@ def main(argv: list[str] | None = None) -> int:
     try:
         args = build_parser().parse_args(argv)
         return int(args.func(args) or 0)
-    except KeyboardInterrupt:
-        print("Interrupted.", file=sys.stderr)
-        return 130
+    except KeyboardInterrupt as exc:  # Ctrl+C, or SIGTERM/SIGINT in a parallel sweep
+        print(str(exc) or "Interrupted.", file=sys.stderr)
+        return getattr(exc, "exit_code", 130)
     except SystemExit:  # --help and --version exit 0 through argparse
         raise
     except Exception as exc:

@@ -38,6 +38,7 @@ from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError
 from ..options import choices, default
 from ..project import Project
 from . import _engines
+from ._parallel import clean_stop
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
 from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, recommend, stability
 
@@ -251,7 +252,8 @@ class Sweep:
         if self.client is not None or self.scheduler is not None:
             client, own = _connect(self.client, self.scheduler, self.fallback_local)
             if client is not None:
-                yield from _run_dask(client, own, data, todo, self.engine, settings)
+                with clean_stop():  # SIGTERM/SIGINT: futures cancelled, own client closed
+                    yield from _run_dask(client, own, data, todo, self.engine, settings)
                 return
         import joblib
 
@@ -261,7 +263,8 @@ class Sweep:
                 yield train(data, k, seed, self.engine, settings)
             return
         # Workers memory-map one copy of the matrix instead of receiving it with every task.
-        with tempfile.TemporaryDirectory(prefix="tm_compare-sweep-") as tmp:
+        # SIGTERM/SIGINT: workers killed and the folder removed (see _parallel).
+        with tempfile.TemporaryDirectory(prefix="tm_compare-sweep-") as tmp, clean_stop():
             shared = str(data.save(Path(tmp)))
             tasks = (
                 joblib.delayed(_train_shared)(shared, k, seed, self.engine, settings)
