@@ -30,7 +30,7 @@ class Parser(argparse.ArgumentParser):
     (argparse itself prints the usage block and exits 2). Sub-parsers inherit the class."""
 
     def error(self, message: str):
-        msg = f"{self.prog}: {message}. See `{self.prog} --help` for what is accepted."
+        msg = f"{self.prog}: {message.rstrip('.')}. See `{self.prog} --help` for what is accepted."
         raise UsageError(msg)
 
 

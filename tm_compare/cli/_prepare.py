@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ..text.corpus import CONFLICT_RULES
 from ..text.prepared import DEFAULTS
 
 
@@ -29,6 +30,18 @@ def register(subparsers) -> None:
         ("date", "dates"),
     ):
         parser.add_argument(f"--{role}", metavar="COL", help=f"column of {what}")
+    parser.add_argument(
+        "--encoding",
+        metavar="NAME",
+        help="text encoding of a CSV/TSV/JSON Lines file, e.g. cp1252 or latin-1 [utf-8]",
+    )
+    parser.add_argument(
+        "--on-conflict",
+        choices=CONFLICT_RULES,
+        default="error",
+        help="when one id has different texts within a source: stop with an error naming the "
+        "ids, or keep the first or the longest text [%(default)s]",
+    )
     knobs = parser.add_argument_group("preparation settings (defaults in brackets)")
     knobs.add_argument(
         "--stop-words",
@@ -113,7 +126,9 @@ def run(args) -> int:
             if getattr(args, r) is not None
         }
     )
-    corpus = Corpus.read(args.corpus_file, **columns)
+    corpus = Corpus.read(
+        args.corpus_file, encoding=args.encoding, on_conflict=args.on_conflict, **columns
+    )
     project = Project.create(args.project)
     save_corpus(corpus, project)
     prepared = prepare(corpus, project=project, **settings_from_args(args))

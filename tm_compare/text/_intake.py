@@ -145,7 +145,8 @@ def _decode_message(path: Path, encoding: str, exc: UnicodeDecodeError) -> str:
     return (
         f"The file {str(path)!r} is not valid {name}{where} cannot be decoded. "
         "Pass the file's encoding, e.g. Corpus.read(path, encoding='cp1252') or "
-        "encoding='latin-1', or re-save the file as UTF-8."
+        "encoding='latin-1' (on the command line: --encoding cp1252), or re-save the file as "
+        "UTF-8."
     )
 
 
@@ -506,7 +507,8 @@ def _check_conflicts(frame: pd.DataFrame, has_text: np.ndarray, origin: str) -> 
         f"{len(conflicts)} id(s) of {origin} have different texts within the same source: "
         f"{'; '.join(shown)}{more}. An id should name one article. Fix the ids, or pass "
         "on_conflict='first' (keep the first row's text) or on_conflict='longest' "
-        "(keep the longest text); either way the rows merge and their weights add."
+        "(keep the longest text) -- on the command line --on-conflict first or longest; "
+        "either way the rows merge and their weights add."
     )
     raise CorpusError(msg)
 
