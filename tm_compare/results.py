@@ -22,7 +22,7 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from ._validation import param_error
+from ._validation import check_limit, param_error
 from .compare import documents, terms
 from .compare import prevalence as comparison
 from .errors import ComparisonError, SettingsError
@@ -138,6 +138,7 @@ class ModelResults:
         for name, value in settings.items():
             if name != "cluster":
                 check(owner, name, value)
+        check_limit(owner, "n_boot", settings["n_boot"], "n_boot")
         seed = settings["random_state"]
         if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
             accepted = "an integer >= 0 (tables are cached, so a seed must give the same draws again)"

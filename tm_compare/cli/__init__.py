@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 import traceback
 
@@ -90,6 +91,16 @@ class _Renamed(argparse.Action):
     def __call__(self, parser, namespace, values, option_string=None):
         warn_renamed(option_string, self.new, stacklevel=2)
         setattr(namespace, self.dest, values)
+
+
+def check_out_file(path, flag: str, example: str) -> None:
+    """Refuse an output file path that names an existing folder, before any work starts."""
+    if path is not None and os.path.isdir(path):
+        msg = (
+            f"{flag} {str(path)!r} is a folder; {flag} takes the path of a file to write, "
+            f"e.g. {os.path.join(str(path), example)!r}."
+        )
+        raise UsageError(msg)
 
 
 def _one_line(exc: BaseException) -> str:

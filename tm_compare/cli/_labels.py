@@ -12,6 +12,7 @@ from ..errors import LabelStoreError
 from ..labels._schema import LABEL_FIELDS
 from ..models.sweeps import load_fit
 from ..project import Project
+from . import check_out_file
 
 ACTIONS = ("list", "export", "import", "agreement")
 
@@ -92,6 +93,7 @@ def _emit(frame: pd.DataFrame, args) -> None:
 
 
 def _write(text: str, out) -> None:
+    check_out_file(out, "--out", "labels.json")
     if out:
         from .._atomic import atomic_write_text
 

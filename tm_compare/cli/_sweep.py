@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import argparse
 
-from ..models._engines import SETTINGS
-from ..models.scores import MEASURES
 from .._validation import check_limit
 from ..errors import SettingsError
+from ..models._engines import SETTINGS
+from ..models.scores import MEASURES
 from ..options import default
 from . import add_option
 

@@ -35,7 +35,7 @@ import scipy.sparse as sp
 from .._atomic import atomic_path
 from .._deprecation import renamed_attribute, renamed_parameters
 from .._hashing import fingerprint as _fingerprint
-from .._validation import check_choice, param_error
+from .._validation import check_choice, check_int, param_error
 from ..errors import CorruptArtifactError, InputError
 from ..options import default
 from . import _engines
@@ -305,6 +305,7 @@ class TrainingData:
         matrix = prepared.bow.to_csr(len(dictionary))
         n_held = max(1, round(holdout * n_docs)) if holdout > 0 else 0
         heldout = np.zeros(n_docs, dtype=bool)
+        check_int(owner, "holdout_random_state", holdout_random_state, minimum=0)
         rng = np.random.default_rng(holdout_random_state)
         heldout[rng.permutation(n_docs)[:n_held]] = True
         vocab = [dictionary[i] for i in range(len(dictionary))]
@@ -365,13 +366,15 @@ def check_settings(owner: str, settings: dict) -> dict:
             raise param_error(owner, name, value, "an integer >= 1")
     for name in ("alpha", "eta"):
         value = full[name]
-        if value != "symmetric" and not (isinstance(value, float | int) and value > 0):
+        if value != "symmetric" and not (
+            isinstance(value, float | int) and not isinstance(value, bool) and 0 < value < np.inf
+        ):
             raise param_error(owner, name, value, "'symmetric' (1/k) or a number > 0")
-    if not 0.5 <= full["decay"] <= 1:
+    if not (isinstance(full["decay"], float | int) and 0.5 <= full["decay"] <= 1):
         # Hoffman et al. (2010) prove convergence for (0.5, 1]; 0.5 is gensim's default.
         raise param_error(owner, "decay", full["decay"], "a number in [0.5, 1]")
     for name in ("offset", "gamma_threshold"):
-        if not full[name] > 0:
+        if not (isinstance(full[name], float | int) and 0 < full[name] < np.inf):
             raise param_error(owner, name, full[name], "a number > 0")
     return {
         name: (int(v) if name in ("passes", "iterations", "chunksize") else v)

@@ -249,6 +249,10 @@ def export(
     tables already computed, or settings of :class:`tm_compare.results.ModelResults` for
     :func:`collect`. Empty ``charts`` or ``tables`` skips them.
     """
+    charts = _formats("export", "charts", charts or [], CHART_FORMATS)  # before any work
+    tables = _formats("export", "tables", tables or [], TABLE_FORMATS)
+    if out is not None and Path(out).exists() and not Path(out).is_dir():
+        raise param_error("export", "out", str(out), "a folder (it is a file)", "Name a folder.")
     if results is None:
         results = collect(project, k, seed, **settings)
     folder = Path(out) if out is not None else results.project.folder(EXPORT_FOLDER)
