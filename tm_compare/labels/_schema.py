@@ -301,7 +301,8 @@ def refuse_damaged(conn: sa.Connection, where: str) -> None:
     if found != ["ok"]:
         msg = (
             f"The label store {where} {CORRUPT}: SQLite's quick_check reports "
-            f"{'; '.join(found)[:300]}. Restore it from a backup or an export; tm_compare will "
+            f"{' '.join('; '.join(found).split())[:200]}. Restore it from a backup or an "
+            "export; tm_compare will "
             "not read or write it."
         )
         raise LabelStoreError(msg)
