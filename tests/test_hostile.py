@@ -798,3 +798,134 @@ def test_api_hostile_input_raises_a_named_error(shared, tmp_path, call, error, e
         call(ctx)
     assert isinstance(caught.value, error), repr(caught.value)
     assert expected in str(caught.value), str(caught.value)
+
+
+# --- nothing silently wrong -----------------------------------------------------------------
+
+
+def _copy(shared, tmp_path) -> Path:
+    copy = tmp_path / "project"
+    shutil.copytree(shared.project, copy)
+    return copy
+
+
+def test_an_edited_score_table_is_detected_and_recomputed(shared, tmp_path):
+    from tm_compare.models.sweeps import load_sweep
+
+    copy = _copy(shared, tmp_path)
+    original = pd.read_parquet(copy / "scores" / "scores.parquet")
+    edited = original.assign(npmi=original["npmi"] + 1.0)  # a plausible-looking edit
+    edited.to_parquet(copy / "scores" / "scores.parquet", index=False)
+    with pytest.warns(UserWarning, match="scores.parquet' was edited or damaged.*not used"):
+        result = load_sweep(copy)
+    columns = ["k", "seed", "npmi", "c_v", "umass", "uci", "diversity"]
+    pd.testing.assert_frame_equal(result.scores_[columns], original[columns])  # recomputed
+    again = pd.read_parquet(copy / "scores" / "scores.parquet")
+    pd.testing.assert_frame_equal(again[columns], original[columns])  # and saved again
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        load_sweep(copy)  # the saved tables verify now: no warning
+
+
+def test_compare_says_what_it_fell_back_to_in_the_output_and_the_files(tmp_path, capsys):
+    from tm_compare.demo.quillhaven import make_frame
+    from tm_compare.models.sweeps import sweep
+    from tm_compare.project import Project
+    from tm_compare.text.corpus import Corpus, save_corpus
+    from tm_compare.text.prepared import prepare
+
+    corpus = Corpus.from_frame(make_frame(300, random_state=0), group=False)  # no readers
+    project = Project.create(tmp_path / "p")
+    save_corpus(corpus, project)
+    sweep(
+        prepare(corpus, project=project), k=[3], seeds=1, passes=1, project=project, progress=False
+    )
+    with pytest.warns(FutureWarning, match="--by-group"):
+        code = main(["compare", str(project.path), "--k", "3", "--n-boot", "20", "--by-group"])
+    out, err = capsys.readouterr()
+    assert code == 0
+    assert "it resamples documents instead" in err  # the fallback, said as a note
+    assert "intervals resample documents" in out and "groups" not in out
+    folder = project.path / "comparison" / "k3_seed0"
+    table = pd.read_csv(folder / "prevalence-exposure-document.csv")
+    assert set(table["cluster"]) == {"document"}  # the files name what was done
+
+
+def test_k_beyond_what_the_corpus_supports_is_warned(shared):
+    from tm_compare.models.fits import SUPPORT_PER_TOPIC, TrainingData, check_k
+
+    data = TrainingData.from_prepared(_prepared(shared), 0.1, 0)
+    assert check_k("sweep", 4, data) == 4  # 4 topics on ~350 documents: no warning
+    too_many = data.n_train // SUPPORT_PER_TOPIC + 1
+    with pytest.warns(UserWarning, match=f"k={too_many} topics is more than this corpus"):
+        check_k("sweep", too_many, data)
+
+
+def test_csv_exports_neutralise_spreadsheet_formulas(shared, tmp_path):
+    # OWASP, "CSV Injection": cells starting with = + - @ tab or CR get a leading apostrophe.
+    from tm_compare.labels.store import LabelStore
+
+    copy = _copy(shared, tmp_path)
+    with LabelStore(copy, analyst="Mallory Vane") as store:
+        store.save(shared.fit, 1, name='=HYPERLINK("http://x.example","open")', note="@SUM(A1)")
+    out = tmp_path / "out"
+    argv = [
+        "export",
+        str(copy),
+        "--k",
+        "4",
+        "--charts",
+        "none",
+        "--n-boot",
+        "20",
+        "--out",
+        str(out),
+    ]
+    assert run_cli(argv)[0] == 0
+    import csv
+
+    with open(out / "labels.csv", encoding="utf-8", newline="") as fh:
+        cells = [c for row in csv.reader(fh) for c in row]
+    assert '\'=HYPERLINK("http://x.example","open")' in cells and "'@SUM(A1)" in cells
+    assert not [c for c in cells if c.startswith(("=", "+", "@", "\t", "\r"))]
+    numbers = pd.read_csv(out / "differences.csv")["difference"]
+    assert (numbers < 0).any()  # negative numbers stay numbers
+    parquet = pd.read_parquet(out / "labels.parquet")
+    assert '=HYPERLINK("http://x.example","open")' in set(parquet["name"])  # values as they are
+    assert "CSV injection" in (out / "columns.md").read_text(encoding="utf-8")
+
+
+def test_prepare_offers_the_encoding_and_conflict_flags_its_errors_suggest(tmp_path, capsys):
+    frame = pd.DataFrame(
+        {
+            "id": ["a1", "a1", "b2"],
+            "text": ["Quai café opens", "Quai café opens today", "Tide"],
+            "source": ["shared", "shared", "visited"],
+        }
+    )
+    path = tmp_path / "corpus.csv"
+    path.write_bytes(frame.to_csv(index=False).encode("cp1252"))
+    base = [
+        "prepare",
+        str(path),
+        "--project",
+        str(tmp_path / "p"),
+        "--text",
+        "text",
+        "--source",
+        "source",
+        "--min-doc-count",
+        "1",
+        "--min-doc-tokens",
+        "1",
+    ]
+    assert "--encoding cp1252" in one_error_line(*run_cli(base))
+    assert "--on-conflict" in one_error_line(*run_cli([*base, "--encoding", "cp1252"]))
+    code = main([*base, "--encoding", "cp1252", "--on-conflict", "longest"])
+    assert code == 0, capsys.readouterr().err
+    from tm_compare.text.corpus import load_corpus
+
+    kept = load_corpus(tmp_path / "p").frame.set_index("id")["text"]
+    assert kept["a1"] == "Quai café opens today"  # the longest text, decoded from cp1252
