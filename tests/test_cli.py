@@ -193,3 +193,42 @@ def test_labels_model_flag_still_works_with_a_future_warning(tmp_path, capsys):
     with pytest.warns(FutureWarning, match="--model is deprecated.*use --fit instead"):
         assert main(["labels", str(project.path), "list", "--model", "fit-1"]) == 0
     assert "Harbour" in capsys.readouterr().out
+
+
+def test_debug_anywhere_and_usage_errors_exit_1(capsys):
+    line = _error(["sweep", "nowhere", "--jobs", "zero"], capsys)
+    assert "argument --jobs: invalid int value: 'zero'" in line
+    assert main(["sweep", "nowhere", "--jobs", "zero", "--debug"]) == 1
+    err = capsys.readouterr().err
+    assert "Traceback" in err and "UsageError" in err
+
+
+def test_a_bug_is_one_line_that_says_so(monkeypatch, capsys):
+    from tm_compare.cli import _report
+
+    def broken(args):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(_report, "run", broken)
+    line = _error(["report", "somewhere"], capsys)
+    assert "unexpected failure (RuntimeError: boom)" in line and "a bug in tm_compare" in line
+
+
+def test_warnings_print_as_one_note_line(monkeypatch):
+    import warnings
+
+    from tm_compare.cli import _report
+
+    seen = []
+
+    def run(args):  # how a warning raised during the command is formatted
+        seen.append(warnings.formatwarning("first line\nsecond line", UserWarning, "x.py", 1))
+        return 0
+
+    monkeypatch.setattr(_report, "run", run)
+    before = warnings.formatwarning
+    assert main(["report", "somewhere"]) == 0
+    assert seen == ["Note: first line second line\n"]
+    assert warnings.formatwarning is before  # restored after the command
+    assert main(["--debug", "report", "somewhere"]) == 0
+    assert seen[-1].startswith("x.py:1: UserWarning")  # --debug keeps Python's own format

@@ -145,7 +145,6 @@ class Project:
             raise ProjectError(msg) from exc
         if not isinstance(manifest, dict):
             return manifest  # open() says it is not a manifest
-        manifest_path = path
         wrong = [
             f"{key!r} is {type(manifest[key]).__name__}"
             for key, kind in _SECTIONS.items()
@@ -153,7 +152,7 @@ class Project:
         ]
         if wrong:
             msg = (
-                f"The manifest {str(manifest_path)!r} is damaged: {', '.join(wrong)}, where "
+                f"The manifest {str(path)!r} is damaged: {', '.join(wrong)}, where "
                 f"tm_compare writes a JSON object (corpus, prepared, settings, package_versions) "
                 "or a text (created, updated). Restore the manifest from a copy."
             )

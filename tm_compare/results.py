@@ -141,7 +141,9 @@ class ModelResults:
         check_limit(owner, "n_boot", settings["n_boot"], "n_boot")
         seed = settings["random_state"]
         if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
-            accepted = "an integer >= 0 (tables are cached, so a seed must give the same draws again)"
+            accepted = (
+                "an integer >= 0 (tables are cached, so a seed must give the same draws again)"
+            )
             raise param_error(owner, "random_state", seed, accepted)
         cluster = settings["cluster"]
         columns = list(self.prepared.meta.columns)

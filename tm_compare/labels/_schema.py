@@ -316,9 +316,7 @@ def on_read_only_media(url: URL) -> bool:
     if not path.exists():
         return False
     folder = path.parent
-    return not (os.access(path, os.W_OK) and os.access(folder, os.W_OK)) or _read_only_mount(
-        folder
-    )
+    return not (os.access(path, os.W_OK) and os.access(folder, os.W_OK)) or _read_only_mount(folder)
 
 
 def _read_only_mount(folder: Path) -> bool:
