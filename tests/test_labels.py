@@ -749,6 +749,7 @@ def test_a_store_on_read_only_media_opens_for_reading(tmp_path, monkeypatch):
             store.save(MODEL, 1, name="Not saved", based_on=1)
 
 
+@pytest.mark.postgres
 def test_postgresql_authentication_failure_says_so(postgres_server):
     psycopg = pytest.importorskip("psycopg")
     admin = postgres_server.replace("postgresql+psycopg", "postgresql") + "/postgres"

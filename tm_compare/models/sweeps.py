@@ -24,6 +24,7 @@ import numpy as np
 import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_json
+from .._csv import to_csv
 from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._hashing import fingerprint as _fingerprint
 from .._validation import (
@@ -301,7 +302,7 @@ class Sweep:
             if "top_words" in flat:  # CSV cells hold the words separated by spaces
                 flat["top_words"] = flat["top_words"].map(" ".join)
             with atomic_path(folder / f"{name}.csv") as tmp:
-                flat.to_csv(tmp, index=False)
+                to_csv(flat, tmp)  # text cells safe to open in a spreadsheet
         state = {
             "checksums": {n: _sha256(folder / n) for n in _TABLES},
             "engine": self.engine,
