@@ -353,6 +353,12 @@ def run_demo(
         Show progress bars.
     """
     demo._check("run_demo", n_docs, random_state)  # before any folder is made
+    # The grid, fit settings and bootstrap too: a bad one must not fail after minutes of work.
+    from ..compare.prevalence import Bootstrap
+    from ..models.sweeps import Sweep
+
+    Sweep(k, seeds, passes=passes)._checked_options()
+    Bootstrap.of("run_demo", {"n_boot": n_boot})
     grid = {"k": tuple(k), "seeds": seeds, "passes": passes}
     run = DemoRun(Project.create(project), int(n_docs), int(random_state), grid, n_boot, progress)
     for title, step in STEPS:
