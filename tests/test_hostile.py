@@ -783,6 +783,9 @@ API = [
     ("export charts gif", lambda c: api("tm_compare.report.exports", "export")(c.project, k=4, charts="gif", tables=(), n_boot=20, out=c.tmp), SettingsError,
      "'gif'"),
     ("run_demo 1e7 documents", lambda c: api("tm_compare.demo.run", "run_demo")(c.tmp / "d", n_docs=10**7), SettingsError, "TM_COMPARE_MAX_DEMO_DOCS"),
+    ("project open a number", lambda c: api("tm_compare.project", "Project").open(5), ProjectError,
+     "got int 5"),
+    ("top_words negative", lambda c: _fit(c).top_words(-1), SettingsError, "Got -1"),
     ("get_fit missing", lambda c: api("tm_compare.models.sweeps", "load_sweep")(c.project).get_fit(99), SweepError, "k=99"),
 ]
 # fmt: on

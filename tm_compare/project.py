@@ -62,6 +62,12 @@ class Project:
     """A study's folder. Use :meth:`create` for a new one and :meth:`open` for an existing one."""
 
     def __init__(self, path: str | os.PathLike):
+        if not isinstance(path, str | os.PathLike):
+            msg = (
+                f"A project is a folder path (str or pathlib.Path); got {type(path).__name__} "
+                f"{path!r}. Pass the folder, e.g. Project.open('study')."
+            )
+            raise ProjectError(msg)
         self.path = Path(path)
 
     def __repr__(self) -> str:

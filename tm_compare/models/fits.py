@@ -196,6 +196,7 @@ class Fit:
     def top_words(self, n_terms: int = default("n_terms")) -> list[list[str]]:
         """The ``n_terms`` most probable words of each topic, most probable first (ties by term
         id)."""
+        check_int("Fit.top_words", "n_terms", n_terms, minimum=1)
         order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n_terms]
         return [[self.vocab[j] for j in row] for row in order]
 
