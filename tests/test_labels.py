@@ -8,6 +8,7 @@ import io
 import json
 import logging
 import os
+import shutil
 import socket
 import sqlite3
 import traceback
@@ -698,8 +699,9 @@ def _settled_file(tmp_path, rows=40):
     with LabelStore(path, analyst="Ana Quill") as store:
         for topic in range(rows):
             store.save(MODEL, topic, name=f"Topic {topic} " + "x" * 200)
-    with sqlite3.connect(path) as conn:
-        conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    conn = sqlite3.connect(path)
+    conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    conn.close()
     return path
 
 
@@ -728,9 +730,18 @@ def test_corruption_found_in_a_session_stops_later_writes(tmp_path):
 
 
 def test_a_store_on_read_only_media_opens_for_reading(tmp_path, monkeypatch):
-    path = _settled_file(tmp_path, rows=3)
-    with LabelStore(path, analyst="Ben Harrow") as store:
+    source = _settled_file(tmp_path, rows=3)
+    holder = sqlite3.connect(source)  # keeps the last change in the -wal file, as a live store
+    holder.execute("SELECT count(*) FROM sqlite_master").fetchall()
+    with LabelStore(source, analyst="Ben Harrow") as store:
         store.save(MODEL, 0, name="Harbour works")
+    media = tmp_path / "media"
+    media.mkdir()
+    for name in ("labels.sqlite", "labels.sqlite-wal"):  # copied as they are, -wal included
+        shutil.copy(tmp_path / name, media / name)
+    holder.close()
+    assert (media / "labels.sqlite-wal").stat().st_size > 0
+    path = media / "labels.sqlite"
     # Read-only media as the operating system reports it (os.access; root would bypass a chmod).
     real_access = _label_schema.os.access
     monkeypatch.setattr(

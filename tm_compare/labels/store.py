@@ -184,9 +184,12 @@ class LabelStore:
         self._read_only_media = not read_only and _s.on_read_only_media(self._url)
         if self._read_only_media:
             read_only = True
-            # immutable: SQLite then needs no -shm/-wal files, which read-only media cannot hold
-            ro = _s.resolve_url(location, read_only)
-            self._url = ro.update_query_dict({"immutable": "1"})
+            wal = Path(f"{self._url.database}-wal")  # the writable URL names the file plainly
+            self._url = _s.resolve_url(location, read_only)
+            if not wal.exists() or wal.stat().st_size == 0:
+                # immutable: SQLite then needs no -shm file, which read-only media cannot hold.
+                # Not with a -wal file that holds changes: immutable would skip them.
+                self._url = self._url.update_query_dict({"immutable": "1"})
             warnings.warn(
                 f"The label store {self.url} is on read-only media (or a folder you may not "
                 "write): it is opened read-only. Listing, export and agreement work; saving "
