@@ -13,7 +13,6 @@ numbers.
 
 from __future__ import annotations
 
-import json
 import os
 import tempfile
 import warnings
@@ -38,7 +37,7 @@ from .._validation import (
 from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
 from ..options import choices, default
 from ..project import Project
-from . import _engines
+from . import _engines, _saved
 from ._parallel import clean_stop
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
 from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, recommend, stability
@@ -304,7 +303,7 @@ class Sweep:
             with atomic_path(folder / f"{name}.csv") as tmp:
                 to_csv(flat, tmp)  # text cells safe to open in a spreadsheet
         state = {
-            "checksums": {n: _sha256(folder / n) for n in _TABLES},
+            "checksums": {n: _saved.sha256(folder / n) for n in _saved.TABLES},
             "engine": self.engine,
             "settings": stored(self.settings_),
             "n_terms": self.n_terms,
@@ -319,9 +318,11 @@ class Sweep:
         project = project if isinstance(project, Project) else Project.open(project)
         folder = project.path / "scores"
         try:
-            state = _read_state(folder)
+            state = _saved.read_state(folder)
             changed = [
-                n for n in _TABLES if _sha256(folder / n) != state.get("checksums", {}).get(n)
+                n
+                for n in _saved.TABLES
+                if _saved.sha256(folder / n) != state.get("checksums", {}).get(n)
             ]
             if changed:
                 return cls._rescored(project, state, folder / changed[0])
@@ -343,7 +344,11 @@ class Sweep:
         topic_scores["top_words"] = topic_scores["top_words"].map(list)
         settings = from_stored(state["settings"])
         self = cls(
-            *_grid_of(state), state["engine"], project=project, n_terms=state["n_terms"], **settings
+            *_saved.grid_of(state),
+            state["engine"],
+            project=project,
+            n_terms=state["n_terms"],
+            **settings,
         )
         self.fits_ = FitShelf(
             {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]},
@@ -368,7 +373,9 @@ class Sweep:
         )
         prepared = load_prepared(project, state["corpus_fingerprint"])
         settings = from_stored(state["settings"])
-        again = cls(*_grid_of(state), state["engine"], project=project, n_terms=state["n_terms"])
+        again = cls(
+            *_saved.grid_of(state), state["engine"], project=project, n_terms=state["n_terms"]
+        )
         for name, value in settings.items():
             setattr(again, name, value)
         again.progress = False
@@ -424,64 +431,6 @@ class FitShelf(Mapping):
 # -- grid and storage helpers --------------------------------------------------------------------
 def _is_int(value) -> bool:
     return isinstance(value, int | np.integer) and not isinstance(value, bool)
-
-
-_TABLES = ("scores.parquet", "topic_scores.parquet")
-#: Keys of sweep.json (after ``from_stored``) and the type each must have.
-_STATE_KEYS = {
-    "engine": str,
-    "settings": dict,
-    "n_terms": int,
-    "corpus_fingerprint": str,
-    "fits": list,
-}
-
-
-def _sha256(path: Path) -> str:
-    import hashlib
-
-    with open(path, "rb") as fh:
-        return hashlib.file_digest(fh, "sha256").hexdigest()
-
-
-def _read_state(folder: Path) -> dict:
-    """sweep.json, checked: every key present with its type (a damaged file is refused)."""
-    path = folder / _STATE
-    try:
-        state = json.loads(path.read_text(encoding="utf-8"))
-    except UnicodeDecodeError as exc:
-        raise ValueError(f"{_STATE} is not UTF-8 text ({exc.reason})") from exc
-    state = from_stored(state) if isinstance(state, dict) else state
-    wrong = (
-        [key for key, kind in _STATE_KEYS.items() if not isinstance(state.get(key), kind)]
-        if isinstance(state, dict)
-        else ["(the file is not a JSON object)"]
-    )
-    if not wrong:
-        fit_keys = {"k": int, "seed": int, "file": str}
-        for entry in state["fits"]:
-            if (
-                not isinstance(entry, dict)
-                or any(
-                    not isinstance(entry.get(n), t) or isinstance(entry.get(n), bool)
-                    for n, t in fit_keys.items()
-                )
-                or Path(entry["file"]).name != entry["file"]
-            ):
-                wrong = [f"fits entry {entry!r}"]
-                break
-    if wrong:
-        msg = (
-            f"{str(path)!r} is damaged: {', '.join(wrong)} missing or of the wrong type "
-            f"(expected {', '.join(_STATE_KEYS)}). Run the sweep again (`tm-compare sweep "
-            f"{folder.parent}` with the same grid): finished fits are reused."
-        )
-        raise CorruptArtifactError(msg)
-    return state
-
-
-def _grid_of(state: dict) -> tuple[list[int], list[int]]:
-    return sorted({f["k"] for f in state["fits"]}), sorted({f["seed"] for f in state["fits"]})
 
 
 def _size(values) -> int:
