@@ -146,24 +146,30 @@ def test_report_and_export_commands_write_their_files(capsys, tmp_path):
 
 
 def test_bad_format_list_is_a_usage_error(capsys):
-    with pytest.raises(SystemExit) as stop:
-        main(["export", "somewhere", "--charts", "gif"])
-    assert stop.value.code == 2  # argparse's usage errors (the Python standard library)
-    assert "--charts: got 'gif'; give a comma-separated list of png, svg" in capsys.readouterr().err
+    # Usage errors take the same one-line path as every other error (argparse alone would
+    # print its usage block and exit 2).
+    line = _error(["export", "somewhere", "--charts", "gif"], capsys)
+    assert "--charts: got 'gif'; give a comma-separated list of png, svg" in line
+    assert "tm-compare export --help" in line
 
 
 @pytest.mark.slow
-def test_a_damaged_score_table_is_one_line_error(capsys, tmp_path):
+def test_a_damaged_score_table_is_recomputed_not_used(capsys, tmp_path):
     import shutil
 
+    import pandas as pd
     from test_pipeline import small_demo
 
     run, _ = small_demo()
     copy = tmp_path / "project"
     shutil.copytree(run.project.path, copy)
     (copy / "scores" / "scores.parquet").write_bytes(b"not a parquet file")
-    line = _error(["report", str(copy)], capsys)
-    assert "cannot be read" in line and "tm-compare sweep" in line
+    assert main(["report", str(copy), "--n-boot", "20", "--out", str(tmp_path / "r.html")]) == 0
+    assert "was edited or damaged" in capsys.readouterr().err
+    pd.testing.assert_frame_equal(
+        pd.read_parquet(copy / "scores" / "scores.parquet").drop(columns="fit_seconds"),
+        run.sweep.scores_.drop(columns="fit_seconds"),
+    )
 
 
 def test_sweep_and_demo_flags_are_the_python_names_and_old_spellings_still_work():
@@ -187,3 +193,42 @@ def test_labels_model_flag_still_works_with_a_future_warning(tmp_path, capsys):
     with pytest.warns(FutureWarning, match="--model is deprecated.*use --fit instead"):
         assert main(["labels", str(project.path), "list", "--model", "fit-1"]) == 0
     assert "Harbour" in capsys.readouterr().out
+
+
+def test_debug_anywhere_and_usage_errors_exit_1(capsys):
+    line = _error(["sweep", "nowhere", "--jobs", "zero"], capsys)
+    assert "argument --jobs: invalid int value: 'zero'" in line
+    assert main(["sweep", "nowhere", "--jobs", "zero", "--debug"]) == 1
+    err = capsys.readouterr().err
+    assert "Traceback" in err and "UsageError" in err
+
+
+def test_a_bug_is_one_line_that_says_so(monkeypatch, capsys):
+    from tm_compare.cli import _report
+
+    def broken(args):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(_report, "run", broken)
+    line = _error(["report", "somewhere"], capsys)
+    assert "unexpected failure (RuntimeError: boom)" in line and "a bug in tm_compare" in line
+
+
+def test_warnings_print_as_one_note_line(monkeypatch):
+    import warnings
+
+    from tm_compare.cli import _report
+
+    seen = []
+
+    def run(args):  # how a warning raised during the command is formatted
+        seen.append(warnings.formatwarning("first line\nsecond line", UserWarning, "x.py", 1))
+        return 0
+
+    monkeypatch.setattr(_report, "run", run)
+    before = warnings.formatwarning
+    assert main(["report", "somewhere"]) == 0
+    assert seen == ["Note: first line second line\n"]
+    assert warnings.formatwarning is before  # restored after the command
+    assert main(["--debug", "report", "somewhere"]) == 0
+    assert seen[-1].startswith("x.py:1: UserWarning")  # --debug keeps Python's own format

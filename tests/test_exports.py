@@ -111,9 +111,7 @@ def test_export_options_and_bad_formats(demo_run, tmp_path):
     )
     assert {p.suffix for p in written} == {".csv", ".md"}
     assert not (tmp_path / "charts").exists()
-    with pytest.raises(
-        SettingsError, match="'formats' parameter of write_tables .* 'csv', 'parquet'"
-    ):
+    with pytest.raises(SettingsError, match="'tables' parameter of export .* 'csv', 'parquet'"):
         export(
             demo_run.project, charts=(), tables="xlsx", out=tmp_path / "x", results=demo_run.results
         )

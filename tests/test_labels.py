@@ -3,9 +3,12 @@
 Analysts, outlets and topics are invented (the fictional city of Quillhaven).
 """
 
+import csv
 import io
 import json
 import logging
+import os
+import shutil
 import socket
 import sqlite3
 import traceback
@@ -21,6 +24,7 @@ from hypothesis import strategies as st
 from tm_compare.errors import (
     LabelConflictError,
     LabelStoreError,
+    ReadOnlyStoreError,
     SettingsError,
     StoreVersionError,
 )
@@ -844,3 +848,140 @@ def test_cli_categories_and_agreement_sentences(tmp_path, capsys):
     shown = capsys.readouterr().out
     assert "Agreement on verdicts needs labels from 2 analysts on the same topics." in shown
     assert "NaN" not in shown and "alpha" not in shown
+
+
+# --- hardening: the same integer rule on both back ends, corrupt and read-only stores ------
+
+
+@pytest.mark.parametrize("topic", [2**31 - 1, 2**31, 10**30])
+def test_topic_numbers_follow_postgresqls_integer_on_every_back_end(ana, topic):
+    # PostgreSQL's integer holds -2**31 .. 2**31 - 1 (PostgreSQL manual, "Numeric Types");
+    # SQLite would hold 2**31 but not 10**30, so one rule keeps stores interchangeable.
+    if topic <= 2**31 - 1:
+        assert ana.save(MODEL, topic, name="Edge").topic == topic
+        assert ana.label(MODEL, topic).name == "Edge"
+        return
+    with pytest.raises(SettingsError, match="2,147,483,647"):
+        ana.save(MODEL, topic, name="Too far")
+    with pytest.raises(SettingsError, match="2,147,483,647"):
+        ana.label(MODEL, topic)
+    assert len(ana.history(MODEL)) == 0
+
+
+def _corrupt_last_page(path):
+    data = bytearray(path.read_bytes())
+    data[-4096 + 8 : -4096 + 72] = b"\xde\xad\xbe\xef" * 16  # past the page header
+    path.write_bytes(bytes(data))
+
+
+def _settled_file(tmp_path, rows=40):
+    path = tmp_path / "labels.sqlite"
+    with LabelStore(path, analyst="Ana Quill") as store:
+        for topic in range(rows):
+            store.save(MODEL, topic, name=f"Topic {topic} " + "x" * 200)
+    conn = sqlite3.connect(path)
+    conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    conn.close()
+    return path
+
+
+def test_a_corrupt_store_is_refused_for_writing_as_well_as_reading(tmp_path):
+    path = _settled_file(tmp_path)
+    _corrupt_last_page(path)
+    before = path.read_bytes()
+    with pytest.raises(LabelStoreError, match="is corrupted.*will not read or write it"):
+        LabelStore(path, analyst="Ana Quill")  # SQLite's quick_check at open
+    with pytest.raises(LabelStoreError, match="is corrupted"):
+        LabelStore(path, read_only=True)
+    assert path.read_bytes() == before  # nothing was written
+
+
+def test_corruption_found_in_a_session_stops_later_writes(tmp_path):
+    path = _settled_file(tmp_path)
+    store = LabelStore(path, analyst="Ana Quill")
+    _corrupt_last_page(path)
+    store.close()  # drop pooled connections: the next read sees the file as it is now
+    with pytest.raises(LabelStoreError, match="is corrupted"):
+        store.history(MODEL)
+    before = path.read_bytes()
+    with pytest.raises(LabelStoreError, match="found earlier in this session; nothing was written"):
+        store.save(MODEL, 99, name="After the damage")
+    assert path.read_bytes() == before
+
+
+def test_a_store_on_read_only_media_opens_for_reading(tmp_path, monkeypatch):
+    source = _settled_file(tmp_path, rows=3)
+    holder = sqlite3.connect(source)  # keeps the last change in the -wal file, as a live store
+    holder.execute("SELECT count(*) FROM sqlite_master").fetchall()
+    with LabelStore(source, analyst="Ben Harrow") as store:
+        store.save(MODEL, 0, name="Harbour works")
+    media = tmp_path / "media"
+    media.mkdir()
+    for name in ("labels.sqlite", "labels.sqlite-wal"):  # copied as they are, -wal included
+        shutil.copy(tmp_path / name, media / name)
+    holder.close()
+    assert (media / "labels.sqlite-wal").stat().st_size > 0
+    path = media / "labels.sqlite"
+    # Read-only media as the operating system reports it (os.access; root would bypass a chmod).
+    real_access = _label_schema.os.access
+    monkeypatch.setattr(
+        _label_schema.os,
+        "access",
+        lambda p, mode: False if mode == os.W_OK else real_access(p, mode),
+    )
+    with pytest.warns(UserWarning, match="on read-only media.*opened read-only"):
+        store = LabelStore(path, analyst="Ana Quill")
+    with store:
+        assert store.read_only
+        assert len(store.current(MODEL)) == 4  # listing works
+        assert json.loads(store.export_text(MODEL, format="json", history=True, top_words=None))
+        assert isinstance(store.agreement(MODEL), pd.DataFrame)  # agreement reads
+        with pytest.raises(ReadOnlyStoreError, match="read-only because it is on read-only media"):
+            store.save(MODEL, 1, name="Not saved", based_on=1)
+
+
+@pytest.mark.postgres
+def test_postgresql_authentication_failure_says_so(postgres_server):
+    psycopg = pytest.importorskip("psycopg")
+    admin = postgres_server.replace("postgresql+psycopg", "postgresql") + "/postgres"
+    user = "hostile_auth_user"
+    with psycopg.connect(admin, autocommit=True) as conn:
+        hba = conn.execute("SHOW hba_file").fetchone()[0]
+        conn.execute(f"DROP ROLE IF EXISTS {user}")
+        conn.execute(f"CREATE ROLE {user} LOGIN PASSWORD 'right-one'")
+        original = open(hba, encoding="utf-8").read()
+        # Only this role must give a password; every other connection stays as it was.
+        with open(hba, "w", encoding="utf-8") as fh:
+            fh.write(f"host all {user} 127.0.0.1/32 scram-sha-256\n" + original)
+        conn.execute("SELECT pg_reload_conf()")
+    try:
+        url = postgres_server.replace("postgres@", f"{user}:wrong-secret@") + "/postgres"
+        with pytest.raises(LabelStoreError) as caught:
+            LabelStore(url, timeout=5)
+        message = str(caught.value)
+        assert "authentication failed" in message and user in message
+        assert "wrong-secret" not in message  # the password is never shown
+        assert "check that the server runs" not in message.lower()
+    finally:
+        with open(hba, "w", encoding="utf-8") as fh:
+            fh.write(original)
+        with psycopg.connect(admin, autocommit=True) as conn:
+            conn.execute("SELECT pg_reload_conf()")
+            conn.execute(f"DROP ROLE IF EXISTS {user}")
+
+
+def test_label_csv_exports_neutralise_formulas_and_round_trip(tmp_path):
+    # OWASP, "CSV Injection": prefix cells starting with = + - @ tab or CR with an apostrophe.
+    hostile = ['=HYPERLINK("http://x.example","y")', "+1+1", "-2", "@SUM(A1)", "\tTab", "'quoted"]
+    with LabelStore(tmp_path / "a.sqlite", analyst="Ana Quill") as store:
+        for topic, name in enumerate(hostile):
+            store.save(MODEL, topic, name=name, note=name)
+        text = store.export_text(MODEL, format="csv", history=True, top_words=None)
+    (tmp_path / "labels.csv").write_text(text, encoding="utf-8")
+    rows = list(csv.DictReader(io.StringIO(text)))
+    for row in rows:
+        assert not row["name"].startswith(("=", "+", "-", "@", "\t", "\r"))
+        assert row["name"].startswith("'")
+    with LabelStore(tmp_path / "b.sqlite", analyst="Ben Harrow") as other:
+        other.import_labels(tmp_path / "labels.csv", fit=MODEL)
+        assert sorted(other.current(MODEL)["name"]) == sorted(hostile)  # restored exactly

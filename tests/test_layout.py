@@ -43,6 +43,7 @@ BOTTOM = {
     "_validation",
     "_deprecation",
     "_atomic",
+    "_csv",
     "_hashing",
     "_html",
     "options",

@@ -132,3 +132,30 @@ def test_unstorable_extra_column_is_a_clear_error(tmp_path):
     ):
         save_corpus(Corpus.from_frame(df), project)
     assert not (tmp_path / CORPUS_FILE).exists()
+
+
+@pytest.mark.parametrize(
+    ("raw", "expected"),
+    [
+        (b'{"format": "tm_compare project", "note": "caf\xe9"}', "must be UTF-8 JSON"),
+        (b"\x00\x01binary", "Cannot read the project manifest"),
+        (b"[1, 2]", "is not a tm_compare manifest"),
+        (
+            b'{"format": "tm_compare project", "format_version": 1, "corpus": "oops"}',
+            "'corpus' is str",
+        ),
+        (
+            b'{"format": "tm_compare project", "format_version": 1, "prepared": [1]}',
+            "'prepared' is list",
+        ),
+        (b'{"format": "tm_compare project", "format_version": "1"}', "format_version '1'"),
+        (b'{"format": "tm_compare project", "format_version": true}', "format_version True"),
+    ],
+)
+def test_a_damaged_manifest_is_refused_with_what_is_wrong(tmp_path, corpus, raw, expected):
+    project = Project.create(tmp_path / "p")
+    save_corpus(corpus, project)
+    (project.path / MANIFEST).write_bytes(raw)
+    with pytest.raises(ProjectError, match=expected):
+        load_corpus(Project.open(project.path))
+    assert (project.path / CORPUS_FILE).exists()  # the other files are untouched

@@ -66,7 +66,9 @@ def test_frex_by_hand():
 def test_empirical_term_share_from_prepared():
     texts = [["w0"] * 3 + ["w1"], ["w2"] * 4 + ["w3"] * 2]  # counts 3, 1, 4, 2
     prepared = build_prepared(["a", "a"], texts, vocab=FIT.vocab)
-    lift, _ = scores("lift", prepared=prepared)
+    fit = Fit.from_arrays(prepared, PHI, FIT.doc_topic)  # the fit of this prepared corpus
+    table = term_rankings(fit, method="lift", n_terms=4, prepared=prepared)
+    lift = table.pivot(index="topic", columns="term_id", values="score").to_numpy()
     np.testing.assert_allclose(lift[1], PHI[1] / (np.array([3, 1, 4, 2]) / 10))  # by hand
 
 

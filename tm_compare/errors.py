@@ -22,6 +22,10 @@ class SettingsError(InputError):
     """A parameter has a value outside what is accepted."""
 
 
+class UsageError(SettingsError):
+    """The command line cannot be parsed (unknown command, missing or malformed flag)."""
+
+
 class ProjectError(TmCompareError):
     """A project folder is missing, unreadable, or from an incompatible version."""
 
@@ -48,6 +52,10 @@ class LabelStoreError(TmCompareError):
 
 class LabelConflictError(LabelStoreError):
     """A label edit was based on a version that is no longer current."""
+
+
+class ReadOnlyStoreError(LabelStoreError):
+    """The label store is on read-only media or was opened for reading only; writes are refused."""
 
 
 class StoreVersionError(LabelStoreError):

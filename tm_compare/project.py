@@ -35,6 +35,15 @@ from .errors import ProjectError
 MANIFEST = "manifest.json"
 FORMAT = "tm_compare project"
 FORMAT_VERSION = 1
+#: Sections of the manifest and the JSON type each must have.
+_SECTIONS = {
+    "corpus": dict,
+    "prepared": dict,
+    "settings": dict,
+    "package_versions": dict,
+    "created": str,
+    "updated": str,
+}
 _VERSIONED = ("tm_compare", "numpy", "scipy", "pandas", "gensim", "scikit-learn", "altair")
 
 
@@ -53,6 +62,12 @@ class Project:
     """A study's folder. Use :meth:`create` for a new one and :meth:`open` for an existing one."""
 
     def __init__(self, path: str | os.PathLike):
+        if not isinstance(path, str | os.PathLike):
+            msg = (
+                f"A project is a folder path (str or pathlib.Path); got {type(path).__name__} "
+                f"{path!r}. Pass the folder, e.g. Project.open('study')."
+            )
+            raise ProjectError(msg)
         self.path = Path(path)
 
     def __repr__(self) -> str:
@@ -106,7 +121,7 @@ class Project:
             )
             raise ProjectError(msg)
         version = manifest.get("format_version", 0)
-        if not isinstance(version, int):
+        if not isinstance(version, int) or isinstance(version, bool):
             msg = (
                 f"The manifest {str(manifest_path)!r} has format_version {version!r}; a whole "
                 f"number up to {FORMAT_VERSION} is expected. Restore the manifest from a copy."
@@ -126,13 +141,29 @@ class Project:
         """The manifest as a dict (read fresh from disk)."""
         path = self.path / MANIFEST
         try:
-            return json.loads(path.read_text(encoding="utf-8"))
-        except (OSError, json.JSONDecodeError) as exc:
+            manifest = json.loads(path.read_text(encoding="utf-8"))
+        except (OSError, ValueError) as exc:  # ValueError: not UTF-8, or not JSON
             msg = (
-                f"Cannot read the project manifest {str(path)!r}: {exc}. Restore it from a copy; "
-                "the other files of the project are untouched."
+                f"Cannot read the project manifest {str(path)!r}: {exc}. It must be UTF-8 JSON "
+                "as tm_compare wrote it; restore it from a copy. The other files of the project "
+                "are untouched."
             )
             raise ProjectError(msg) from exc
+        if not isinstance(manifest, dict):
+            return manifest  # open() says it is not a manifest
+        wrong = [
+            f"{key!r} is {type(manifest[key]).__name__}"
+            for key, kind in _SECTIONS.items()
+            if key in manifest and not isinstance(manifest[key], kind)
+        ]
+        if wrong:
+            msg = (
+                f"The manifest {str(path)!r} is damaged: {', '.join(wrong)}, where "
+                f"tm_compare writes a JSON object (corpus, prepared, settings, package_versions) "
+                "or a text (created, updated). Restore the manifest from a copy."
+            )
+            raise ProjectError(msg)
+        return manifest
 
     def update_manifest(self, **entries: Any) -> dict[str, Any]:
         """Merge ``entries`` into the manifest (dicts merge one level deep) and save it atomically."""

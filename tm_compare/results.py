@@ -22,12 +22,13 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from ._validation import param_error
+from ._validation import check_limit, param_error
 from .compare import documents, terms
 from .compare import prevalence as comparison
 from .errors import ComparisonError, SettingsError
 from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
 from .labels.store import COLUMNS as LABEL_COLUMNS
+from .models.fits import check_pair
 from .options import check, choices, default
 
 #: The settings of :class:`ModelResults` (defaults and accepted values: :mod:`tm_compare.options`).
@@ -102,6 +103,7 @@ class ModelResults:
     """
 
     def __init__(self, fit, prepared, *, corpus=None, **settings):
+        check_pair("ModelResults", fit, prepared)
         self.fit, self.prepared, self.corpus = fit, prepared, corpus
         doc_sources = np.asarray(prepared.sources).astype(str)
         self.sources = sorted(set(doc_sources))
@@ -136,9 +138,12 @@ class ModelResults:
         for name, value in settings.items():
             if name != "cluster":
                 check(owner, name, value)
+        check_limit(owner, "n_boot", settings["n_boot"], "n_boot")
         seed = settings["random_state"]
-        if isinstance(seed, bool) or not isinstance(seed, int | np.integer):
-            accepted = "an integer (tables are cached, so a seed must give the same draws again)"
+        if isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0:
+            accepted = (
+                "an integer >= 0 (tables are cached, so a seed must give the same draws again)"
+            )
             raise param_error(owner, "random_state", seed, accepted)
         cluster = settings["cluster"]
         columns = list(self.prepared.meta.columns)

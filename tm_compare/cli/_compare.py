@@ -156,6 +156,7 @@ def deprecated_flags(args) -> None:
 
 def run(args) -> int:
     from .._atomic import atomic_path
+    from .._csv import to_csv
     from ..results import ModelResults
 
     deprecated_flags(args)
@@ -171,7 +172,7 @@ def run(args) -> int:
     for name, table in made.items():
         stem = name if name in ("terms", "documents") else f"{name}-{suffix}"
         with atomic_path(folder / f"{stem}.csv") as tmp:
-            table.to_csv(tmp, index=False)
+            to_csv(table, tmp)
     heavy = made.get("influence")  # none when documents are resampled
     for row in [] if heavy is None else heavy[heavy["flagged"]].itertuples(index=False):
         print(

@@ -91,8 +91,10 @@ def open_views_command(notebook) -> str:
 
 
 def run(args) -> int:
+    from ..demo.quillhaven import _check
     from ..demo.run import STEPS, run_demo, summary
 
+    _check("run_demo", args.docs, args.random_state)  # before anything is printed or made
     started = time.perf_counter()
     total = len(STEPS)
     done = iter(range(1, total + 1))

@@ -64,8 +64,10 @@ def run(args) -> int:
     from ..text import _intake
     from ..text.corpus import Corpus
     from ..text.prepared import load_prepared
+    from . import check_out_file
     from ._compare import notes
 
+    check_out_file(args.out, "--out", "shares.csv")
     project = Project.open(args.project)
     fit = load_fit(project, args.k, args.seed)
     prepared = load_prepared(project, fit.corpus_fingerprint)

@@ -14,6 +14,7 @@ from ..labels._schema import LABEL_FIELDS
 from ..labels.agreement import can_compute, explain_agreement
 from ..models.sweeps import load_fit
 from ..project import Project
+from . import check_out_file
 
 ACTIONS = ("list", "export", "import", "agreement", "categories")
 
@@ -128,7 +129,9 @@ def _emit(frame: pd.DataFrame, args) -> None:
     if args.format == "json":
         text = frame.to_json(orient="records", force_ascii=False, indent=2) + "\n"
     elif args.format == "csv":
-        text = frame.to_csv(index=False)
+        from .._csv import to_csv
+
+        text = to_csv(frame)
     else:
         text = (
             frame.map(_printable).to_string(index=False) + "\n" if len(frame) else "(no labels)\n"
@@ -137,6 +140,7 @@ def _emit(frame: pd.DataFrame, args) -> None:
 
 
 def _write(text: str, out) -> None:
+    check_out_file(out, "--out", "labels.json")
     if out:
         from .._atomic import atomic_write_text
 

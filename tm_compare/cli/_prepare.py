@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ..text.corpus import CONFLICT_RULES
 from ..text.prepared import DEFAULTS
 from . import add_option
 
@@ -36,6 +37,18 @@ def register(subparsers) -> None:
         ("date", "dates"),
     ):
         parser.add_argument(f"--{role}", metavar="COL", help=f"column of {what}")
+    parser.add_argument(
+        "--encoding",
+        metavar="NAME",
+        help="text encoding of a CSV/TSV/JSON Lines file, e.g. cp1252 or latin-1 [utf-8]",
+    )
+    parser.add_argument(
+        "--on-conflict",
+        choices=CONFLICT_RULES,
+        default="error",
+        help="when one id has different texts within a source: stop with an error naming the "
+        "ids, or keep the first or the longest text [%(default)s]",
+    )
     knobs = parser.add_argument_group("preparation settings (defaults in brackets)")
     add_option(knobs, "language", type=language_arg, metavar="CODE")
     add_option(knobs, "undetected", metavar="remove|CODE")
@@ -112,8 +125,9 @@ def settings_from_args(args) -> dict:
     if args.no_near_duplicates:
         settings["near_duplicates"] = None
     if args.stop_words:
-        with open(args.stop_words, encoding="utf-8") as fh:
-            settings["extra_stop_words"] = [w.strip() for w in fh if w.strip()]
+        from ..text._stopwords import read_stop_words
+
+        settings["extra_stop_words"] = read_stop_words(args.stop_words)
     return settings
 
 
@@ -130,7 +144,9 @@ def run(args) -> int:
             if getattr(args, r) is not None
         }
     )
-    corpus = Corpus.read(args.corpus_file, **columns)
+    corpus = Corpus.read(
+        args.corpus_file, encoding=args.encoding, on_conflict=args.on_conflict, **columns
+    )
     project = Project.create(args.project)
     save_corpus(corpus, project)
     prepared = prepare(corpus, project=project, **settings_from_args(args))

@@ -56,7 +56,9 @@ def register(subparsers) -> None:
 
 def run(args) -> int:
     from ..report.html import write_report
+    from . import check_out_file
 
+    check_out_file(args.out, "--out", "report.html")
     results = collect_results(args)
     path = write_report(results.project, out=args.out, results=results)
     print(

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import argparse
 
+from .._validation import check_limit
+from ..errors import SettingsError
 from ..models._engines import SETTINGS
 from ..options import default
 from . import add_option
@@ -103,7 +105,12 @@ def k_grid(text: str) -> list[int]:
             if len(parts) not in (2, 3) or (len(parts) == 3 and parts[2] < 1):
                 raise ValueError
             start, stop, step = (*parts, 1) if len(parts) == 2 else parts
-            return list(range(start, stop + 1, step))
+            grid = range(start, stop + 1, step)
+            try:
+                check_limit("sweep", "k", len(grid), "fits")  # before a huge list is built
+            except SettingsError as exc:
+                raise argparse.ArgumentTypeError(str(exc)) from None
+            return list(grid)
         return [int(p) for p in text.split(",")]
     except ValueError:
         msg = (

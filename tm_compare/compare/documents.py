@@ -26,6 +26,7 @@ import pandas as pd
 from .._deprecation import renamed_parameters
 from .._validation import param_error
 from ..errors import ComparisonError, ProjectError
+from ..models.fits import check_pair
 from ..options import default
 
 _SPACE = re.compile(r"\s+")
@@ -176,6 +177,7 @@ def document_topics(fit, prepared, corpus=None) -> pd.DataFrame:
     separated), ``heldout`` (left out of training), then ``topic_0`` ... ``topic_{k-1}``
     (the document's share of each topic; each row sums to 1).
     """
+    check_pair("document_topics", fit, prepared)
     if fit.doc_ids != prepared.doc_ids:
         msg = (
             "The model's doc_ids do not match the prepared corpus's documents (document_topics). "

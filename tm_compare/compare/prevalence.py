@@ -33,8 +33,9 @@ import numpy as np
 import pandas as pd
 
 from .._deprecation import renamed_parameters
-from .._validation import param_error
+from .._validation import check_limit, param_error
 from ..errors import ComparisonError
+from ..models.fits import check_pair
 from ..options import check, default
 from . import _bootstrap as bs
 
@@ -69,6 +70,12 @@ class Bootstrap:
         boot = cls(**settings)
         if not (isinstance(boot.n_boot, int | np.integer) and boot.n_boot >= 10):
             raise param_error(owner, "n_boot", boot.n_boot, "an integer >= 10")
+        check_limit(owner, "n_boot", boot.n_boot, "n_boot")
+        seed = boot.random_state
+        if not isinstance(seed, np.random.Generator) and (
+            isinstance(seed, bool) or not isinstance(seed, int | np.integer) or seed < 0
+        ):
+            raise param_error(owner, "random_state", seed, "an integer >= 0 or a numpy Generator")
         if not (isinstance(boot.ci, float) and 0 < boot.ci < 1):
             raise param_error(owner, "ci", boot.ci, "a number strictly between 0 and 1, e.g. 0.95")
         check(owner, "interval", boot.interval)
@@ -126,6 +133,7 @@ class _Design:
 
 def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=None) -> _Design:
     check(owner, "weighting", weighting)
+    check_pair(owner, fit, prepared)
     shares = np.asarray(fit.doc_topic, dtype=float)
     doc_sources = np.asarray(prepared.sources)
     n_docs = len(doc_sources)

@@ -28,6 +28,7 @@ from scipy.stats import rankdata
 from .._deprecation import renamed_parameters, warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ComparisonError
+from ..models.fits import check_pair
 from ..options import choices, default
 
 _METHODS = choices("method")
@@ -84,6 +85,7 @@ def term_rankings(
     for name, value in (("lam", lam), ("frex_weight", frex_weight)):
         if not (isinstance(value, float | int) and 0 <= value <= 1):
             raise param_error(owner, name, value, "a number in [0, 1]")
+    check_pair(owner, fit, prepared)
     phi = _topic_term(fit, owner)
     score = ranking_scores(phi, method, lam, frex_weight, lambda: _term_share(fit, prepared, phi))
     order = np.argsort(-np.nan_to_num(score, nan=-np.inf), axis=1, kind="stable")[:, :n_terms]
@@ -187,6 +189,7 @@ def topic_term_counts(fit, prepared, *, weighting: str = default("weighting")) -
     One sparse product for all k topics costs about as much as a few single-topic ones.
     """
     check_choice("topic_term_counts", "weighting", weighting, choices("weighting"))
+    check_pair("topic_term_counts", fit, prepared)
     theta = np.asarray(fit.doc_topic, dtype=float)
     if weighting == "exposure":
         theta = theta * np.asarray(prepared.weights, dtype=float)[:, None]

@@ -30,7 +30,7 @@ import numpy as np
 import pandas as pd
 
 from .._deprecation import renamed_parameters
-from .._validation import param_error
+from .._validation import check_limit, param_error
 from ._text import LANGUAGES, OUTLETS, THEMES, WIRE, material, render, urls
 
 __all__ = [
@@ -178,6 +178,7 @@ def _check(owner: str, n_docs, random_state, language="en") -> None:
     if isinstance(n_docs, bool) or not isinstance(n_docs, int | np.integer) or n_docs < MIN_DOCS:
         fix = f"Smaller corpora cannot hold every planted fact (tm-compare demo --docs {MIN_DOCS})."
         raise param_error(owner, "n_docs", n_docs, f"an integer >= {MIN_DOCS}", fix)
+    check_limit(owner, "n_docs", int(n_docs), "demo_docs")
     bad = isinstance(random_state, bool) or not isinstance(random_state, int | np.integer)
     if bad or random_state < 0:
         raise param_error(owner, "random_state", random_state, "a non-negative integer")

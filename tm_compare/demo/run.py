@@ -411,6 +411,12 @@ def run_demo(
         language detected for it and reports the mix (see ``tm_compare.demo.DEMO_LANGUAGES``).
     """
     demo._check("run_demo", n_docs, random_state, language)  # before any folder is made
+    # The grid, fit settings and bootstrap too: a bad one must not fail after minutes of work.
+    from ..compare.prevalence import Bootstrap
+    from ..models.sweeps import Sweep
+
+    Sweep(k, seeds, passes=passes)._checked_options()
+    Bootstrap.of("run_demo", {"n_boot": n_boot})
     grid = {"k": tuple(k), "seeds": seeds, "passes": passes}
     run = DemoRun(Project.create(project), int(n_docs), int(random_state), grid, n_boot, progress)
     run.language = language

@@ -21,6 +21,7 @@ from pathlib import Path
 import pandas as pd
 import sqlalchemy as sa
 
+from .._csv import restore_cell, safe_cell
 from .._validation import check_choice, param_error
 from ..errors import LabelStoreError
 from . import _schema as _s
@@ -85,10 +86,10 @@ def import_labels(store, path, fit: str) -> dict:
         raise LabelStoreError(msg)
     batches = [
         (_s.labels, [import_row(r, path) for r in doc["labels"]]),
-        (_s.consensus, settled),
+        (_s.consensus, [consensus_row(r, path) for r in settled]),
     ]
     counts = {"added": 0, "skipped": 0}
-    with store._guard(), _s.write_transaction(store._engine) as conn:
+    with store._guard(), store._write_transaction() as conn:
         store._add_categories(conn, [dict(e) for e in doc.get("codebook", [])])
         for table, items in batches:
             query = sa.select(table.c.uid).where(table.c.fit == fit)
@@ -171,7 +172,8 @@ def csv_text(records: list[dict], words: dict[int, list[str]], columns) -> str:
     writer.writeheader()
     for rec in records:
         row = {k: "" if rec.get(k) is None else rec[k] for k in columns if k != "top_words"}
-        writer.writerow({**row, "top_words": " ".join(words.get(rec["topic"], []))})
+        row["top_words"] = " ".join(words.get(rec["topic"], []))
+        writer.writerow({k: safe_cell(v) for k, v in row.items()})  # spreadsheet-safe text
     return buffer.getvalue()
 
 
@@ -182,13 +184,19 @@ def read_export(path: Path, format_name: str, format_version: int, csv_columns) 
     except OSError as exc:
         msg = f"Cannot read the label file {str(path)!r}: {exc}"
         raise LabelStoreError(msg) from exc
+    except UnicodeDecodeError as exc:
+        msg = (
+            f"The label file {str(path)!r} is not UTF-8 text (byte {exc.object[exc.start]:#04x} "
+            f"at offset {exc.start}). Give a JSON or CSV file exported by tm_compare, saved as UTF-8."
+        )
+        raise LabelStoreError(msg) from None
     if path.suffix.lower() == ".csv" or not text.lstrip().startswith("{"):
         reader = csv.DictReader(io.StringIO(text, newline=""))
         found = [_s.API_NAMES.get(f, f) for f in reader.fieldnames or []]
         if not found or set(csv_columns) - set(found):
             msg = f"{str(path)!r} is not a label export: a CSV needs the columns {list(csv_columns)}; found {reader.fieldnames}."
             raise LabelStoreError(msg)
-        rows = [_s.record(r) for r in reader]
+        rows = [_s.record({k: restore_cell(v) for k, v in r.items()}) for r in reader]
         fits = {r["fit"] for r in rows}
         return {"fit": next(iter(fits)) if len(fits) == 1 else None, "labels": rows}
     try:
@@ -203,7 +211,27 @@ def read_export(path: Path, format_name: str, format_version: int, csv_columns) 
     ):
         msg = f"{str(path)!r} is not a label export (no 'format': {format_name!r} with a 'labels' list)."
         raise LabelStoreError(msg)
-    if int(doc.get("format_version", 0)) > format_version:
+    version = doc.get("format_version", 0)
+    if isinstance(version, bool) or not isinstance(version, int):
+        msg = f"{str(path)!r} has format_version {version!r}; a whole number up to {format_version} is expected. Export the labels again."
+        raise LabelStoreError(msg)
+    for part in ("labels", "consensus", "codebook"):
+        items = doc.get(part, [])
+        if not isinstance(items, list) or not all(isinstance(r, dict) for r in items):
+            msg = (
+                f"{str(path)!r} is not a label export: its {part!r} must be a list of records "
+                f"(JSON objects), got {str(items)[:80]}. Export the labels again with "
+                "`tm-compare labels PROJECT export`."
+            )
+            raise LabelStoreError(msg)
+    for entry in doc.get("codebook", []):
+        if not all(isinstance(entry.get(f), str) for f in ("category", "description", "added_by")):
+            msg = (
+                f"{str(path)!r} has an unreadable codebook entry {str(entry)[:120]}: category, "
+                "description and added_by must be texts. Export the labels again."
+            )
+            raise LabelStoreError(msg)
+    if version > format_version:
         msg = f"{str(path)!r} was written by a newer tm_compare (label format {doc['format_version']}); upgrade to import it."
         raise LabelStoreError(msg)
     doc = _s.record(doc)
@@ -236,8 +264,35 @@ def import_row(raw: dict, path: Path) -> dict:
             raise ValueError("uid and created_at must have 1 to 32 characters")
         if not row["analyst"].strip() or len(row["analyst"]) > 200:
             raise ValueError("analyst must be a name of 1 to 200 characters")
+        for name in ("topic", "version"):  # PostgreSQL's integer, on every back end
+            if not (0 if name == "topic" else 1) <= row[name] <= _s.INT_MAX:
+                raise ValueError(f"{name} {row[name]} is outside 0 to {_s.INT_MAX:,}")
     except (KeyError, TypeError, ValueError) as exc:
         msg = f"The label file {str(path)!r} has an unreadable row ({exc!r}): {str(raw)[:200]}"
         raise LabelStoreError(msg) from None
     _s.check_text("analyst", row["analyst"])
     return row
+
+
+def consensus_row(raw: dict, path: Path) -> dict:
+    """A settled label of a label file, checked like :func:`import_row` checks labels."""
+    fields = ("uid", "topic", "version", "name", "settled_by", "created_at")
+    try:
+        missing = [f for f in fields if f not in raw]
+        if missing:
+            raise KeyError(missing[0])
+        for name in ("topic", "version"):
+            value = raw[name]
+            low = 0 if name == "topic" else 1
+            if (
+                isinstance(value, bool)
+                or not isinstance(value, int)
+                or not low <= value <= _s.INT_MAX
+            ):
+                raise ValueError(f"{name} {value!r} is not an integer from {low} to {_s.INT_MAX:,}")
+        if not isinstance(raw.get("sources", []), list):
+            raise ValueError("sources must be a list of label uids")
+    except (KeyError, ValueError) as exc:
+        msg = f"The label file {str(path)!r} has an unreadable settled label ({exc!r}): {str(raw)[:200]}"
+        raise LabelStoreError(msg) from None
+    return raw

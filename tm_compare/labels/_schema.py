@@ -273,6 +273,13 @@ _KNOWN_ERRORS = (
     ),
     (
         "postgresql",
+        ("authentication failed", "password authentication", "no password supplied"),
+        "PostgreSQL authentication failed for user {user!r} at host {host} port {port} "
+        "(database {database!r}): {detail}. Check the user name and password in the URL (or "
+        "~/.pgpass / PGPASSWORD); the server is running and answered.",
+    ),
+    (
+        "postgresql",
         ("connect", "refused", "timeout"),
         "Cannot reach the PostgreSQL label store at host {host} port {port} (database {database!r}, "
         "user {user!r}): {detail}. Check that the server runs and accepts connections there.",
@@ -287,7 +294,7 @@ _KNOWN_ERRORS = (
         "sqlite",
         ("not a database", "malformed", "corrupt"),
         "The label store {where} is corrupted or not an SQLite database: {detail}. Restore it from "
-        "a backup or an export; tm_compare will not write to it.",
+        "a backup or an export; tm_compare will not read or write it.",
     ),
     (
         "sqlite",
@@ -296,6 +303,43 @@ _KNOWN_ERRORS = (
         "and are readable.",
     ),
 )
+
+
+#: Words of the message that says a store is corrupt (see :data:`_KNOWN_ERRORS`).
+CORRUPT = "is corrupted or not an SQLite database"
+
+
+def refuse_damaged(conn: sa.Connection, where: str) -> None:
+    """Refuse an SQLite store that fails SQLite's own ``quick_check`` (reads and writes)."""
+    if conn.dialect.name != "sqlite":
+        return
+    found = [str(r[0]) for r in conn.exec_driver_sql("PRAGMA quick_check(5)")]
+    if found != ["ok"]:
+        msg = (
+            f"The label store {where} {CORRUPT}: SQLite's quick_check reports "
+            f"{' '.join('; '.join(found).split())[:200]}. Restore it from a backup or an "
+            "export; tm_compare will "
+            "not read or write it."
+        )
+        raise LabelStoreError(msg)
+
+
+def on_read_only_media(url: URL) -> bool:
+    """Whether an existing SQLite store cannot be written here (read-only media or folder)."""
+    if url.get_backend_name() != "sqlite" or not url.database or url.query.get("mode"):
+        return False
+    path = Path(url.database)
+    if not path.exists():
+        return False
+    folder = path.parent
+    return not (os.access(path, os.W_OK) and os.access(folder, os.W_OK)) or _read_only_mount(folder)
+
+
+def _read_only_mount(folder: Path) -> bool:
+    try:
+        return bool(os.statvfs(folder).f_flag & os.ST_RDONLY)
+    except (OSError, AttributeError):
+        return False
 
 
 def translate(exc: Exception, url: URL, timeout: float) -> LabelStoreError:
@@ -479,6 +523,10 @@ def integrity_problems(conn: sa.Connection, verdicts: list[str]) -> list[str]:
                     f"{table.name}: row {row.id} has verdict {row.verdict!r}, not one of {verdicts}"
                 )
     return problems
+
+
+#: Largest value of an integer column on every back end (PostgreSQL's ``integer``).
+INT_MAX = 2**31 - 1
 
 
 def check_text(field: str, value: str | None) -> None:

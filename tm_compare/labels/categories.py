@@ -204,7 +204,7 @@ class CategoriesMixin:
         """
         who = self._writer("define categories")
         entries = _entries(categories, who)
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             for entry in entries:
                 row = next((r for r in _rows(conn) if r.category == entry["category"]), None)
                 if row is not None and row.retired_at is not None:
@@ -237,7 +237,7 @@ class CategoriesMixin:
         old = check_name("rename_category", old)
         new = check_name("rename_category", new)
         who = self._writer("rename a category")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             row = _find(conn, "rename_category", old)
             if new == old:
                 return
@@ -252,7 +252,7 @@ class CategoriesMixin:
         action = "retire" if retire else "restore"
         name = check_name(f"{action}_category", name)
         who = self._writer(f"{action} a category")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             row = _find(conn, f"{action}_category", name)
             if (row.retired_at is not None) == retire:
                 return  # already so: nothing to record

@@ -22,6 +22,7 @@ import functools
 import json
 import numbers
 import uuid
+import warnings
 from dataclasses import asdict, dataclass, fields
 from pathlib import Path
 from typing import NamedTuple
@@ -32,7 +33,7 @@ import sqlalchemy as sa
 from .._atomic import atomic_write_text
 from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._validation import check_choice, param_error
-from ..errors import LabelStoreError
+from ..errors import LabelStoreError, ReadOnlyStoreError
 from . import _files as _f
 from . import _schema as _s
 from . import categories as _categories
@@ -118,8 +119,15 @@ def model_id(model) -> str:
 
 
 def _topic(topic) -> int:
-    if isinstance(topic, bool) or not isinstance(topic, numbers.Integral) or topic < 0:
-        raise param_error("LabelStore", "topic", topic, "a topic number, an integer >= 0")
+    # The same bound on every back end: PostgreSQL's integer holds up to 2**31 - 1, so SQLite
+    # refuses more too and a store moves between them unchanged.
+    if (
+        isinstance(topic, bool)
+        or not isinstance(topic, numbers.Integral)
+        or not 0 <= topic <= _s.INT_MAX
+    ):
+        accepted = f"a topic number, an integer from 0 to {_s.INT_MAX:,} (PostgreSQL's integer)"
+        raise param_error("LabelStore", "topic", topic, accepted)
     return int(topic)
 
 
@@ -182,13 +190,31 @@ class LabelStore(_categories.CategoriesMixin):
             _s.check_text("analyst", analyst)
         self.analyst = analyst
         self.timeout = float(timeout)
+        self._damaged = None  # the message of a corruption found: every later write is refused
         self._url = _s.resolve_url(location, read_only)
+        self._read_only_media = not read_only and _s.on_read_only_media(self._url)
+        if self._read_only_media:
+            read_only = True
+            wal = Path(f"{self._url.database}-wal")  # the writable URL names the file plainly
+            self._url = _s.resolve_url(location, read_only)
+            if not wal.exists() or wal.stat().st_size == 0:
+                # immutable: SQLite then needs no -shm file, which read-only media cannot hold.
+                # Not with a -wal file that holds changes: immutable would skip them.
+                self._url = self._url.update_query_dict({"immutable": "1"})
+            warnings.warn(
+                f"The label store {self.url} is on read-only media (or a folder you may not "
+                "write): it is opened read-only. Listing, export and agreement work; saving "
+                "labels does not. Copy it to a writable folder to label.",
+                UserWarning,
+                stacklevel=2,
+            )
         read_only = self.read_only = read_only or self._url.query.get("mode") == "ro"
         self._engine = _s.make_engine(self._url, self.timeout, read_only)
         wanted = None if verdicts is None else self._clean_verdicts(verdicts)
         with self._guard():
             with self._engine.connect() as conn:
                 version = _s.stored_version(conn)
+                _s.refuse_damaged(conn, self.url)
             if version is not None:
                 _s.refuse_newer(version, self.url)
             if read_only and version is None:
@@ -232,13 +258,34 @@ class LabelStore(_categories.CategoriesMixin):
 
     @contextlib.contextmanager
     def _guard(self):
-        """Turn driver errors into LabelStoreError with a clear, password-free message."""
+        """Turn driver errors into LabelStoreError with a clear, password-free message; once a
+        corruption is seen, the store refuses every later write."""
         try:
             yield
         except Exception as exc:
             if _s.is_driver_error(exc):
-                raise _s.translate(exc, self._url, self.timeout) from None
+                error = _s.translate(exc, self._url, self.timeout)
+                if _s.CORRUPT in str(error):
+                    self._damaged = str(error)
+                raise error from None
             raise
+
+    @contextlib.contextmanager
+    def _write_transaction(self):
+        """The store's write transaction, refused on a damaged or read-only store."""
+        if self._damaged:
+            msg = f"{self._damaged} (found earlier in this session; nothing was written)"
+            raise LabelStoreError(msg)
+        if self.read_only:
+            why = " because it is on read-only media" if self._read_only_media else ""
+            msg = (
+                f"The label store {self.url} is read-only{why}, so labels cannot be saved. "
+                "Listing, export and agreement work; to label, open a writable copy without "
+                "read_only=True / mode=ro."
+            )
+            raise ReadOnlyStoreError(msg)
+        with _s.write_transaction(self._engine) as conn:
+            yield conn
 
     def _read(self, query) -> list:
         with self._guard(), self._engine.connect() as conn:
@@ -281,7 +328,7 @@ class LabelStore(_categories.CategoriesMixin):
         """Replace the allowed verdicts; refuses to drop one that a stored label uses."""
         values = self._clean_verdicts(verdicts)
         self._writer("change the verdicts")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             used = set(conn.execute(sa.select(_s.labels.c.verdict).distinct()).scalars()) - {None}
             used |= set(conn.execute(sa.select(_s.consensus.c.verdict).distinct()).scalars()) - {
                 None
@@ -316,7 +363,7 @@ class LabelStore(_categories.CategoriesMixin):
         fit = fit_id(fit)
         who = self._writer("open a round")
         _s.check_text("name", name)
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             existing = self._open_round(conn, fit)
             if existing is not None:
                 msg = f"Round {existing.id} ({existing.name!r}) is still open on fit {fit!r}; close it with close_round first."
@@ -332,7 +379,7 @@ class LabelStore(_categories.CategoriesMixin):
         """Close the open round on ``fit``; everyone's labels become visible. Returns its id."""
         fit = fit_id(fit)
         who = self._writer("close a round")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             existing = self._open_round(conn, fit)
             if existing is None:
                 msg = f"No round is open on fit {fit!r}."
@@ -554,7 +601,7 @@ class LabelStore(_categories.CategoriesMixin):
                 "the version your edit started from (an integer >= 0), or None for a new label",
             )
         key = {"fit": fit, "topic": topic, "analyst": who}
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             latest = conn.execute(_s.LATEST["labels"], key).first()
             opened = self._open_round(conn, fit)
             round_id = None if opened is None else opened.id
@@ -645,7 +692,7 @@ class LabelStore(_categories.CategoriesMixin):
             msg = f"A blind round is open on fit {fit!r}; close it before settling labels."
             raise LabelStoreError(msg)
         values = {"name": name, "note": note, "verdict": verdict, "category": category}
-        with self._guard(), _s.write_transaction(self._engine) as conn:
+        with self._guard(), self._write_transaction() as conn:
             _categories.refuse_for_new_label(conn, values["category"])
             values = self._clean(conn, values)
             current = [r for r in self._current_rows(conn, fit) if r.topic == topic]

@@ -25,6 +25,7 @@ import dataclasses
 import json
 import os
 import time
+import warnings
 import zipfile
 from pathlib import Path
 
@@ -34,7 +35,7 @@ import scipy.sparse as sp
 from .._atomic import atomic_path
 from .._deprecation import renamed_attribute, renamed_parameters
 from .._hashing import fingerprint as _fingerprint
-from .._validation import check_choice, param_error
+from .._validation import check_choice, check_int, param_error
 from ..errors import CorruptArtifactError, InputError
 from ..options import default
 from . import _engines
@@ -218,6 +219,7 @@ class Fit:
     def top_words(self, n_terms: int = default("n_terms")) -> list[list[str]]:
         """The ``n_terms`` most probable words of each topic, most probable first (ties by term
         id)."""
+        check_int("Fit.top_words", "n_terms", n_terms, minimum=1)
         order = np.argsort(-self.topic_term, axis=1, kind="stable")[:, :n_terms]
         return [[self.vocab[j] for j in row] for row in order]
 
@@ -330,6 +332,7 @@ class TrainingData:
         matrix = prepared.bow.to_csr(len(dictionary))
         n_held = max(1, round(holdout * n_docs)) if holdout > 0 else 0
         heldout = np.zeros(n_docs, dtype=bool)
+        check_int(owner, "holdout_random_state", holdout_random_state, minimum=0)
         rng = np.random.default_rng(holdout_random_state)
         heldout[rng.permutation(n_docs)[:n_held]] = True
         vocab = [dictionary[i] for i in range(len(dictionary))]
@@ -393,13 +396,15 @@ def check_settings(owner: str, settings: dict) -> dict:
             raise param_error(owner, name, value, accepted)
     for name in ("alpha", "eta"):
         value = full[name]
-        if value != "symmetric" and not (isinstance(value, float | int) and value > 0):
+        if value != "symmetric" and not (
+            isinstance(value, float | int) and not isinstance(value, bool) and 0 < value < np.inf
+        ):
             raise param_error(owner, name, value, "'symmetric' (1/k) or a number > 0")
-    if not 0.5 <= full["decay"] <= 1:
+    if not (isinstance(full["decay"], float | int) and 0.5 <= full["decay"] <= 1):
         # Hoffman et al. (2010) prove convergence for (0.5, 1]; 0.5 is gensim's default.
         raise param_error(owner, "decay", full["decay"], "a number in [0.5, 1]")
     for name in ("offset", "gamma_threshold"):
-        if not full[name] > 0:
+        if not (isinstance(full[name], float | int) and 0 < full[name] < np.inf):
             raise param_error(owner, name, full[name], "a number > 0")
     tol = full["tol"]
     if isinstance(tol, bool) or not isinstance(tol, int | float) or not 0 <= tol < 1:
@@ -408,6 +413,25 @@ def check_settings(owner: str, settings: dict) -> dict:
         name: (int(v) if name in ("passes", "iterations", "chunksize") and v != "auto" else v)
         for name, v in full.items()
     }
+
+
+def check_pair(owner: str, fit, prepared) -> None:
+    """Refuse a fit and a prepared corpus that do not belong together: the fit records the
+    fingerprint of the prepared corpus it was trained on."""
+    recorded = getattr(fit, "corpus_fingerprint", None)
+    given = getattr(prepared, "fingerprint", None)
+    if prepared is not None and recorded and given and recorded != given:
+        msg = (
+            f"{owner} got a fit trained on the prepared corpus {recorded} with the prepared "
+            f"corpus {given}: its topics and documents would be paired with the wrong texts. "
+            "Pass the prepared corpus the fit was trained on (load_prepared(project, "
+            "fit.corpus_fingerprint)), or fit again on this one."
+        )
+        raise InputError(msg)
+
+
+#: Documents and vocabulary terms per topic below which a k draws a warning (common practice).
+SUPPORT_PER_TOPIC = 10
 
 
 def check_k(owner: str, k, data: TrainingData) -> int:
@@ -419,6 +443,20 @@ def check_k(owner: str, k, data: TrainingData) -> int:
             f"integers from 2 to the number of training documents ({data.n_train})",
             f"The corpus has {len(data.doc_ids)} documents, {int(data.heldout.sum())} of them "
             "held out; choose fewer topics or add documents.",
+        )
+    # Common practice (no single source): a topic needs a few documents of its own and its own
+    # top words; below 10 of each per topic, expect duplicated or junk topics.
+    per_doc, per_term = data.n_train / k, len(data.vocab) / k
+    if min(per_doc, per_term) < SUPPORT_PER_TOPIC:
+        warnings.warn(
+            f"k={int(k)} topics is more than this corpus can support ({data.n_train} training "
+            f"documents and {len(data.vocab)} terms: {per_doc:.1f} documents and "
+            f"{per_term:.1f} terms per topic, below {SUPPORT_PER_TOPIC} of each). Expect "
+            f"duplicated or junk topics; choose k <= "
+            f"{max(2, int(min(data.n_train, len(data.vocab)) // SUPPORT_PER_TOPIC))} or add "
+            "documents.",
+            UserWarning,
+            stacklevel=3,
         )
     return int(k)
 

@@ -45,6 +45,7 @@ import numpy as np
 import pandas as pd
 import scipy.sparse as sp
 
+from .._validation import check_int, param_error
 from ..errors import InputError
 from . import _engines
 
@@ -157,6 +158,10 @@ def infer(
         corpus = (
             Corpus.from_frame(corpus) if isinstance(corpus, pd.DataFrame) else Corpus.read(corpus)
         )
+    if random_state is not None:  # numpy and gensim take seeds from 0 to 2**32 - 1
+        check_int("infer", "random_state", random_state, minimum=0)
+        if random_state > 2**32 - 1:
+            raise param_error("infer", "random_state", random_state, "an integer below 2**32")
     seed = fit.random_state if random_state is None else int(random_state)
     frame = corpus.frame.reset_index(drop=True)
     texts, clean, unknown = _prepare_like(prepared, frame)

@@ -13,7 +13,6 @@ numbers.
 
 from __future__ import annotations
 
-import json
 import os
 import tempfile
 import warnings
@@ -24,13 +23,22 @@ import numpy as np
 import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_json
+from .._csv import to_csv
 from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
 from .._hashing import fingerprint as _fingerprint
-from .._validation import check_choice, param_error, require
+from .._validation import (
+    check_choice,
+    check_limit,
+    check_n_jobs,
+    check_scheduler,
+    param_error,
+    require,
+)
 from ..errors import ClusterUnavailableError, CorruptArtifactError, ProjectError, SweepError
 from ..options import choices, default
 from ..project import Project
-from . import _engines, quality
+from . import _engines, _saved, quality
+from ._parallel import clean_stop
 from .choice import recommend
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
 from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, stability
@@ -219,7 +227,11 @@ class Sweep:
     def _checked_options(self):
         """The grid, measures and fit settings, validated (nothing runs before this passes)."""
         check_choice("sweep", "engine", self.engine, _engines.ENGINES)
+        check_n_jobs("sweep", self.n_jobs)
+        check_scheduler("sweep", self.scheduler)
         ks = _grid("k", self.k, minimum=2)
+        n_seeds = self.seeds if _is_int(self.seeds) else _size(self.seeds)
+        check_limit("sweep", "grid of fits (k x seeds)", len(ks) * max(n_seeds, 1), "fits")
         if _is_int(self.seeds) and self.seeds < 1:
             raise param_error(
                 "sweep",
@@ -249,7 +261,8 @@ class Sweep:
         if self.client is not None or self.scheduler is not None:
             client, own = _connect(self.client, self.scheduler, self.fallback_local)
             if client is not None:
-                yield from _run_dask(client, own, data, todo, self.engine, settings)
+                with clean_stop():  # SIGTERM/SIGINT: futures cancelled, own client closed
+                    yield from _run_dask(client, own, data, todo, self.engine, settings)
                 return
         import joblib
 
@@ -259,7 +272,8 @@ class Sweep:
                 yield train(data, k, seed, self.engine, settings)
             return
         # Workers memory-map one copy of the matrix instead of receiving it with every task.
-        with tempfile.TemporaryDirectory(prefix="tm_compare-sweep-") as tmp:
+        # SIGTERM/SIGINT: workers killed and the folder removed (see _parallel).
+        with tempfile.TemporaryDirectory(prefix="tm_compare-sweep-") as tmp, clean_stop():
             shared = str(data.save(Path(tmp)))
             tasks = (
                 joblib.delayed(_train_shared)(shared, k, seed, self.engine, settings)
@@ -296,8 +310,9 @@ class Sweep:
             if "top_words" in flat:  # CSV cells hold the words separated by spaces
                 flat["top_words"] = flat["top_words"].map(" ".join)
             with atomic_path(folder / f"{name}.csv") as tmp:
-                flat.to_csv(tmp, index=False)
+                to_csv(flat, tmp)  # text cells safe to open in a spreadsheet
         state = {
+            "checksums": {n: _saved.sha256(folder / n) for n in _saved.TABLES},
             "engine": self.engine,
             "settings": stored(self.settings_),
             "n_terms": self.n_terms,
@@ -312,7 +327,14 @@ class Sweep:
         project = project if isinstance(project, Project) else Project.open(project)
         folder = project.path / "scores"
         try:
-            state = json.loads((folder / _STATE).read_text(encoding="utf-8"))
+            state = _saved.read_state(folder)
+            changed = [
+                n
+                for n in _saved.TABLES
+                if _saved.sha256(folder / n) != state.get("checksums", {}).get(n)
+            ]
+            if changed:
+                return cls._rescored(project, state, folder / changed[0])
             scores = pd.read_parquet(folder / "scores.parquet")
             topic_scores = pd.read_parquet(folder / "topic_scores.parquet")
         except FileNotFoundError as exc:
@@ -329,22 +351,44 @@ class Sweep:
             )
             raise CorruptArtifactError(msg) from exc
         topic_scores["top_words"] = topic_scores["top_words"].map(list)
-        state = from_stored(state)
         settings = from_stored(state["settings"])
         self = cls(
-            sorted({f["k"] for f in state["fits"]}),
-            sorted({f["seed"] for f in state["fits"]}),
+            *_saved.grid_of(state),
             state["engine"],
             project=project,
             n_terms=state["n_terms"],
             **settings,
         )
         self.fits_ = FitShelf(
-            {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]}
+            {(f["k"], f["seed"]): project.path / "fits" / f["file"] for f in state["fits"]},
+            state["corpus_fingerprint"],
         )
         self.scores_, self.topic_scores_ = scores, topic_scores
         self.settings_, self.corpus_fingerprint_ = settings, state["corpus_fingerprint"]
         return self
+
+    @classmethod
+    def _rescored(cls, project, state: dict, changed: Path) -> Sweep:
+        """The sweep of ``state`` with its score tables recomputed from the saved fits (a table
+        that fails its checksum is never used)."""
+        from ..text.prepared import load_prepared
+
+        warnings.warn(
+            f"The score table {str(changed)!r} was edited or damaged since the sweep wrote it "
+            "(its sha256 differs from the one recorded in sweep.json); it is not used. "
+            "Recomputing the score tables from the saved fits.",
+            UserWarning,
+            stacklevel=3,
+        )
+        prepared = load_prepared(project, state["corpus_fingerprint"])
+        settings = from_stored(state["settings"])
+        again = cls(
+            *_saved.grid_of(state), state["engine"], project=project, n_terms=state["n_terms"]
+        )
+        for name, value in settings.items():
+            setattr(again, name, value)
+        again.progress = False
+        return again.fit(prepared)
 
 
 def sweep(
@@ -360,14 +404,28 @@ def sweep(
 
 
 class FitShelf(Mapping):
-    """Fits of a sweep by ``(k, seed)``; those saved in a project are read when asked for."""
+    """Fits of a sweep by ``(k, seed)``; those saved in a project are read when asked for, and
+    checked to be the fit their name says (a file copied over another's name is refused)."""
 
-    def __init__(self, entries: dict):
+    def __init__(self, entries: dict, corpus_fingerprint: str | None = None):
         self._entries = entries
+        self._corpus = corpus_fingerprint
 
     def __getitem__(self, key) -> Fit:
         entry = self._entries[key]
-        return Fit.load(entry) if isinstance(entry, Path) else entry
+        if not isinstance(entry, Path):
+            return entry
+        fit = Fit.load(entry)
+        found = (fit.k, fit.random_state)
+        if found != tuple(key) or self._corpus not in (None, fit.corpus_fingerprint):
+            msg = (
+                f"The fit file {str(entry)!r} holds the fit k={fit.k}, seed={fit.random_state} "
+                f"of corpus {fit.corpus_fingerprint}, but the sweep saved it as k={key[0]}, "
+                f"seed={key[1]} of corpus {self._corpus}: it was copied or renamed. Delete it "
+                "and run the same sweep again, which refits it."
+            )
+            raise CorruptArtifactError(msg)
+        return fit
 
     def __contains__(self, key) -> bool:  # without reading the file
         return key in self._entries
@@ -384,7 +442,16 @@ def _is_int(value) -> bool:
     return isinstance(value, int | np.integer) and not isinstance(value, bool)
 
 
+def _size(values) -> int:
+    try:
+        return len(values)
+    except TypeError:
+        return 1
+
+
 def _grid(name: str, values, minimum: int) -> list[int]:
+    if not _is_int(values):
+        check_limit("sweep", name, _size(values), "fits")  # before listing a huge range
     items = [values] if _is_int(values) else list(values) if isinstance(values, Iterable) else None
     accepted = f"an integer or a non-empty list of integers >= {minimum}"
     if not items:

@@ -23,6 +23,7 @@ import numpy as np
 import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_bytes, atomic_write_text
+from .._csv import to_csv
 from .._deprecation import warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ProjectError
@@ -154,8 +155,8 @@ def write_tables(results: Results, folder, formats=TABLE_FORMATS) -> list[Path]:
         for fmt in formats:
             target = folder / f"{name}.{fmt}"
             with atomic_path(target) as tmp:
-                if fmt == "csv":
-                    flat.to_csv(tmp, index=False)
+                if fmt == "csv":  # text cells safe to open in a spreadsheet (see _csv)
+                    to_csv(flat, tmp)
                 else:
                     flat.to_parquet(tmp, index=False)
             written.append(target)
@@ -248,6 +249,10 @@ def export(
     tables already computed, or settings of :class:`tm_compare.results.ModelResults` for
     :func:`collect`. Empty ``charts`` or ``tables`` skips them.
     """
+    charts = _formats("export", "charts", charts or [], CHART_FORMATS)  # before any work
+    tables = _formats("export", "tables", tables or [], TABLE_FORMATS)
+    if out is not None and Path(out).exists() and not Path(out).is_dir():
+        raise param_error("export", "out", str(out), "a folder (it is a file)", "Name a folder.")
     if results is None:
         results = collect(project, k, seed, **settings)
     folder = Path(out) if out is not None else results.project.folder(EXPORT_FOLDER)
@@ -284,6 +289,11 @@ def data_dictionary(tables=None, path=None) -> str:
         "Each table is written as NAME.csv and NAME.parquet with the same values. "
         "Lists in cells (top words, ids) are space- or '; '-separated text. The settings "
         "that shaped a table (weighting, cluster, n_boot, random_state, ...) are columns of it.",
+        "",
+        "In the CSV files, a text cell that begins with `=`, `+`, `-`, `@`, a tab or a carriage "
+        "return (which a spreadsheet could run as a formula) or with an apostrophe starts with "
+        "one more apostrophe, as OWASP's guidance on CSV injection advises; numbers are never "
+        "changed, and the Parquet files hold every value as it is.",
     ]
     for name in tables or COLUMNS:
         about, columns = COLUMNS[name]

@@ -18,6 +18,7 @@ from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
 from .._hashing import fingerprint as _fingerprint
+from .._validation import param_error
 from ..errors import CorpusError, MissingDependencyError
 from .removals import RemovalLog
 
@@ -62,6 +63,7 @@ def read_table(
         msg = f"The corpus file {str(path)!r} does not exist (working folder: {os.getcwd()!r}). Check the path."
         raise CorpusError(msg)
     enc = encoding or "utf-8-sig"  # a byte-order mark is harmless; plain UTF-8 reads the same
+    check_encoding("Corpus.read", enc)
     try:
         if fmt in ("csv", "tsv"):
             # Only empty cells are missing: words such as "NA" or "null" stay text.
@@ -89,6 +91,16 @@ def read_table(
     except (ValueError, OSError) as exc:  # parser errors, pyarrow errors, bad gzip data
         msg = f"Cannot read {str(path)!r} as {fmt}: {exc}. Check that the file is {fmt}, or pass format=."
         raise CorpusError(msg) from exc
+
+
+def check_encoding(owner: str, encoding) -> str:
+    """Refuse an encoding Python does not know, before any file is read."""
+    try:
+        return codecs.lookup(encoding).name
+    except (LookupError, TypeError):
+        accepted = "a text encoding Python knows, e.g. 'utf-8', 'cp1252', 'latin-1'"
+        fix = "See the list of standard encodings in Python's codecs documentation."
+        raise param_error(owner, "encoding", encoding, accepted, fix) from None
 
 
 def _read_jsonl(path: Path, encoding: str) -> pd.DataFrame:
@@ -133,7 +145,8 @@ def _decode_message(path: Path, encoding: str, exc: UnicodeDecodeError) -> str:
     return (
         f"The file {str(path)!r} is not valid {name}{where} cannot be decoded. "
         "Pass the file's encoding, e.g. Corpus.read(path, encoding='cp1252') or "
-        "encoding='latin-1', or re-save the file as UTF-8."
+        "encoding='latin-1' (on the command line: --encoding cp1252), or re-save the file as "
+        "UTF-8."
     )
 
 
@@ -159,6 +172,25 @@ def _first_bad_byte(path: Path, encoding: str, chunk: int = 1 << 20) -> tuple[in
 
 
 # ---------------------------------------------------------------- columns
+
+
+def check_column_labels(df: pd.DataFrame, origin: str) -> None:
+    """Refuse column labels that make a column ambiguous: MultiIndex levels or duplicates."""
+    if isinstance(df.columns, pd.MultiIndex):
+        msg = (
+            f"{origin} has {df.columns.nlevels}-level (MultiIndex) column labels such as "
+            f"{df.columns[0]!r}; intake needs one name per column. Flatten them first, e.g. "
+            "df.columns = ['_'.join(map(str, c)) for c in df.columns]."
+        )
+        raise CorpusError(msg)
+    twice = sorted({str(c) for c in df.columns[df.columns.duplicated()]})
+    if twice:
+        msg = (
+            f"{origin} has more than one column named {', '.join(map(repr, twice))}; intake "
+            "needs each column name once. Rename or drop the copies, e.g. "
+            "df = df.loc[:, ~df.columns.duplicated()]."
+        )
+        raise CorpusError(msg)
 
 
 def resolve_columns(df: pd.DataFrame, roles: dict, origin: str) -> dict[str, str]:
@@ -235,8 +267,34 @@ def as_strings(
                 f"Convert the column to text before intake, or name another column."
             )
             raise CorpusError(msg)
+    _refuse_surrogates(values, role, column, labels, origin)
     out = values.astype("str")
     return out.where(values.notna())
+
+
+def _has_surrogate(value) -> bool:
+    if not isinstance(value, str) or value.isascii():
+        return False
+    try:
+        value.encode("utf-8")
+    except UnicodeEncodeError:
+        return True
+    return False
+
+
+def _refuse_surrogates(values: pd.Series, role, column, labels, origin) -> None:
+    """Refuse lone UTF-16 surrogates: they are not characters and no file or store holds them."""
+    if values.dtype != object:
+        return
+    bad = np.flatnonzero(values.map(_has_surrogate).to_numpy(bool))
+    if len(bad):
+        msg = (
+            f"The {role} column {column!r} of {origin} holds half of a UTF-16 surrogate pair "
+            f"(not a character; it often comes from text cut in two) in rows "
+            f"{describe_rows(bad, labels)}. Remove those characters, e.g. "
+            f"df[{column!r}].str.encode('utf-8', 'replace').str.decode('utf-8')."
+        )
+        raise CorpusError(msg)
 
 
 def _decode(value, role, column, origin):
@@ -257,7 +315,17 @@ def _decode(value, role, column, origin):
 
 
 def as_weights(values: pd.Series, column: str, labels: pd.Series, origin: str) -> np.ndarray:
-    """Exposure weights as floats; non-numeric, missing, infinite or negative values are errors."""
+    """Exposure weights as floats; non-numeric (complex too), missing, infinite or negative values
+    are errors."""
+    complex_ = values.map(lambda v: isinstance(v, complex | np.complexfloating)).to_numpy(bool)
+    if pd.api.types.is_complex_dtype(values.dtype) or complex_.any():
+        bad = np.flatnonzero(complex_) if complex_.any() else np.arange(len(values))
+        msg = (
+            f"The weight column {column!r} of {origin} holds complex numbers in rows "
+            f"{describe_rows(bad, labels, values)}. Weights must be real counts >= 0 (the "
+            "number of exposures); keep the real part (df[col].real) if that is what you mean."
+        )
+        raise CorpusError(msg)
     numbers = pd.to_numeric(values, errors="coerce").astype(float)
     checks = [
         (numbers.isna() & values.notna(), "non-numeric", "numbers"),
@@ -344,7 +412,17 @@ def merge_duplicates(
             kind="merged",
         )
     out = _fill_from_copies(frame, rep, absorbed, keep)
-    out["weight"] = np.bincount(rep, weights=frame["weight"].to_numpy(), minlength=n)[keep]
+    with np.errstate(over="ignore"):
+        out["weight"] = np.bincount(rep, weights=frame["weight"].to_numpy(), minlength=n)[keep]
+    if not np.isfinite(out["weight"]).all():
+        bad = np.flatnonzero(~np.isfinite(out["weight"].to_numpy()))
+        msg = (
+            f"The weights of {origin} overflow when rows of the same document are added: "
+            f"document(s) {', '.join(map(repr, out['id'].iloc[bad[:5]]))} sum to infinity. "
+            f"Weights must add up to less than {np.finfo(float).max:.3g}; rescale them (e.g. "
+            "divide by a constant) before intake."
+        )
+        raise CorpusError(msg)
     out["duplicate_ids"] = _duplicate_ids(frame["id"], frame["duplicate_ids"], rep, absorbed, keep)
     return out
 
@@ -429,7 +507,8 @@ def _check_conflicts(frame: pd.DataFrame, has_text: np.ndarray, origin: str) -> 
         f"{len(conflicts)} id(s) of {origin} have different texts within the same source: "
         f"{'; '.join(shown)}{more}. An id should name one article. Fix the ids, or pass "
         "on_conflict='first' (keep the first row's text) or on_conflict='longest' "
-        "(keep the longest text); either way the rows merge and their weights add."
+        "(keep the longest text) -- on the command line --on-conflict first or longest; "
+        "either way the rows merge and their weights add."
     )
     raise CorpusError(msg)
 

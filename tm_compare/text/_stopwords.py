@@ -45,3 +45,26 @@ _CONTRACTIONS = frozenset(
 )
 
 ENGLISH = frozenset((ENGLISH_STOP_WORDS - _TAKEN_BACK) | _NEWS | _CONTRACTIONS)
+
+
+def read_stop_words(path) -> list[str]:
+    """Stop words from a text file, one per line (UTF-8); a binary or non-UTF-8 file is refused
+    with the line at fault."""
+    from ..errors import InputError
+
+    fix = "Give a plain-text file saved as UTF-8 with one stop word per line."
+    with open(path, "rb") as fh:
+        raw = fh.read()
+    if b"\0" in raw:
+        msg = f"The stop-word file {str(path)!r} is binary (it holds NUL bytes), not text. {fix}"
+        raise InputError(msg)
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        msg = (
+            f"The stop-word file {str(path)!r} is not UTF-8 text: byte {raw[exc.start]:#04x} on "
+            f"line {line} cannot be decoded. {fix}"
+        )
+        raise InputError(msg) from None
+    return [w.strip() for w in text.splitlines() if w.strip()]

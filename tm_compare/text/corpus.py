@@ -122,6 +122,17 @@ class Corpus:
         check_choice("Corpus.from_frame", "on_conflict", on_conflict, CONFLICT_RULES)
         if not isinstance(df, pd.DataFrame):
             raise param_error("Corpus.from_frame", "df", type(df).__name__, "a pandas DataFrame")
+        _intake.check_column_labels(df, origin)
+        if tracking_params is not None and (
+            isinstance(tracking_params, str | bytes)
+            or not isinstance(tracking_params, Iterable)
+            or not all(isinstance(p, str) for p in tracking_params)
+        ):
+            accepted = "a list of query-parameter patterns (strings such as 'utm_*')"
+            raise param_error("Corpus.from_frame", "tracking_params", tracking_params, accepted)
+        if date_format is not None and not isinstance(date_format, str):
+            accepted = "None or a strftime format such as '%d/%m/%Y'"
+            raise param_error("Corpus.from_frame", "date_format", date_format, accepted)
         tracking = tuple(TRACKING_PARAMS if tracking_params is None else tracking_params)
         roles = dict(zip(_ROLES, (text, source, id, weight, group, url, title, date), strict=True))
         for role in ("text", "source"):

@@ -174,6 +174,11 @@ def prepare(
     min_doc_tokens : int, default 10
         Documents with fewer tokens after preparation are counted out.
     """
+    from .corpus import Corpus
+
+    if not isinstance(corpus, Corpus):
+        accepted = "a Corpus (from Corpus.read or Corpus.from_frame)"
+        raise param_error("prepare", "corpus", type(corpus).__name__, accepted)
     s = _check_settings(corpus, settings)
     key = _key(corpus, s)
     project, folder = _cache_folder(project, cache_dir, key)
@@ -420,7 +425,13 @@ def _check_settings(corpus, settings: dict) -> dict:
     )
     for name in ("boilerplate_min_share", "near_duplicate_threshold", "max_doc_fraction"):
         need(name, _is_real(s[name]) and 0 < s[name] <= 1, "a number in (0, 1]")
-    need("phrase_threshold", _is_real(s["phrase_threshold"]), "a number")
+    need(
+        "phrase_threshold",
+        _is_real(s["phrase_threshold"])
+        and np.isfinite(s["phrase_threshold"])
+        and (s["phrase_scoring"] == "npmi" or s["phrase_threshold"] > 0),
+        "a finite number, > 0 with the default phrase scoring",
+    )
     check_choice("prepare", "stem", s["stem"], [None, "snowball", "lemma"])
     s["language"] = check_language("prepare", s["language"])
     if s["undetected"] != "remove":
