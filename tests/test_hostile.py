@@ -9,7 +9,7 @@ the named :mod:`tm_compare.errors` exception whose message names the value.
 
 Rows read ``(id, argv or call, setup, expected fragment)``. In ``argv``, ``{P}`` is the shared
 project, ``{D}`` the damaged copy a setup made, ``{F}`` a file a setup wrote, ``{T}`` a
-scratch folder, ``{FIT}`` the fingerprint of the fit k=4, seed=0 and ``{CSV}`` the demo's
+scratch folder, ``{FIT}`` the fingerprint of the recommended fit and ``{CSV}`` the demo's
 corpus file. The one-line ``Error:`` shape with exit 1 and ``--debug`` for the traceback is
 common practice for command-line tools.
 """
@@ -161,7 +161,7 @@ def _drop_key(key):
 
 S = ["sweep", "{P}", "--no-progress", "--k", "4", "--seeds", "1"]  # a sweep that reuses a fit
 C = ["compare", "{P}", "--k", "4", "--n-boot", "20"]
-L = ["labels", "{P}", "import", "{F}", "--k", "4", "--seed", "0"]
+L = ["labels", "{P}", "import", "{F}", "--fit", "{FIT}"]
 
 # fmt: off
 CLI = [
@@ -530,7 +530,7 @@ class Context:
         from tm_compare.models.sweeps import load_fit
 
         self.project, self.tmp, self.csv = project, tmp, project / "demo" / "quillhaven.csv"
-        self.fit = load_fit(project, 4, 0).fingerprint
+        self.fit = load_fit(project).fingerprint  # the recommended fit: the one the demo labelled
         with LabelStore(project) as store:
             self.export = json.loads(
                 store.export_text(self.fit, format="json", history=True, top_words=None)
@@ -892,8 +892,6 @@ def test_csv_exports_neutralise_spreadsheet_formulas(shared, tmp_path):
     argv = [
         "export",
         str(copy),
-        "--k",
-        "4",
         "--charts",
         "none",
         "--n-boot",
