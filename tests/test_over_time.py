@@ -280,6 +280,7 @@ def test_undated_documents_are_left_out_with_a_warning_and_bad_settings_refused(
         prevalence_over_time(fit, some, freq="W", cluster=None, n_boot=20, resampling="poisson")
 
 
+@pytest.mark.filterwarnings("ignore:.*fewer than 10 documents")
 def test_results_layer_reads_one_place_and_narrows_to_a_window():
     fit, prepared = random_case(seed=2)
     results = ModelResults(fit, prepared, cluster=None, n_boot=100, freq="M")
@@ -374,3 +375,95 @@ def test_lda_on_the_demo_recovers_the_planted_rise():
     assert last.prevalence > first.prevalence and last.ci_low > first.ci_high  # right sign, clear
     for row in rising.itertuples():
         assert row.ci_low <= sample[(row.source, row.period)] <= row.ci_high
+
+
+# --- the chart and the view -------------------------------------------------------------------
+
+
+def test_time_chart_keeps_thin_periods_off_the_line():
+    from tm_compare.views import charts
+
+    fit, prepared = random_case(n_docs=300, seed=3)
+    with pytest.warns(UserWarning, match="fewer than 10 documents"):
+        results = ModelResults(fit, prepared, cluster=None, n_boot=50, freq="W")
+        frame = results.over_time_frame()
+    assert frame["few"].any() and (~frame["few"]).any()
+    spec = charts.time_chart(
+        frame, focus=1, min_period_docs=10, window=("2024-03-10", "2024-04-01")
+    ).to_dict()
+    layers = spec["layer"]
+    marks = [layer["mark"]["type"] for layer in layers]
+    assert marks == ["rect", "area", "rule", "line", "point", "point"]
+    filters = [[t.get("filter") for t in layer.get("transform", [])] for layer in layers[1:]]
+    # The line, its band and its dots skip thin periods; the hollow rings show only those.
+    assert all("!datum.few" in f for f in filters[:4])
+    assert "datum.few && isValid(datum.estimate)" in filters[4]
+    assert layers[-1]["mark"]["filled"] is False
+    assert "fewer than 10 documents" in " ".join(spec["title"]["subtitle"])
+    assert {"name": "focus", "value": 1} in spec["params"]
+
+
+@pytest.fixture(scope="module")
+def dated_view():
+    from tm_compare.views import TopicView
+
+    def readers(rng, n):
+        return np.array([f"r{g}" for g in rng.integers(0, 8, n)], dtype=object)
+
+    fit, prepared = random_case(n_docs=400, months=4, seed=6, groups=readers)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        view = TopicView(fit, prepared, n_boot=60, freq="M")
+    yield view, fit, prepared
+    view.close()
+
+
+def test_time_panel_follows_the_selected_topic(dated_view):
+    view, fit, prepared = dated_view
+    panel = view.time_panel
+    assert panel.available and panel.period.value == "M"
+    view.topic = 2
+    assert panel.chart.params.focus == 2
+    shown = panel.results.over_time_frame()
+    # The chart's numbers are the results layer's table (one place for every skin).
+    table = view.results.with_settings(freq="M").over_time()
+    np.testing.assert_allclose(shown["estimate"], table["prevalence"])
+
+
+def test_date_range_narrows_every_panel(dated_view):
+    view, fit, prepared = dated_view
+    panel = view.time_panel
+    marks = [v for _, v in panel.dates.options]
+    start, end = pd.Timestamp("2024-04-01"), pd.Timestamp("2024-05-31")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        panel.dates.value = (start, end)
+    inside = ((prepared.meta["date"] >= start) & (prepared.meta["date"] <= end)).to_numpy()
+    expected_ids = [d for d, i in zip(prepared.doc_ids, inside, strict=True) if i]
+    assert view.results.prepared.doc_ids == expected_ids
+    assert view.sources_panel.results.prepared.doc_ids == expected_ids
+    assert view.terms_panel.results.prepared.doc_ids == expected_ids
+    assert view.documents_panel.results.prepared.doc_ids == expected_ids
+    left = inside & (prepared.sources == "left")
+    prev = view.sources_panel.results.prevalence().query("source == 'left'")
+    # Reference: numpy.average over the documents of those dates (exposure weighting).
+    np.testing.assert_allclose(
+        prev["prevalence"], np.average(fit.doc_topic[left], axis=0, weights=prepared.weights[left])
+    )
+    assert panel.window == (start, end)
+    shown_ids = set(view.documents_panel.results.documents(view.topic)["id"])
+    assert shown_ids <= set(expected_ids)
+    panel.dates.value = (marks[0], marks[-1])  # the whole span again
+    assert view.results.prepared.doc_ids == prepared.doc_ids and panel.window is None
+
+
+def test_view_without_dates_says_so_and_still_opens():
+    from tm_compare.views import TopicView
+
+    fit, prepared = random_case(n_docs=120)
+    bare = build_prepared(prepared.sources, [["x"]] * len(prepared), vocab=["x"])
+    view = TopicView(_fit(bare, fit.doc_topic), bare, n_boot=30, cluster=None)
+    assert not view.time_panel.available
+    assert "no document of the prepared corpus has one" in view.time_panel.status.value
+    view.topic = 1  # the other panels still follow
+    view.close()

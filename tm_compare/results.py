@@ -242,6 +242,24 @@ class ModelResults:
             raise ComparisonError(msg)
         return self._table("over_time_differences", lambda: self._over_time_pair()[1])
 
+    def over_time_frame(self) -> pd.DataFrame:
+        """The frame of :func:`tm_compare.views.charts.time_chart`: every topic over time."""
+        table = self.over_time()
+        return pd.DataFrame(
+            {
+                "topic": table["topic"].to_numpy(),
+                "name": table["topic"].map(self.captions).to_numpy(),
+                "source": table["source"].to_numpy(),
+                "period": table["period"].to_numpy(),
+                "period_start": table["period_start"].to_numpy(),
+                "estimate": table["prevalence"].to_numpy(),
+                "lower": table["ci_low"].to_numpy(),
+                "upper": table["ci_high"].to_numpy(),
+                "n_documents": table["n_documents"].to_numpy(),
+                "few": table["few_documents"].to_numpy(bool),
+            }
+        )
+
     def date_span(self) -> tuple[pd.Timestamp, pd.Timestamp]:
         """The first and last document date (ComparisonError when the corpus has none)."""
         dates = over_time.document_dates(self.prepared, "ModelResults.date_span")
