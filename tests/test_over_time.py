@@ -467,3 +467,60 @@ def test_view_without_dates_says_so_and_still_opens():
     assert "no document of the prepared corpus has one" in view.time_panel.status.value
     view.topic = 1  # the other panels still follow
     view.close()
+
+
+# --- the report -------------------------------------------------------------------------------
+
+
+@pytest.mark.slow
+def test_report_section_shows_the_results_layer_numbers():
+    from test_pipeline import small_demo
+    from test_report import Page
+
+    run, _ = small_demo()
+    page = Page(run.report_path.read_text(encoding="utf-8"))
+    text = " ".join(page.text)
+    assert (
+        text.index("Sources compared")
+        < text.index("Change over time")
+        < text.index("Documents that show each topic")
+    )
+    shown = page.rows("over-time")
+    table = run.results.results.over_time()
+    kept = table[~table["few_documents"]]
+    for row in shown.itertuples(index=False):
+        topic = int(row[0].split(" · ")[0])
+        first = kept[(kept.topic == topic) & (kept.source == row[1])].sort_values("period_start")
+        # The report's numbers are the results layer's (rounded to 3 places as shown).
+        assert float(row[3]) == pytest.approx(first["prevalence"].iloc[0], abs=5e-4)
+        assert float(row[5]) == pytest.approx(first["prevalence"].iloc[-1], abs=5e-4)
+    diff = run.results.results.over_time_differences()
+    stands = page.rows("over-time-differences")
+    assert int(stands.iloc[0, 1]) == len(diff) and int(stands.iloc[0, 2]) == int(
+        diff["significant"].sum()
+    )
+    alts = [a.get("alt", "") for t, a in page.tags if t == "img"]
+    assert sum("over time, per source" in a for a in alts) == 3
+
+
+@pytest.mark.slow
+def test_cli_compare_over_time_writes_both_tables(capsys):
+    from test_pipeline import small_demo
+
+    from tm_compare.cli import main
+
+    run, _ = small_demo()
+    folder = run.project.path
+    args = ["compare", str(folder), "--k", "4", "--n-boot", "50", "--over-time", "--freq", "M"]
+    assert main(args) == 0
+    out = capsys.readouterr().out
+    written = folder / "comparison" / "k4_seed0"
+    prev = pd.read_csv(written / "over_time-exposure-group.csv")
+    diff = pd.read_csv(written / "over_time_differences-exposure-group.csv")
+    assert set(prev["period"]) == {"2024-03", "2024-04", "2024-05", "2024-06"}
+    assert (prev["freq"] == "M").all() and (prev["n_boot"] == 50).all()
+    line = next(li for li in out.splitlines() if li.startswith("Over time:"))
+    assert f"{int(diff['significant'].sum())} of {len(diff)} topic-period differences stand" in line
+    assert main(["compare", str(folder), "--k", "4", "--over-time", "--freq", "fortnight"]) == 1
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("Error: The 'freq' parameter")

@@ -34,6 +34,8 @@ SETTINGS = (
     "random_state",
     "n_terms",
     "n_docs",
+    "freq",
+    "min_period_docs",
 )
 NO_CLUSTER = "document"  # --cluster document: the API's cluster=None
 
@@ -44,6 +46,8 @@ def add_settings(parser) -> None:
         if name == "cluster":
             choices = [c for c in OPTIONS[name].choices if c is not None] + [NO_CLUSTER]
             add_option(parser, name, choices=choices)
+        elif name == "freq":
+            add_option(parser, name, metavar="D|W|M|Q|Y")
         else:
             add_option(parser, name, renamed=("--weight",) if name == "weighting" else ())
 
@@ -95,6 +99,12 @@ def register(subparsers) -> None:
     parser.add_argument("--seed", type=int, default=0, help="seed of the model [0]")
     add_settings(parser)
     parser.add_argument(
+        "--over-time",
+        action="store_true",
+        help="also write prevalence per source and period, and differences per period "
+        "(over_time-*.csv, over_time_differences-*.csv); needs document dates",
+    )
+    parser.add_argument(
         "--by-group",
         action="store_true",
         help="deprecated: groups are resampled by default now (--cluster group)",
@@ -136,6 +146,21 @@ def summary(table: pd.DataFrame, fit, n_topics: int = default("n_topics")) -> pd
     ].round(3)
 
 
+def over_time_summary(made: dict) -> str:
+    """One line on the tables over time, for the terminal."""
+    prev = made["over_time"]
+    cells = prev.drop_duplicates(["source", "period"])
+    line = (
+        f"Over time: {cells['period'].nunique()} periods (freq {prev['freq'].iloc[0]}); "
+        f"{int(cells['few_documents'].sum())} source-periods with fewer than "
+        f"{int(prev['min_period_docs'].iloc[0])} documents (not tested)"
+    )
+    diff = made.get("over_time_differences")
+    if diff is not None:
+        line += f"; {int(diff['significant'].sum())} of {len(diff)} topic-period differences stand"
+    return line + "."
+
+
 def deprecated_flags(args) -> None:
     """Apply ``--by-group`` (the old opt-in to groups), with a FutureWarning naming the new flag."""
     if args.by_group:
@@ -152,6 +177,10 @@ def run(args) -> int:
     with notes():
         results = ModelResults(fit, prepared, **settings(args))
         made = {n: t for n, t in results.tables().items() if n in WRITTEN}
+        if args.over_time:
+            made["over_time"] = results.over_time()
+            if len(results.sources) > 1:
+                made["over_time_differences"] = results.over_time_differences()
     s = results.settings
     suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
     folder = Path(project.folder("comparison")) / f"k{args.k}_seed{args.seed}"
@@ -171,5 +200,7 @@ def run(args) -> int:
         print("One source only: no differences to show.")
     else:
         print(summary(made["differences"], fit).to_string(index=False))
+    if args.over_time:
+        print(over_time_summary(made))
     print(f"Wrote {len(made)} tables to {folder}")
     return 0

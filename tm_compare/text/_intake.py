@@ -466,6 +466,8 @@ def frame_fingerprint(frame: pd.DataFrame) -> str:
         if column == "duplicate_ids":
             values = pd.Series(["\x1f".join(map(str, v)) for v in values], dtype="str")
         if pd.api.types.is_datetime64_any_dtype(values.dtype):
+            if getattr(values.dt, "tz", None) is not None:  # a metadata column with a time zone
+                values = values.dt.tz_convert("UTC").dt.tz_localize(None)
             parts.append(values.astype("datetime64[us]").to_numpy().view("int64"))
         elif pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(
             values.dtype
