@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import warnings
+
 import ipywidgets as w
 import pandas as pd
 
@@ -96,7 +98,10 @@ class TimePanel(w.VBox):
 
     def _build(self):
         results = self.results
-        table = results.over_time()
+        with warnings.catch_warnings():
+            # Thin periods are drawn as such (hollow rings, stated under the title).
+            warnings.filterwarnings("ignore", message=".*fewer than .* documents")
+            table = results.over_time()
         row = table.iloc[0]
         cluster = results.settings["cluster"]
         resample = "documents" if cluster is None else f"clusters of '{cluster}'"
