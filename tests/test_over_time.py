@@ -524,3 +524,17 @@ def test_cli_compare_over_time_writes_both_tables(capsys):
     assert main(["compare", str(folder), "--k", "4", "--over-time", "--freq", "fortnight"]) == 1
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and err[0].startswith("Error: The 'freq' parameter")
+
+
+def test_large_corpora_draw_the_time_panel_on_request(monkeypatch):
+    from tm_compare.views import _time_panel
+
+    fit, prepared = random_case(n_docs=200, seed=9)
+    monkeypatch.setattr(_time_panel, "DRAW_AT_ONCE", 100)
+    results = ModelResults(fit, prepared, cluster=None, n_boot=30)
+    picked = []
+    panel = _time_panel.TimePanel(results, picked.append, topic=1)
+    assert not hasattr(panel, "chart") and panel.children == (panel.start,)
+    panel.show_topic(2)  # nothing drawn yet: remembered for the first drawing
+    panel.start.click()
+    assert panel.chart.params.focus == 2 and panel.period.value is None
