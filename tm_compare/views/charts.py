@@ -341,11 +341,16 @@ def time_chart(
     # A new run of trusted periods starts after each thin one: lines and bands break there.
     data["run"] = data.groupby(["topic", "source"])["few"].cumsum()
     sources = sorted(data["source"].unique().tolist())
-    colour = alt.Color(
-        "source:N", scale=_source_scale(sources), legend=alt.Legend(orient="top", title=None)
+    # One legend for every layer: drawn as solid strokes, whatever the layer's opacity.
+    key = alt.Legend(
+        orient="top", title=None, symbolType="stroke", symbolOpacity=1, symbolStrokeWidth=3
     )
-    quiet = alt.Color("source:N", scale=_source_scale(sources), legend=None)
-    x = alt.X("start:T", title=None, axis=alt.Axis(format="%d %b", labelAngle=0))
+    colour = quiet = alt.Color("source:N", scale=_source_scale(sources), legend=key)
+    x = alt.X(
+        "start:T",
+        title=None,
+        axis=alt.Axis(format="%d %b", labelAngle=0, labelOverlap="greedy", labelSeparation=8),
+    )
     y = alt.Y("estimate:Q", title="share of the source", axis=alt.Axis(format=".0%"))
     tip = [
         alt.Tooltip("source:N"),

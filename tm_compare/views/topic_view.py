@@ -87,13 +87,13 @@ class TopicView(w.VBox):
             ),
             _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
             self.sources_panel,
+            self.reading_title,
             _section(
                 "Over time",
                 "The topic's share of each source, period by period. Pick dates to narrow "
                 "every panel to the articles of those dates.",
             ),
             self.time_panel,
-            self.reading_title,
             _section(
                 "Terms",
                 "The topic's top terms, and the terms each source uses more when it writes on this topic.",
