@@ -538,3 +538,40 @@ def test_large_corpora_draw_the_time_panel_on_request(monkeypatch):
     panel.show_topic(2)  # nothing drawn yet: remembered for the first drawing
     panel.start.click()
     assert panel.chart.params.focus == 2 and panel.period.value is None
+
+
+@pytest.mark.parametrize("against", ["each", "rest"])
+def test_bca_acceleration_equals_the_generic_jackknife(against):
+    from tm_compare.compare import _bootstrap as bs
+    from tm_compare.compare import over_time as ot
+
+    def readers(rng, n):
+        return np.array([f"r{g}" for g in rng.integers(0, 9, n)], dtype=object)
+
+    fit, prepared = random_case(n_docs=240, sources=("a", "b", "c"), groups=readers)
+    cells = ot._cells("test", fit, prepared, "M", "exposure", "group", None, 1, {"n_boot": 20})
+    m = len(cells.measured)
+    fast = ot._acceleration(cells.units, np.eye(m))
+    # Reference: the generic leave-one-unit-out jackknife over every unit of every stratum.
+    slow = bs.jackknife_acceleration(cells.units, ot._prevalence_stat)
+    np.testing.assert_allclose(fast, slow, rtol=1e-9, atol=1e-15)
+    n_per = len(cells.index)
+    a_side = np.zeros((n_per, m))
+    b_side = np.zeros((n_per, m))
+    for t in range(n_per):  # source a against b (each) or against b and c pooled (rest)
+        a_side[t, t] = 1.0
+        b_side[t, n_per + t] = 1.0
+        if against == "rest":
+            b_side[t, 2 * n_per + t] = 1.0
+
+    def diff(num, den):
+        pa = np.einsum("cm,...mk->...ck", a_side, num) / (den @ a_side.T)[..., None]
+        pb = np.einsum("cm,...mk->...ck", b_side, num) / (den @ b_side.T)[..., None]
+        return (pa - pb).reshape(*num.shape[:-2], -1)
+
+    np.testing.assert_allclose(
+        ot._acceleration(cells.units, a_side, b_side),
+        bs.jackknife_acceleration(cells.units, diff),
+        rtol=1e-9,
+        atol=1e-15,
+    )

@@ -46,7 +46,6 @@ from .prevalence import (
     _design,
     _prevalence_stat,
     _replicates,
-    _summary,
 )
 
 #: Period aliases tried, finest first, when ``freq=None``.
@@ -250,6 +249,46 @@ def _period_columns(index: pd.PeriodIndex, codes: np.ndarray) -> dict:
     }
 
 
+def _acceleration(units: bs.Units, pick_a: np.ndarray, pick_b: np.ndarray | None = None):
+    """BCa acceleration of ``pooled(a)`` (minus ``pooled(b)``) for each row of the picks.
+
+    The value :func:`._bootstrap.jackknife_acceleration` gives for the same statistic (summed
+    over strata; Efron & Tibshirani 1993, eq. 14.15), computed only where leaving a unit out
+    moves the row: a unit moves only the rows whose sides hold its cell, so the cost is the
+    units of each row's cells, not every unit for every row.
+    """
+    num, den = units.totals()
+    bounds = units.bounds()
+    sides = [(pick_a, 1.0)] if pick_b is None else [(pick_a, 1.0), (pick_b, -1.0)]
+    k = num.shape[1]
+    cubes = np.zeros((pick_a.shape[0], k))
+    squares = np.zeros((pick_a.shape[0], k))
+    for r in range(pick_a.shape[0]):
+        for pick, sign in sides:
+            cells = np.flatnonzero(pick[r])
+            total, weight = num[cells].sum(axis=0), den[cells].sum()
+            for c in cells:
+                a, b = bounds[c]
+                n = b - a
+                theta = (total - units.num[a:b]) / (weight - units.den[a:b])[:, None]
+                u = sign * (n - 1) * (theta.mean(axis=0) - theta)  # the other side: sign flips
+                cubes[r] += (u**3).sum(axis=0) / n**3
+                squares[r] += (u**2).sum(axis=0) / n**2
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return (cubes / (6 * squares**1.5)).ravel()
+
+
+def _summary(cells: _Cells, statistic, pick_a, pick_b=None):
+    """Estimate, replicates and interval of ``statistic`` (as :func:`.prevalence._summary`,
+    with the acceleration of :func:`_acceleration`)."""
+    boot = cells.boot
+    theta_hat = statistic(*cells.units.totals())
+    theta_b = statistic(*cells.reps)
+    accel = _acceleration(cells.units, pick_a, pick_b) if boot.interval == "bca" else None
+    lo, hi = bs.interval(theta_hat, theta_b, boot.ci, boot.interval, accel)
+    return theta_hat, theta_b, lo, hi
+
+
 def _prevalence_table(cells: _Cells, min_period_docs: int) -> pd.DataFrame:
     boot = cells.boot
     k = cells.estimate.shape[1]
@@ -257,9 +296,8 @@ def _prevalence_table(cells: _Cells, min_period_docs: int) -> pd.DataFrame:
     n_cells = n_src * n_per
     lo = np.full((n_cells, k), np.nan)
     hi, se = lo.copy(), lo.copy()
-    _, theta_b, m_lo, m_hi = _summary(
-        cells.units, cells.reps, _prevalence_stat, boot.ci, boot.interval
-    )
+    one = np.eye(len(cells.measured))
+    _, theta_b, m_lo, m_hi = _summary(cells, _prevalence_stat, one)
     lo[cells.measured] = m_lo.reshape(-1, k)
     hi[cells.measured] = m_hi.reshape(-1, k)
     se[cells.measured] = theta_b.std(axis=0, ddof=1).reshape(-1, k)
@@ -340,7 +378,7 @@ def _differences_table(cells: _Cells, against: str, fdr: float) -> pd.DataFrame:
         return out.reshape(*out.shape[:-2], -1)
 
     boot = cells.boot
-    d_hat, d_b, d_lo, d_hi = _summary(cells.units, cells.reps, diff_stat, boot.ci, boot.interval)
+    d_hat, d_b, d_lo, d_hi = _summary(cells, diff_stat, pick_a, pick_b)
     totals = cells.units.totals()
     p = bs.centred_p_value(d_hat, d_b)
     comparison = np.repeat([c for c, _ in rows], k)
