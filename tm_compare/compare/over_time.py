@@ -459,7 +459,7 @@ def prevalence_over_time(
         Cells (source, period) with fewer documents are marked ``few_documents``.
     weighting, cluster, sources and the bootstrap settings (``n_boot`` to ``random_state``):
         as in :func:`~tm_compare.compare.prevalence.prevalence`; every (source, period) cell is
-        a stratum.
+        a stratum (``cap_group_share`` caps a cluster's share of its source over all dates).
 
     Raises ComparisonError when the corpus has no dates (naming unreadable values when intake
     flagged some), when dates are not dates, or for the faults :func:`prevalence` names.

@@ -7,20 +7,15 @@ import warnings
 import ipywidgets as w
 import pandas as pd
 
+from ..compare.over_time import PERIODS
 from ..errors import ComparisonError
 from . import charts
 from ._cards import esc
 from ._offline import chart_widget
 
+_WORDS = {"D": "days", "W": "weeks", "M": "months", "Q": "quarters", "Y": "years"}
 #: Period lengths offered, as the options table's ``freq`` takes them.
-PERIOD_NAMES = [
-    ("as the span suggests", None),
-    ("days", "D"),
-    ("weeks", "W"),
-    ("months", "M"),
-    ("quarters", "Q"),
-    ("years", "Y"),
-]
+PERIOD_NAMES = [("as the span suggests", None), *((_WORDS[p], p) for p in PERIODS)]
 _DAYS_OFFERED = 731  # longer spans offer month starts on the date slider
 #: Larger corpora draw the panel on request: a bootstrap per source and period takes seconds
 #: there (about 9 s for 200,000 documents, 5,000 readers, 18 weeks, 1,000 replicates).
@@ -126,7 +121,7 @@ class TimePanel(w.VBox):
         cluster = results.settings["cluster"]
         resample = "documents" if cluster is None else f"clusters of '{cluster}'"
         note = (
-            f"Periods: {dict((v, n) for n, v in PERIOD_NAMES)[row['freq']]}; "
+            f"Periods: {_WORDS.get(row['freq'], row['freq'])}; "
             f"{row['ci_level']:.0%} {row['interval']} intervals from {row['n_boot']} bootstrap "
             f"replicates resampling {resample} within each source and period."
         )
