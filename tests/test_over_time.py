@@ -575,3 +575,31 @@ def test_bca_acceleration_equals_the_generic_jackknife(against):
         rtol=1e-9,
         atol=1e-15,
     )
+
+
+def test_prepare_reads_day_first_dates_and_says_which_dates_it_could_not_read(tmp_path, capsys):
+    from tm_compare.cli import main
+    from tm_compare.demo.quillhaven import make_frame
+    from tm_compare.project import Project
+    from tm_compare.text.prepared import load_prepared
+
+    frame = make_frame(240)
+    written = frame.assign(date=frame["date"].dt.strftime("%d/%m/%Y"))
+    written.to_csv(tmp_path / "c.csv", index=False)
+    base = ["prepare", str(tmp_path / "c.csv"), "--text", "text", "--source", "source"]
+    for name, extra in (("p", ["--date-format", "%d/%m/%Y"]), ("q", [])):
+        assert main([*base, "--project", str(tmp_path / name), *extra]) == 0
+        meta = load_prepared(Project.open(tmp_path / name)).meta
+        given = frame.set_index("id").loc[meta["id"], "date"]
+        # Day first, stated or seen in the values (25/03/2024): 03/04/2024 is 3 April (by hand).
+        assert (meta["date"].to_numpy() == given.to_numpy()).all(), name
+    written.loc[::4, "date"] = "soon"  # a quarter of the dates cannot be read
+    written.to_csv(tmp_path / "c.csv", index=False)
+    assert main([*base, "--project", str(tmp_path / "r")]) == 0
+    capsys.readouterr()
+    prepared = load_prepared(Project.open(tmp_path / "r"))
+    fit = _fit(prepared, np.full((len(prepared), 2), 0.5))
+    with pytest.warns(
+        UserWarning, match=r"Intake could not read \d+ date value.*'soon'.*--date-format"
+    ):
+        prevalence_over_time(fit, prepared, cluster=None, n_boot=20, freq="M")

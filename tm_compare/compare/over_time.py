@@ -71,13 +71,14 @@ def choose_freq(dates) -> str:
 def document_dates(prepared, owner: str) -> pd.Series:
     """The documents' dates (naive UTC), with a clear error when the corpus has none."""
     meta = prepared.meta
+    unread = prepared.report.to_frame()
+    unread = unread[unread["reason"] == _UNREADABLE]
     if "date" not in meta.columns or meta["date"].isna().all():
-        unread = prepared.report.to_frame()
-        unread = unread[unread["reason"] == _UNREADABLE]
         why = (
             f" Intake could not read {int(unread['count'].sum())} date value(s) (first: "
-            f"{unread['example'].iloc[0]!r}); give Corpus.read/from_frame a date_format, e.g. "
-            "date_format='%d/%m/%Y'."
+            f"{unread['example'].iloc[0]!r}); read the corpus again with the dates' format: "
+            "Corpus.read(..., date_format='%d/%m/%Y'), or tm-compare prepare ... "
+            "--date-format '%d/%m/%Y'."
             if len(unread)
             else " Name the date column when reading the corpus (date='COLUMN', or --date COLUMN)."
         )
@@ -85,6 +86,14 @@ def document_dates(prepared, owner: str) -> pd.Series:
         raise ComparisonError(msg)
     values = meta["date"].reset_index(drop=True)
     if pd.api.types.is_datetime64_any_dtype(values.dtype):
+        if len(unread) and values.isna().any():
+            warnings.warn(
+                f"Intake could not read {int(unread['count'].sum())} date value(s) (first: "
+                f"{unread['example'].iloc[0]!r}); those documents have no date. If the dates "
+                "follow one format, read the corpus with date_format= (--date-format).",
+                UserWarning,
+                stacklevel=3,
+            )
         if getattr(values.dt, "tz", None) is not None:
             values = values.dt.tz_convert("UTC").dt.tz_localize(None)
         return values
