@@ -537,7 +537,10 @@ def test_large_corpora_draw_the_time_panel_on_request(monkeypatch):
     assert not hasattr(panel, "chart") and panel.children == (panel.start,)
     panel.show_topic(2)  # nothing drawn yet: remembered for the first drawing
     panel.start.click()
-    assert panel.chart.params.focus == 2 and panel.period.value is None
+    assert panel.chart.params.focus == 2 and panel.period.value == "auto"
+    assert panel.period.label == "as the span suggests" and panel.results.settings["freq"] is None
+    panel.period.value = "M"
+    assert panel.results.over_time()["freq"].iloc[0] == "M"
 
 
 @pytest.mark.parametrize("against", ["each", "rest"])

@@ -14,8 +14,9 @@ from ._cards import esc
 from ._offline import chart_widget
 
 _WORDS = {"D": "days", "W": "weeks", "M": "months", "Q": "quarters", "Y": "years"}
-#: Period lengths offered, as the options table's ``freq`` takes them.
-PERIOD_NAMES = [("as the span suggests", None), *((_WORDS[p], p) for p in PERIODS)]
+_AUTO = "auto"  # the dropdown's value for freq=None (a Dropdown shows None as no choice)
+#: Period lengths offered, as the options table's ``freq`` takes them (``"auto"``: None).
+PERIOD_NAMES = [("as the span suggests", _AUTO), *((_WORDS[p], p) for p in PERIODS)]
 _DAYS_OFFERED = 731  # longer spans offer month starts on the date slider
 #: Larger corpora draw the panel on request: a bootstrap per source and period takes seconds
 #: there (about 9 s for 200,000 documents, 5,000 readers, 18 weeks, 1,000 replicates).
@@ -88,7 +89,7 @@ class TimePanel(w.VBox):
         marks = date_marks(*self._span)
         self.period = w.Dropdown(
             options=PERIOD_NAMES,
-            value=self._full.settings["freq"],
+            value=self._full.settings["freq"] or _AUTO,
             description="Periods",
             layout=w.Layout(width="260px"),
         )
@@ -109,7 +110,10 @@ class TimePanel(w.VBox):
     @property
     def results(self):
         """The full-span results at the chosen period length."""
-        return self._full.with_settings(freq=self.period.value)
+        return self._full.with_settings(freq=self._freq())
+
+    def _freq(self) -> str | None:
+        return None if self.period.value == _AUTO else self.period.value
 
     def _build(self):
         results = self.results
@@ -143,7 +147,7 @@ class TimePanel(w.VBox):
         if not hasattr(self, "chart"):  # not drawn yet: its first drawing takes them
             self._full = self._full.with_settings(**results.settings)
             return
-        self._full = self._full.with_settings(**{**results.settings, "freq": self.period.value})
+        self._full = self._full.with_settings(**{**results.settings, "freq": self._freq()})
         self._redraw()
 
     def _dates_changed(self, change):
