@@ -38,6 +38,8 @@ SETTINGS = (
     "min_period_docs",
 )
 NO_CLUSTER = "document"  # --cluster document: the API's cluster=None
+#: Columns of a prevalence model's effects printed by ``compare --model``.
+MODEL_SHOWN = ("topic", "covariate", "value", "reference", "estimate", "ci_low", "ci_high")
 
 
 def add_settings(parser) -> None:
@@ -104,6 +106,15 @@ def register(subparsers) -> None:
         help="also write prevalence per source and period, and differences per period "
         "(over_time-*.csv, over_time_differences-*.csv); needs document dates",
     )
+    parser.add_argument(
+        "--model",
+        metavar="FORMULA",
+        action="append",
+        default=[],
+        help='also regress prevalence on covariates, e.g. "~ source * period + outlet" '
+        "(columns of the corpus; repeatable); writes model_*.csv",
+    )
+    add_option(parser, "n_draws")
     parser.add_argument(
         "--by-group",
         action="store_true",
@@ -176,6 +187,8 @@ def run(args) -> int:
     project, fit, prepared = _load(args.project, args.k, args.seed)
     with notes():
         results = ModelResults(fit, prepared, **settings(args))
+        # Prevalence models first: a bad formula stops before any table is written.
+        models = [results.prevalence_model(f, n_draws=args.n_draws) for f in args.model]
         made = {n: t for n, t in results.tables().items() if n in WRITTEN}
         if args.over_time:
             made["over_time"] = results.over_time()
@@ -202,5 +215,18 @@ def run(args) -> int:
         print(summary(made["differences"], fit).to_string(index=False))
     if args.over_time:
         print(over_time_summary(made))
-    print(f"Wrote {len(made)} tables to {folder}")
+    for number, model in enumerate(models, start=1):
+        for name, table in model.tables().items():
+            with atomic_path(folder / f"{name}-{number}-{suffix}.csv") as tmp:
+                table.to_csv(tmp, index=False)
+        clear = model.effects[model.effects["p_adjusted"] <= s["fdr"]]
+        print(
+            f"Model {number} {model.formula!r}: {len(clear)} of {len(model.effects)} effects "
+            f"stand (adjusted p <= {s['fdr']}); {model.settings['n_draws']} draws, clusters of "
+            f"{model.settings['cluster']!r}."
+        )
+        if len(clear):
+            shown = clear.sort_values("p_adjusted").head(default("n_topics"))
+            print(shown[[*MODEL_SHOWN, "p_adjusted"]].round(3).to_string(index=False))
+    print(f"Wrote {len(made) + 3 * len(models)} tables to {folder}")
     return 0
