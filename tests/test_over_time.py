@@ -580,6 +580,7 @@ def test_bca_acceleration_equals_the_generic_jackknife(against):
     )
 
 
+@pytest.mark.filterwarnings("ignore:58 document")
 def test_prepare_reads_day_first_dates_and_says_which_dates_it_could_not_read(tmp_path, capsys):
     from tm_compare.cli import main
     from tm_compare.demo.quillhaven import make_frame
