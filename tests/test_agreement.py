@@ -8,9 +8,12 @@ from statsmodels.stats.inter_rater import aggregate_raters, fleiss_kappa
 
 from tm_compare.errors import SettingsError
 from tm_compare.labels.agreement import (
+    NEEDS_TWO_ANALYSTS,
     agreement_by_unit,
     agreement_summary,
     agreement_table,
+    can_compute,
+    explain_agreement,
     krippendorff_alpha,
     percent_agreement,
 )
@@ -134,3 +137,66 @@ def test_agreement_table_lists_units_then_overall():
     assert overall["alpha"] == pytest.approx(0.743, abs=5e-4)
     assert (overall["n_units"], overall["n_coders"]) == (11, 4)
     assert table["n_units"].iloc[:12].sum() == 11  # one per pairable unit
+
+
+# --- when alpha can be computed, and the sentence shown instead -------------------------------
+
+
+@pytest.mark.parametrize(
+    ("table", "reference_refusal"),
+    [
+        # One coder per unit: nothing pairable. The reference library refuses the same table
+        # ("at least one unit with values assigned by at least two coders").
+        ([["usable", None], [None, "noise"]], "at least two coders"),
+        # Pairable, but one value only: D_e = 0 (Krippendorff 2011); the reference library
+        # refuses it too ("more than one value in the domain").
+        ([["usable", "usable"], ["usable", "usable"]], "more than one value"),
+    ],
+)
+def test_cannot_compute_exactly_when_the_reference_library_refuses(table, reference_refusal):
+    codes = {"usable": 1.0, "noise": 2.0, None: np.nan}
+    reference_input = np.array([[codes[v] for v in row] for row in table]).T
+    with pytest.raises(ValueError, match=reference_refusal):
+        krippendorff.alpha(reliability_data=reference_input, level_of_measurement="nominal")
+    summary = agreement_summary(table)
+    assert not can_compute(summary)
+    assert np.isnan(summary["alpha"])
+
+
+def test_sentence_for_no_shared_topics_names_what_is_needed():
+    summary = agreement_summary([["usable", None], [None, "noise"]])
+    assert summary["n_units"] == 0
+    assert explain_agreement(summary, "verdicts") == f"Agreement on verdicts {NEEDS_TWO_ANALYSTS}."
+    assert NEEDS_TWO_ANALYSTS == "needs labels from 2 analysts on the same topics"
+
+
+def test_sentence_for_no_variation_says_why_and_that_they_agree():
+    text = explain_agreement(agreement_summary([["a", "a"], ["a", "a"], ["a", None]]), "categories")
+    assert "cannot be computed yet" in text and "2 topics labelled by 2 analysts" in text
+    assert "nan" not in text.lower()
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_sentence_quotes_the_alpha_of_the_reference_library(seed):
+    # Reference: the `krippendorff` package, nominal; the reading bands are Krippendorff
+    # (2004), Content Analysis, 2nd ed., p. 241 (0.800 and 0.667; recalled from memory).
+    rng = np.random.default_rng(40 + seed)
+    table = _random_table(rng, 20, 3, 3, missing=0.2)
+    reference = krippendorff.alpha(
+        reliability_data=np.where(table == None, np.nan, table).T.astype(float),  # noqa: E711
+        level_of_measurement="nominal",
+    )
+    row = agreement_table(table).iloc[-1]
+    assert can_compute(row)
+    text = explain_agreement(row, "verdicts")
+    assert f"is {reference:.2f} on " in text
+    band = "reliable" if reference >= 0.8 else "tentative" if reference >= 0.667 else "too low"
+    assert band in text
+
+
+def test_sentence_on_the_worked_example():
+    # Krippendorff (2011): alpha = 0.743 on 11 pairable units by 4 observers, which his
+    # (2004) bands place between 0.667 and 0.800: tentative conclusions only.
+    text = explain_agreement(agreement_table(UNITS_BY_CODERS).iloc[-1], "verdicts")
+    assert text.startswith("Krippendorff's alpha for verdicts is 0.74 on 11 topics labelled by 4")
+    assert "tentative conclusions only" in text

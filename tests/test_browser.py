@@ -12,7 +12,6 @@ import contextlib
 import json
 import os
 import re
-import shutil
 import socket
 import subprocess
 import sys
@@ -21,7 +20,8 @@ import urllib.request
 from pathlib import Path
 
 import pytest
-from _chromium import ARTIFACTS, REPO, chromium, require_browser
+from _chromium import ARTIFACTS, chromium, require_browser
+from _probes import quickstart_with_hostile_article
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
@@ -148,7 +148,7 @@ def test_quickstart_in_jupyterlab(tmp_path):
 
     root = tmp_path / "lab"
     root.mkdir()
-    shutil.copy(REPO / "notebooks" / "quickstart.ipynb", root / "quickstart.ipynb")
+    quickstart_with_hostile_article(root / "quickstart.ipynb")  # the tutorial plus a probe
     ARTIFACTS.mkdir(exist_ok=True)
     requests: list[str] = []
     dialogs: list[str] = []

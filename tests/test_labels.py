@@ -181,6 +181,111 @@ def test_codebook_and_custom_verdicts_persist(store_url):
             store.set_verdicts(["merge", "drop"])
 
 
+def test_categories_defined_once_in_order_and_rerun_adds_nothing(ana, ben):
+    added = ana.define_categories(
+        ["Harbour", ("Housing", "rents, tenants"), {"category": "Transport", "description": ""}]
+    )
+    assert added == ["Harbour", "Housing", "Transport"]
+    assert ana.define_categories(["Harbour", "Housing"]) == []  # re-running a cell: no change
+    assert ben.categories() == ["Harbour", "Housing", "Transport"]  # the store's list, shared
+    table = ben.category_table().set_index("category")
+    assert table.loc["Housing", "description"] == "rents, tenants"
+    assert table.loc["Housing", "added_by"] == "Ana Quill"
+    with pytest.raises(SettingsError, match="'category' parameter of define_categories"):
+        ana.define_categories(["  "])
+    with pytest.raises(LabelStoreError, match="without an analyst"):
+        LabelStore(ana._url).define_categories(["Weather"])
+
+
+def test_rename_keeps_history_and_labels_count_under_the_new_name(ana, ben):
+    ana.define_categories(["Crime", "Schools"])
+    ana.save(MODEL, 0, name="Court cases", verdict="usable", category="Crime")
+    ana.rename_category("Crime", "Courts and policing")
+    ben.save(MODEL, 0, name="Trials", verdict="usable", category="Courts and policing")
+    # The stored label keeps the name chosen then; agreement counts both as one category.
+    assert ana.history(MODEL)["category"].tolist() == ["Crime", "Courts and policing"]
+    per_topic = ana.agreement(MODEL, fields="category")
+    assert per_topic[per_topic["scope"] == "topic"]["percent_agreement"].tolist() == [1.0]
+    assert ana.categories() == ["Courts and policing", "Schools"]
+    assert ana.category_aliases()["Crime"] == "Courts and policing"
+    assert (
+        ana.category_table().set_index("category").loc["Courts and policing", "former_names"]
+        == "Crime"
+    )
+    changes = ana.category_history()
+    assert changes["action"].tolist() == ["defined", "defined", "renamed"]
+    assert changes.iloc[-1][["old_name", "new_name", "changed_by"]].tolist() == [
+        "Crime",
+        "Courts and policing",
+        "Ana Quill",
+    ]
+    with pytest.raises(LabelStoreError, match="renamed to 'Courts and policing'"):
+        ben.save(MODEL, 1, name="x", category="Crime")
+    with pytest.raises(LabelStoreError, match="former name of the category"):
+        ben.define_categories(["Crime"])
+    with pytest.raises(LabelStoreError, match="already exists"):
+        ben.rename_category("Schools", "Courts and policing")
+    with pytest.raises(LabelStoreError, match="no category named 'Weather'"):
+        ben.rename_category("Weather", "Climate")
+    assert ana.check().ok
+
+
+def test_retired_category_is_not_offered_and_labels_keep_it(ana, ben):
+    ana.define_categories(["Harbour", "Ferries"])
+    ana.save(MODEL, 2, name="Ferry timetable", category="Ferries")
+    ben.retire_category("Ferries")
+    assert ana.categories() == ["Harbour"]
+    assert ana.categories(retired=True) == ["Harbour", "Ferries"]
+    assert ana.current(MODEL)["category"].tolist() == ["Ferries"]  # nothing rewritten
+    assert ana.save(MODEL, 2, name="Ferry timetable", category="Ferries").version == 1  # no-op
+    with pytest.raises(LabelStoreError, match="retired on .* by Ben Harrow.*restore_category"):
+        ana.save(MODEL, 3, name="Ferry fares", category="Ferries")
+    with pytest.raises(LabelStoreError, match="is retired"):
+        ana.define_categories(["Ferries"])
+    ana.restore_category("Ferries")
+    assert ana.save(MODEL, 3, name="Ferry fares", category="Ferries").version == 1
+    assert ana.category_history()["action"].tolist()[-2:] == ["retired", "restored"]
+    assert ana.check().ok
+
+
+def test_label_file_carries_renames_and_retirements(ana, tmp_path):
+    ana.define_categories([("Crime", "police, courts"), "Ferries"])
+    ana.save(MODEL, 0, name="Court cases", category="Crime")
+    ana.save(MODEL, 1, name="Ferry timetable", category="Ferries")
+    ana.rename_category("Crime", "Courts")
+    ana.retire_category("Ferries")
+    path = ana.export(MODEL, tmp_path / "labels.json", history=True)
+    with LabelStore(tmp_path / "elsewhere.sqlite", analyst="Ben Harrow") as fresh:
+        assert fresh.import_labels(path, fit=MODEL) == {"added": 2, "skipped": 0}
+        assert fresh.import_labels(path, fit=MODEL) == {"added": 0, "skipped": 2}
+        assert fresh.categories() == ["Courts"]
+        assert fresh.categories(retired=True) == ["Courts", "Ferries"]
+        assert fresh.category_aliases()["Crime"] == "Courts"
+        assert fresh.current(MODEL)["category"].tolist() == ["Crime", "Ferries"]  # as saved
+        assert fresh.check().ok
+
+
+def test_saving_an_unchanged_label_adds_no_version(ana):
+    first = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="usable", confidence=0.7)
+    again = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="usable", confidence=0.7)
+    # Re-running the cell (no based_on) is neither a new version nor a conflict.
+    assert again == first and len(ana.history(MODEL)) == 1
+    changed = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=1)
+    assert changed.version == 2 and len(ana.history(MODEL)) == 2
+    # Inside a coding round the same label is saved again, so that the round counts it.
+    round_id = ana.open_round(MODEL, name="second pass", blind=False)
+    in_round = ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=2)
+    assert (in_round.version, in_round.round) == (3, round_id)
+    assert ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed").version == 3
+    ana.close_round(MODEL)
+    ana.retract(MODEL, 5, based_on=3)
+    # After a retraction the same fields are a new label again, not a no-op.
+    assert (
+        ana.save(MODEL, 5, name="Tram line", note="east side", verdict="mixed", based_on=4).version
+        == 5
+    )
+
+
 # --- blind rounds, agreement, consensus, carry-over ----------------------------------------------
 
 
@@ -452,7 +557,7 @@ def _make_v1_store(url):
 def test_v1_store_is_upgraded_in_place(store_url):
     _make_v1_store(store_url)
     with LabelStore(store_url, analyst="Ben Harrow") as store:
-        assert store.schema_version == 2
+        assert store.schema_version == _label_schema.SCHEMA_VERSION
         assert store.history(MODEL)["name"].tolist() == ["Harbour", "Harbour works"]
         store.define_category("Economy")
         store.save(MODEL, 0, name="Port economy", category="Economy")
@@ -482,13 +587,57 @@ def test_failed_upgrade_leaves_the_old_store_untouched(store_url, monkeypatch):
     engine.dispose()
     monkeypatch.undo()
     with LabelStore(store_url, analyst="Ben Harrow") as store:
-        assert store.schema_version == 2
+        assert store.schema_version == _label_schema.SCHEMA_VERSION
+
+
+def _make_v2_store(url):
+    """A store as version 2 of the schema wrote it: a codebook with no retirement columns."""
+    _make_v1_store(url)
+    engine = sa.create_engine(_label_schema.resolve_url(url, read_only=False))
+    id_type = "SERIAL PRIMARY KEY" if engine.dialect.name == "postgresql" else "INTEGER PRIMARY KEY"
+    with engine.begin() as conn:
+        _label_schema.metadata.create_all(
+            conn, tables=[_label_schema.rounds, _label_schema.consensus]
+        )
+        conn.execute(
+            sa.text(
+                f"CREATE TABLE codebook (id {id_type}, category VARCHAR(200) NOT NULL UNIQUE, "
+                "description TEXT NOT NULL, added_by TEXT NOT NULL, created_at VARCHAR(32) NOT NULL)"
+            )
+        )
+        conn.execute(sa.text("ALTER TABLE labels ADD COLUMN category TEXT"))
+        conn.execute(
+            sa.text("ALTER TABLE labels ADD COLUMN round_id INTEGER REFERENCES rounds (id)")
+        )
+        conn.execute(
+            sa.text(
+                "INSERT INTO codebook (category, description, added_by, created_at) VALUES "
+                "('Harbour', 'docks, ferries', 'Ana Quill', '2026-01-04T09:00:00.000000Z')"
+            )
+        )
+        conn.execute(sa.text("UPDATE labels SET category = 'Harbour' WHERE uid = 'u2'"))
+        conn.execute(sa.text("UPDATE meta SET value = '2' WHERE key = 'schema_version'"))
+    engine.dispose()
+
+
+def test_v2_store_is_upgraded_and_keeps_its_codebook(store_url):
+    _make_v2_store(store_url)
+    with LabelStore(store_url, analyst="Ben Harrow") as store:
+        assert store.schema_version == _label_schema.SCHEMA_VERSION == 3
+        assert store.categories() == ["Harbour"]
+        changes = store.category_history()
+        assert changes[["category", "action", "changed_by", "changed_at"]].values.tolist() == [
+            ["Harbour", "defined", "Ana Quill", "2026-01-04T09:00:00.000000Z"]
+        ]
+        store.rename_category("Harbour", "Port")
+        assert store.current(MODEL)["category"].tolist() == ["Harbour"]  # stored as saved
+        assert store.check().ok
 
 
 def test_store_from_newer_package_is_refused(ana, store_url):
     _tamper(ana, "UPDATE meta SET value = '99' WHERE key = 'schema_version'")
     with pytest.raises(
-        StoreVersionError, match="schema version 99.*reads up to 2.*Upgrade tm_compare"
+        StoreVersionError, match="schema version 99.*reads up to 3.*Upgrade tm_compare"
     ):
         LabelStore(store_url, analyst="Ben Harrow")
 
@@ -664,3 +813,34 @@ def test_unusable_urls_are_refused_without_the_password(url, expected):
     with pytest.raises(LabelStoreError, match=expected) as info:
         LabelStore(url)
     assert "topsecret" not in str(info.value) and "coder:***@" in str(info.value)
+
+
+@pytest.mark.slow  # imports every CLI sub-command (gensim, scikit-learn)
+def test_cli_categories_and_agreement_sentences(tmp_path, capsys):
+    from tm_compare.cli import main
+
+    project = Project.create(tmp_path / "study")
+    where = str(project.path)
+    assert main(["labels", where, "categories", "--add", "Harbour"]) == 1
+    assert "needs --analyst" in capsys.readouterr().err
+    args = ["labels", where, "categories", "--analyst", "Ana Quill"]
+    assert main([*args, "--add", "Harbour", "--add", "Schools", "--description", "x"]) == 0
+    assert "Added: Harbour, Schools." in capsys.readouterr().out
+    assert main([*args, "--rename", "Harbour", "Port"]) == 0
+    assert main([*args, "--retire", "Schools"]) == 0
+    capsys.readouterr()
+    assert main(["labels", where, "categories", "--format", "csv"]) == 0
+    table = pd.read_csv(io.StringIO(capsys.readouterr().out))
+    assert table[["category", "status", "former_names"]].fillna("").values.tolist() == [
+        ["Port", "in use", "Harbour"],
+        ["Schools", "retired", ""],
+    ]
+    assert main([*args, "--rename", "Nowhere", "Else"]) == 1
+    assert capsys.readouterr().err.startswith("Error: rename_category: no category named")
+    # Agreement on screen: the sentence, not a table of NaN, until two analysts overlap.
+    with LabelStore(project, analyst="Ana Quill") as store:
+        store.save(MODEL, 0, name="Docks", verdict="usable", category="Port")
+    assert main(["labels", where, "agreement", "--fit", MODEL]) == 0
+    shown = capsys.readouterr().out
+    assert "Agreement on verdicts needs labels from 2 analysts on the same topics." in shown
+    assert "NaN" not in shown and "alpha" not in shown

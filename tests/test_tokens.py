@@ -224,3 +224,23 @@ def test_phrase_shortcut_gives_gensims_output():
     ]
     for seg, mid in zip(segs, joined, strict=True):
         assert join_phrases(seg, models) == [t for t, _ in trigram.analyze_sentence(mid)]
+
+
+def test_classify_cuts_elisions_and_possessives_only_when_asked():
+    # French elision (common practice): "l'" before a vowel is the article, "qu'" the conjunction.
+    raw = ["l'école", "qu'il", "council's", "aujourd'hui"]
+    rules = dict(stop_words=frozenset({"il"}), connectors=frozenset(), drop_numbers=True)
+    forms, kinds = classify(
+        raw, **rules, min_length=2, max_length=40, elisions=frozenset({"l", "qu"}), possessive=False
+    )
+    assert forms.tolist() == ["école", "il", "council's", "aujourd'hui"]
+    assert kinds.tolist() == [KEEP, BREAK, KEEP, KEEP]
+    forms, _ = classify(raw, **rules, min_length=2, max_length=40)
+    assert forms.tolist() == ["l'école", "qu'il", "council", "aujourd'hui"]
+
+
+def test_tokenizer_handles_accented_greek_and_cyrillic_words():
+    # Unicode word characters (Python's re with str patterns): letters of every script are \w.
+    assert tokenize("Straßenbahn-Gleise, ÉCOLE; Λιμάνι Гавань") == [
+        "straßenbahn-gleise", ",", "école", ";", "λιμάνι", "гавань",
+    ]  # fmt: skip

@@ -113,6 +113,22 @@ _TABLE = (
     Option("n_docs", 5, None, "representative documents shown per topic and source"),
     Option("n_groups", 5, None, "heaviest readers or outlets listed per source"),
     Option("n_topics", 5, None, "most different topics listed per comparison"),
+    # -- preparation
+    Option(
+        "language",
+        "en",
+        None,
+        "language of the corpus: an ISO 639-1 code (de, fr, it, ...; see "
+        "tm_compare.SUPPORTED_LANGUAGES), 'auto' to detect each document's, or several codes "
+        "(a list; commas on the command line) to detect among those",
+    ),
+    Option(
+        "undetected",
+        "remove",
+        None,
+        "documents whose language cannot be detected: 'remove' counts them out in the report, "
+        "a language code prepares them in that language and flags them",
+    ),
     # -- the sweep and its fits
     Option("k", tuple(range(5, 41, 5)), None, "numbers of topics to fit"),
     Option("seeds", 3, None, "fits per k: a count (3 means 0, 1, 2) or a list of seeds"),

@@ -7,8 +7,11 @@ printed as it finishes, then where everything is and a short summary.
 from __future__ import annotations
 
 import argparse
+import shlex
 import time
+from pathlib import Path
 
+from ..demo.quillhaven import DEMO_LANGUAGES
 from ..demo.run import DEFAULT_PROJECT, GRID, N_BOOT
 from . import add_option
 from ._sweep import k_grid, seed_list
@@ -44,6 +47,13 @@ def register(subparsers) -> None:
         metavar="S",
         help="seed of the invented corpus: the same seed gives the same corpus",
     )
+    parser.add_argument(
+        "--language",
+        choices=DEMO_LANGUAGES,
+        default="en",
+        help="language of the invented articles; de+en mixes German and English articles, "
+        "detects each one's language and reports the mix",
+    )
     grid = parser.add_argument_group("sweep and comparison (smaller is faster)")
     grid.add_argument(
         "--k",
@@ -69,6 +79,16 @@ def register(subparsers) -> None:
     parser.set_defaults(func=run)
 
 
+def open_views_command(notebook) -> str:
+    """The shell command that opens the demo's views notebook in JupyterLab."""
+    folder = Path(notebook).resolve().parent
+    try:
+        shown = folder.relative_to(Path.cwd())
+    except ValueError:
+        shown = folder
+    return f"cd {shlex.quote(str(shown))} && jupyter lab {shlex.quote(Path(notebook).name)}"
+
+
 def run(args) -> int:
     from ..demo.run import STEPS, run_demo, summary
 
@@ -91,6 +111,7 @@ def run(args) -> int:
         passes=args.passes,
         n_boot=args.n_boot,
         progress=not args.no_progress,
+        language=args.language,
     )
     folder = result.project.path.resolve()
     print(f"\n== Summary ({time.perf_counter() - started:.0f} s in all) ==")
@@ -100,7 +121,10 @@ def run(args) -> int:
         f"  report:  {result.report_path.resolve()}  (open it in a browser; it needs no network)\n"
         f"  exports: {result.report_path.parent.resolve()}  (CSV, Parquet, PNG, SVG; columns.md)\n"
         f"  labels:  {folder / 'labels.sqlite'}\n"
-        f"Next: open the project in Jupyter (%load_ext tm_compare), or rerun with other settings:\n"
+        f"Next: open the views in JupyterLab (needs pip install 'tm_compare[notebook]'):\n"
+        f"  {open_views_command(result.views_path)}\n"
+        f"or, in a notebook of your own: %load_ext tm_compare then %tm_compare {shlex.quote(str(folder))}\n"
+        f"or rerun with other settings:\n"
         f"  tm-compare report {args.project} --k K --seed S --out report-kK.html"
     )
     return 0

@@ -1,4 +1,5 @@
-"""``tm-compare labels PROJECT list|export|import|agreement``: a thin layer over LabelStore."""
+"""``tm-compare labels PROJECT list|export|import|agreement|categories``: a thin layer over
+LabelStore."""
 
 from __future__ import annotations
 
@@ -10,16 +11,17 @@ import pandas as pd
 from .._deprecation import warn_renamed
 from ..errors import LabelStoreError
 from ..labels._schema import LABEL_FIELDS
+from ..labels.agreement import can_compute, explain_agreement
 from ..models.sweeps import load_fit
 from ..project import Project
 
-ACTIONS = ("list", "export", "import", "agreement")
+ACTIONS = ("list", "export", "import", "agreement", "categories")
 
 
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "labels",
-        help="list, export, import topic labels and report coder agreement",
+        help="list, export, import topic labels, report coder agreement, edit the categories",
         description=(
             "Work with a project's topic labels. The store is PROJECT/labels.sqlite unless "
             "--store gives another (e.g. a PostgreSQL URL). Pick the fit by its fingerprint "
@@ -50,7 +52,52 @@ def register(subparsers) -> None:
         action="store_true",
         help="list/export every version, not just the current labels",
     )
+    _register_categories(parser)
     parser.set_defaults(func=run)
+
+
+def _register_categories(parser) -> None:
+    group = parser.add_argument_group(
+        "categories",
+        "The team's label categories: 'categories' alone lists them (with retired ones and "
+        "former names); these options change them and need --analyst.",
+    )
+    group.add_argument(
+        "--add", action="append", metavar="NAME", default=[], help="define a category (repeat)"
+    )
+    group.add_argument(
+        "--description", default="", help="description of the category given with --add"
+    )
+    group.add_argument(
+        "--rename", nargs=2, metavar=("OLD", "NEW"), help="rename a category; labels follow it"
+    )
+    group.add_argument("--retire", metavar="NAME", help="stop offering a category")
+    group.add_argument("--restore", metavar="NAME", help="offer a retired category again")
+    group.add_argument(
+        "--changes", action="store_true", help="list every change to the categories instead"
+    )
+
+
+def _categories(store, args) -> None:
+    if not (args.add or args.rename or args.retire or args.restore):
+        frame = store.category_history() if args.changes else store.category_table()
+        _emit(frame if args.format else frame.fillna(""), args)  # no "NaN" on screen
+        return
+    if store.analyst is None:
+        msg = "Changing categories needs --analyst NAME (who made each change is recorded)."
+        raise LabelStoreError(msg)
+    if args.add:
+        added = store.define_categories([(name, args.description) for name in args.add])
+        print(f"Added: {', '.join(added)}." if added else "Already defined: nothing added.")
+    if args.rename:
+        store.rename_category(*args.rename)
+        print(f"Renamed {args.rename[0]!r} to {args.rename[1]!r}; labels follow the new name.")
+    if args.retire:
+        store.retire_category(args.retire)
+        print(f"Retired {args.retire!r}; labels that use it keep it.")
+    if args.restore:
+        store.restore_category(args.restore)
+        print(f"Restored {args.restore!r}.")
 
 
 def _fit(args):
@@ -114,6 +161,10 @@ def run(args) -> int:
             f"Imported {counts['added']} label rows, skipped {counts['skipped']} already present."
         )
         return 0
+    if args.action == "categories":
+        with LabelStore(location, analyst=args.analyst) as store:
+            _categories(store, args)
+        return 0
     fit, top_words = _fit(args)
     with LabelStore(location, analyst=args.analyst) as store:
         if args.action == "list":
@@ -121,7 +172,16 @@ def run(args) -> int:
             shown = ["topic", "analyst", "version", *LABEL_FIELDS]
             _emit(frame if args.format else frame[shown], args)
         elif args.action == "agreement":
-            _emit(store.agreement(fit), args)
+            table = store.agreement(fit)
+            # On screen: a sentence per field, and figures only where alpha exists.
+            if not (args.format or args.out):
+                overall = table[table["scope"] == "overall"].to_dict("records")
+                lines = [explain_agreement(row) for row in overall]
+                _write("\n".join(lines) + "\n", None)
+                if any(map(can_compute, overall)):
+                    _emit(table[table["n_coders"] >= 2], args)
+            else:
+                _emit(table, args)
         else:
             fmt = args.format or "json"
             text = store.export_text(fit, format=fmt, history=args.history, top_words=top_words)

@@ -3,6 +3,13 @@
 from __future__ import annotations
 
 from ..text.prepared import DEFAULTS
+from . import add_option
+
+
+def language_arg(text: str):
+    """``de``, ``auto`` or ``de,fr`` (detect among these) as :func:`tm_compare.prepare` takes it."""
+    codes = [c.strip() for c in text.split(",") if c.strip()]
+    return codes[0] if len(codes) == 1 else codes
 
 
 def register(subparsers) -> None:
@@ -35,12 +42,21 @@ def register(subparsers) -> None:
     ):
         parser.add_argument(f"--{role}", metavar="COL", help=f"column of {what}")
     knobs = parser.add_argument_group("preparation settings (defaults in brackets)")
+    add_option(knobs, "language", type=language_arg, metavar="CODE")
+    add_option(knobs, "undetected", metavar="remove|CODE")
     knobs.add_argument(
         "--stop-words",
         metavar="FILE",
-        help="extra stop words, one per line, added to the built-in English list",
+        help="extra stop words, one per line, added to the built-in list of each language",
     )
-    knobs.add_argument("--stem", action="store_true", help="Snowball stemming [off]")
+    knobs.add_argument(
+        "--stem", action="store_true", help="Snowball stemming in each document's language [off]"
+    )
+    knobs.add_argument(
+        "--lemmas",
+        action="store_true",
+        help="dictionary forms instead of stems (needs tm_compare[lemmas]) [off]",
+    )
     knobs.add_argument(
         "--keep-numbers", action="store_true", help="keep tokens with digits [dropped]"
     )
@@ -93,7 +109,9 @@ def settings_from_args(args) -> dict:
             "min_doc_tokens",
         )
     }
-    settings["stem"] = "snowball" if args.stem else None
+    settings["stem"] = "lemma" if args.lemmas else "snowball" if args.stem else None
+    settings["language"] = args.language
+    settings["undetected"] = args.undetected
     settings["drop_numbers"] = not args.keep_numbers
     settings["boilerplate"] = not args.no_boilerplate
     if args.no_near_duplicates:
@@ -127,6 +145,10 @@ def run(args) -> int:
     print()
     print("What intake and preparation removed or merged:")
     print(prepared.report)
+    if args.language == "auto" or isinstance(args.language, list):
+        print()
+        print("Languages per source (documents kept; 'und': language not detected):")
+        print(prepared.language_mix().to_string(index=False))
     if len(prepared.boilerplate):
         print()
         print("Boilerplate lines removed (documents per line):")

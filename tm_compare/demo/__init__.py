@@ -5,6 +5,7 @@ only when asked for, since it reaches every stage.
 """
 
 from .quillhaven import (
+    DEMO_LANGUAGES,
     SOURCES,
     DemoTruth,
     make_corpus,
@@ -14,4 +15,4 @@ from .quillhaven import (
     truth,
 )
 
-__all__ = ["SOURCES", "DemoTruth", "make_corpus", "make_frame", "sample_csv", "scenario", "truth"]
+__all__ = ["DEMO_LANGUAGES", "SOURCES", "DemoTruth", "make_corpus", "make_frame", "sample_csv", "scenario", "truth"]

@@ -15,6 +15,11 @@ readers do not exist. The words are data, under ``demo/data/``:
 
 A placeholder names a bank, and a trailing digit (``{thing2}``) asks for a second, independent
 draw from the same bank.
+
+Other languages live in ``data/<code>/`` with the same three files, written in that language
+(our own sentences, not translations of real text): the themes keep their English keys, the
+outlets their names, domains and URL layouts (only their boilerplate lines, the dateline and the
+attribution are in the language). :data:`LANGUAGES` lists the languages the demo is written in.
 """
 
 from __future__ import annotations
@@ -41,6 +46,8 @@ def _frozen(value):
 
 _BANKS = _load("banks.json")
 _OUTLETS = _load("outlets.json")
+#: Languages the demo is written in (``data/`` holds English, ``data/<code>/`` the others).
+LANGUAGES = ("en", "de")
 COMMON_BANKS: dict = _BANKS["common"]
 GENERIC: tuple = _BANKS["generic"]
 THEMES: dict = _load("themes.json")
@@ -51,6 +58,25 @@ URL_VARIANTS: tuple = _OUTLETS["url_variants"]
 ATTRIBUTION: str = _OUTLETS["attribution"]
 
 
+@functools.cache
+def material(language: str = "en") -> SimpleNamespace:
+    """Banks, templates, themes and outlet texts of the demo in ``language``."""
+    if language == "en":
+        banks, outlets, themes = _BANKS, _OUTLETS, THEMES
+    else:
+        banks, themes = _load(f"{language}/banks.json"), _load(f"{language}/themes.json")
+        outlets = _load(f"{language}/outlets.json")
+    merged = {name: {**spec, **outlets["outlets"].get(name, {})} for name, spec in OUTLETS.items()}
+    return SimpleNamespace(
+        common=banks["common"],
+        generic=banks["generic"],
+        themes=themes,
+        outlets=merged,
+        dateline=outlets.get("dateline", DATELINE),
+        attribution=outlets.get("attribution", ATTRIBUTION),
+    )
+
+
 # --- rendering: templates -> sentences -> articles ----------------------------------------------
 # Strings are built with numpy object arrays (element-wise ``+`` runs in C), grouped by
 # template, so 200,000 articles take seconds rather than a Python loop per sentence.
@@ -59,10 +85,10 @@ _CHUNK = 8192  # articles per batch of random draws; fixed, so the output never 
 _SEPARATORS = np.array(["", "\n", " "], dtype=object)
 
 
-def _parts(template: str, spec: dict) -> tuple[list[str], list[np.ndarray]]:
+def _parts(template: str, spec: dict, common: dict) -> tuple[list[str], list[np.ndarray]]:
     """Literal pieces and banks of one template; a leading bank is capitalised."""
     names = _FIELD.findall(template)
-    banks = [np.array(spec.get(name) or COMMON_BANKS[name], dtype=object) for name in names]
+    banks = [np.array(spec.get(name) or common[name], dtype=object) for name in names]
     literals = _FIELD.split(template)[::2]
     if names and literals[0] == "":
         banks[0] = np.array([w[0].upper() + w[1:] for w in banks[0]], dtype=object)
@@ -70,29 +96,31 @@ def _parts(template: str, spec: dict) -> tuple[list[str], list[np.ndarray]]:
 
 
 @functools.cache
-def _compiled() -> SimpleNamespace:
+def _compiled(language: str = "en") -> SimpleNamespace:
     """Templates in one flat list, per-theme offsets and counts, boilerplate tables.
 
     Each article walks through its theme's templates along a cycle (random start,
     random stride coprime with the count), so no template repeats inside a block
     no longer than the theme's template count.
     """
+    m = material(language)
     flat, s_off, s_cnt, t_off, t_cnt, strides = [], [], [], [], [], []
-    for spec in THEMES.values():
+    for name in THEMES:  # the English order, so theme numbers mean the same in every language
+        spec = m.themes[name]
         for templates, off, cnt in (
-            (spec["sentences"] + GENERIC, s_off, s_cnt),
+            (spec["sentences"] + m.generic, s_off, s_cnt),
             (spec["titles"], t_off, t_cnt),
         ):
             off.append(len(flat))
             cnt.append(len(templates))
-            flat.extend(_parts(template, spec) for template in templates)
+            flat.extend(_parts(template, spec, m.common) for template in templates)
         strides.append([s for s in range(1, s_cnt[-1]) if math.gcd(s, s_cnt[-1]) == 1])
     width = max(map(len, strides))
-    n_lines = max(len(spec["boilerplate"]) for spec in OUTLETS.values())
+    n_lines = max(len(spec["boilerplate"]) for spec in m.outlets.values())
     shares = np.zeros((len(OUTLETS), n_lines))
     # tails[outlet, bits]: the outlet's boilerplate lines whose bit is set, each after a line break
     tails = np.empty((len(OUTLETS), 2**n_lines), dtype=object)
-    for o, spec in enumerate(OUTLETS.values()):
+    for o, spec in enumerate(m.outlets.values()):
         shares[o, : len(spec["boilerplate"])] = [share for _, share in spec["boilerplate"]]
         for bits in range(2**n_lines):
             lines = [line for j, (line, _) in enumerate(spec["boilerplate"]) if bits >> j & 1]
@@ -109,6 +137,8 @@ def _compiled() -> SimpleNamespace:
         shares=shares,
         tails=tails,
         wire=list(OUTLETS).index(WIRE),
+        dateline=m.dateline,
+        attribution=m.attribution,
     )
 
 
@@ -120,9 +150,9 @@ def _concat(literals: list[str], columns: list[np.ndarray], n: int) -> np.ndarra
     return text
 
 
-def _fill(tid: np.ndarray, draws: np.ndarray) -> np.ndarray:
+def _fill(tid: np.ndarray, draws: np.ndarray, language: str = "en") -> np.ndarray:
     """Template ``tid[i]`` filled with bank entries picked by ``draws[i]``."""
-    flat = _compiled().flat
+    flat = _compiled(language).flat
     out = np.empty(len(tid), dtype=object)
     order = np.argsort(tid, kind="stable")
     ids, starts = np.unique(tid[order], return_index=True)
@@ -139,10 +169,11 @@ def _join(
     outlets: np.ndarray,
     keep_lines: np.ndarray,
     tail: str = "",
+    language: str = "en",
 ) -> np.ndarray:
     """Articles: paragraphs of two or three sentences, one per line, the wire's dateline,
     then ``tail`` and the outlet's boilerplate lines that ``keep_lines`` keeps."""
-    c = _compiled()
+    c = _compiled(language)
     starts = np.cumsum(counts) - counts
     pos = np.arange(len(sentences)) - np.repeat(starts, counts)
     k = np.repeat(counts, counts)
@@ -151,19 +182,19 @@ def _join(
     sep = _SEPARATORS[np.where(pos == k - 1, 0, np.where(ends_par, 1, 2))]
     pieces = sentences + sep
     wire = starts[outlets == c.wire]
-    pieces[wire] = DATELINE + pieces[wire]
+    pieces[wire] = c.dateline + pieces[wire]
     bits = (keep_lines * (1 << np.arange(keep_lines.shape[1]))).sum(axis=1)
     return np.add.reduceat(pieces, starts) + tail + c.tails[outlets, bits]
 
 
-def _keep_lines(rng, outlets: np.ndarray) -> np.ndarray:
-    shares = _compiled().shares
+def _keep_lines(rng, outlets: np.ndarray, language: str = "en") -> np.ndarray:
+    shares = _compiled(language).shares
     return rng.random((len(outlets), shares.shape[1])) < shares[outlets]
 
 
-def _render_chunk(rng, plan: dict, rows: slice):
+def _render_chunk(rng, plan: dict, rows: slice, language: str = "en"):
     """Sentences (in article order), titles and texts of the articles in ``rows``."""
-    c = _compiled()
+    c = _compiled(language)
     ns, nf = plan["n_sent"][rows], plan["n_first"][rows]
     first_theme, second_theme, outlets = (
         plan["theme"][rows],
@@ -180,20 +211,21 @@ def _render_chunk(rng, plan: dict, rows: slice):
     cnt = c.s_cnt[theme]
     step = np.where(first, pos, pos - nf[doc]) * c.strides[theme, pick]
     tid = c.s_off[theme] + ((start * cnt).astype(np.int64) + step) % cnt
-    sentences = _fill(tid, rng.integers(0, 2**31, (len(doc), c.slots)))
+    sentences = _fill(tid, rng.integers(0, 2**31, (len(doc), c.slots)), language)
     t_tid = c.t_off[first_theme] + (rng.random(len(ns)) * c.t_cnt[first_theme]).astype(np.int64)
-    titles = _fill(t_tid, rng.integers(0, 2**31, (len(ns), c.slots)))
-    return sentences, titles, _join(sentences, ns, outlets, _keep_lines(rng, outlets))
+    titles = _fill(t_tid, rng.integers(0, 2**31, (len(ns), c.slots)), language)
+    keep = _keep_lines(rng, outlets, language)
+    return sentences, titles, _join(sentences, ns, outlets, keep, language=language)
 
 
-def render(plan: dict, seed: int) -> tuple[list[str], list[str]]:
-    """Titles and texts of every planned row (see ``tm_compare.demo``)."""
+def render(plan: dict, seed: int, language: str = "en") -> tuple[list[str], list[str]]:
+    """Titles and texts of every planned row (see ``tm_compare.demo``), in ``language``."""
     rng = np.random.default_rng([seed, 1])
     n = len(plan["source"])
     titles, texts, originals = [], [], {rows[0]: None for rows in plan["stories"]}
     for start in range(0, n, _CHUNK):
         rows = slice(start, min(n, start + _CHUNK))
-        sentences, t, x = _render_chunk(rng, plan, rows)
+        sentences, t, x = _render_chunk(rng, plan, rows, language)
         titles.extend(t.tolist())
         texts.extend(x.tolist())
         bounds = np.cumsum(plan["n_sent"][rows]) - plan["n_sent"][rows]
@@ -211,8 +243,9 @@ def render(plan: dict, seed: int) -> tuple[list[str], list[str]]:
             np.concatenate(kept),
             np.array([len(s) for s in kept]),
             outlets,
-            _keep_lines(rng, outlets),
-            "\n" + ATTRIBUTION,
+            _keep_lines(rng, outlets, language),
+            "\n" + _compiled(language).attribution,
+            language,
         )
         for row, text in zip(rows.tolist(), joined.tolist(), strict=True):
             texts[row] = text
@@ -222,7 +255,10 @@ def render(plan: dict, seed: int) -> tuple[list[str], list[str]]:
     return titles, texts
 
 
-def urls(plan: dict, titles: list[str]) -> list[str]:
+_ASCII = str.maketrans({"ä": "ae", "ö": "oe", "ü": "ue", "ß": "ss", "é": "e", "è": "e"})
+
+
+def urls(plan: dict, titles: list[str], language: str = "en") -> list[str]:
     """One URL per row, under the reserved ``.example`` top-level domain (RFC 2606).
 
     Each outlet has its own URL layout; URL variants repeat their article's URL
@@ -231,14 +267,16 @@ def urls(plan: dict, titles: list[str]) -> list[str]:
     n = len(titles)
     days, day_of = np.unique(plan["date"], return_inverse=True)
     ymd = np.array([str(d).replace("-", "/") for d in days], dtype=object)
-    slug_of = {t: "-".join(re.findall(r"[a-z0-9]+", t.lower())[:7]) for t in set(titles)}
+    slug_of = {
+        t: "-".join(re.findall(r"[a-z0-9]+", t.lower().translate(_ASCII))[:7]) for t in set(titles)
+    }
     values = {
         "domain": np.array([spec["domain"] for spec in OUTLETS.values()], dtype=object)[
             plan["outlet"]
         ],
-        "section": np.array([spec["section"] for spec in THEMES.values()], dtype=object)[
-            plan["theme"]
-        ],
+        "section": np.array(
+            [material(language).themes[name]["section"] for name in THEMES], dtype=object
+        )[plan["theme"]],
         "ymd": ymd[day_of],
         "ym": np.array([d[:7] for d in ymd], dtype=object)[day_of],
         "slug": np.array([slug_of[t] for t in titles], dtype=object),

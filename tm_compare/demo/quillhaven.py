@@ -35,7 +35,7 @@ import pandas as pd
 
 from .._deprecation import renamed_parameters
 from .._validation import param_error
-from ._text import OUTLETS, THEMES, WIRE, render, urls
+from ._text import LANGUAGES, OUTLETS, THEMES, WIRE, material, render, urls
 
 __all__ = [
     "DemoTruth",
@@ -51,6 +51,10 @@ SOURCES = ("shared", "visited")
 THEME_NAMES = tuple(THEMES)
 OUTLET_NAMES = tuple(OUTLETS)
 MIN_DOCS = 200
+#: ``language`` of the demo: one of the languages it is written in, or "de+en": each article
+#: in German or English (half each, by a seeded draw; copies and URL variants follow their
+#: original), for trying ``prepare(language="auto")``.
+DEMO_LANGUAGES = (*LANGUAGES, "de+en")
 
 SHARED_FRACTION = 0.4
 # Share of each theme among visited articles (by dominant theme); order of THEME_NAMES.
@@ -114,7 +118,9 @@ class DemoTruth:
     url_variants : dict
         Id of an article -> ids of rows that repeat it under another URL.
     themes, theme_words : tuple and dict
-        The planted themes, and a few words that mark each one.
+        The planted themes, and a few words that mark each one (in each language of the demo).
+    language : str
+        The demo's language (see ``DEMO_LANGUAGES``); ``docs["language"]`` gives each row's.
     trend_theme, trend_source, trend_max
         The theme that rises over the weeks in one source: see :meth:`trend`.
     """
@@ -135,14 +141,22 @@ class DemoTruth:
     trend_source: str = TREND[1]
     trend_max: float = TREND[2]
     themes: tuple = THEME_NAMES
-    theme_words: dict = field(
-        default_factory=lambda: {name: spec["words"] for name, spec in THEMES.items()}
-    )
+    language: str = "en"
+    theme_words: dict = field(default=None)
     boilerplate: dict = field(
         default_factory=lambda: {
             name: tuple(line for line, _ in spec["boilerplate"]) for name, spec in OUTLETS.items()
         }
     )
+
+    def __post_init__(self):
+        if self.theme_words is None:
+            codes = self.language.split("+")
+            words = {
+                name: tuple(w for c in codes for w in material(c).themes[name]["words"])
+                for name in THEMES
+            }
+            object.__setattr__(self, "theme_words", words)
 
     def describe(self) -> str:
         """The planted facts in words, for a terminal or a notebook."""
@@ -199,7 +213,10 @@ class DemoTruth:
         return {k: (list(v) if isinstance(v, tuple) else v) for k, v in out.items()}
 
 
-def _check(owner: str, n_docs, random_state) -> None:
+def _check(owner: str, n_docs, random_state, language="en") -> None:
+    if language not in DEMO_LANGUAGES:
+        listed = ", ".join(repr(c) for c in DEMO_LANGUAGES)
+        raise param_error(owner, "language", language, f"one of {listed}")
     if isinstance(n_docs, bool) or not isinstance(n_docs, int | np.integer) or n_docs < MIN_DOCS:
         fix = f"Smaller corpora cannot hold every planted fact (tm-compare demo --docs {MIN_DOCS})."
         raise param_error(owner, "n_docs", n_docs, f"an integer >= {MIN_DOCS}", fix)
@@ -371,7 +388,22 @@ def _readers(plan: dict) -> np.ndarray:
     return _labels("reader_", np.arange(1, plan["n_readers"] + 1), width)[plan["reader"]]
 
 
-def _truth(n_docs: int, seed: int, plan: dict) -> DemoTruth:
+def _languages(plan: dict, seed: int, language: str) -> np.ndarray:
+    """Each row's language; in a mixed demo copies and URL variants follow their original."""
+    n = len(plan["source"])
+    codes = language.split("+")
+    if len(codes) == 1:
+        return np.full(n, language, dtype=object)
+    rng = np.random.default_rng([seed, 2])
+    out = np.array(codes, dtype=object)[rng.integers(0, len(codes), size=n)]
+    for rows in plan["stories"]:
+        out[list(rows)] = out[rows[0]]
+    for original, variants in plan["variants"]:
+        out[variants] = out[original]
+    return out
+
+
+def _truth(n_docs: int, seed: int, plan: dict, language: str = "en") -> DemoTruth:
     ids = _labels("qh-", np.arange(n_docs), max(6, len(str(n_docs - 1))))
     names = np.array(THEME_NAMES, dtype=object)
     readers = _readers(plan)
@@ -387,6 +419,7 @@ def _truth(n_docs: int, seed: int, plan: dict) -> DemoTruth:
             "second_theme": second,
             "theme_share": np.round(plan["n_first"] / plan["n_sent"], 3),
             "role": plan["role"],
+            "language": _languages(plan, seed, language),
         }
     )
     heavy = plan["reader"] == plan["heavy"]
@@ -402,11 +435,14 @@ def _truth(n_docs: int, seed: int, plan: dict) -> DemoTruth:
         },
         cross_source_copies=tuple(ids[rows[-1]] for rows in plan["stories"]),
         url_variants={ids[orig]: tuple(ids[copies]) for orig, copies in plan["variants"]},
+        language=language,
     )
 
 
 @renamed_parameters(seed="random_state")
-def scenario(n_docs: int = 3000, random_state: int = 0) -> tuple[pd.DataFrame, DemoTruth]:
+def scenario(
+    n_docs: int = 3000, random_state: int = 0, language: str = "en"
+) -> tuple[pd.DataFrame, DemoTruth]:
     """The demo articles and what was planted in them.
 
     Parameters
@@ -416,6 +452,9 @@ def scenario(n_docs: int = 3000, random_state: int = 0) -> tuple[pd.DataFrame, D
         At least 200; 200,000 takes well under a minute.
     random_state : int
         The same random_state gives the same rows, words and truth.
+    language : "en", "de" or "de+en"
+        The language the articles are written in; "de+en" mixes German and English
+        articles (a column ``language`` of the frame says which is which).
 
     Returns
     -------
@@ -424,39 +463,46 @@ def scenario(n_docs: int = 3000, random_state: int = 0) -> tuple[pd.DataFrame, D
         ``date``, ``url``, ``title``, ``text``.
     truth : DemoTruth
     """
-    _check("demo.scenario", n_docs, random_state)
+    _check("demo.scenario", n_docs, random_state, language)
     n_docs, seed = int(n_docs), int(random_state)
     plan = _plan(n_docs, seed)
-    planted = _truth(n_docs, seed, plan)
-    titles, texts = render(plan, seed)
+    planted = _truth(n_docs, seed, plan, language)
     frame = planted.docs[["id", "source", "outlet", "reader", "weight"]].copy()
     frame["date"] = pd.to_datetime(plan["date"])
-    frame["url"] = urls(plan, titles)
-    frame["title"] = titles
-    frame["text"] = texts
+    titles, texts, links = [], [], []
+    for code in language.split("+"):
+        t, x = render(plan, seed, code)
+        titles.append(np.array(t, dtype=object))
+        texts.append(np.array(x, dtype=object))
+        links.append(np.array(urls(plan, t, code), dtype=object))
+    which = np.searchsorted(np.array(language.split("+")), planted.docs["language"].to_numpy(str))
+    rows = np.arange(n_docs)
+    frame["url"] = np.stack(links)[which, rows].tolist()
+    frame["title"] = np.stack(titles)[which, rows].tolist()
+    frame["text"] = np.stack(texts)[which, rows].tolist()
     return frame, planted
 
 
 @renamed_parameters(seed="random_state")
-def make_frame(n_docs: int = 3000, random_state: int = 0) -> pd.DataFrame:
+def make_frame(n_docs: int = 3000, random_state: int = 0, language: str = "en") -> pd.DataFrame:
     """The demo articles as a DataFrame (see :func:`scenario`)."""
-    return scenario(n_docs, random_state)[0]
+    return scenario(n_docs, random_state, language)[0]
 
 
 @renamed_parameters(seed="random_state")
-def truth(n_docs: int = 3000, random_state: int = 0) -> DemoTruth:
+def truth(n_docs: int = 3000, random_state: int = 0, language: str = "en") -> DemoTruth:
     """What :func:`make_frame` with the same arguments planted; cheap (no text is written)."""
-    _check("demo.truth", n_docs, random_state)
+    _check("demo.truth", n_docs, random_state, language)
     seed = int(random_state)
-    return _truth(int(n_docs), seed, _plan(int(n_docs), seed))
+    return _truth(int(n_docs), seed, _plan(int(n_docs), seed), language)
 
 
 @renamed_parameters(seed="random_state")
-def make_corpus(n_docs: int = 3000, random_state: int = 0):
+def make_corpus(n_docs: int = 3000, random_state: int = 0, language: str = "en"):
     """The demo articles as a :class:`tm_compare.Corpus` (the reader is the group)."""
     from ..text.corpus import Corpus
 
-    return Corpus.from_frame(make_frame(n_docs, random_state), **CORPUS_COLUMNS)
+    return Corpus.from_frame(make_frame(n_docs, random_state, language), **CORPUS_COLUMNS)
 
 
 #: Size and seed of the small sample kept as a CSV file among the test fixtures.

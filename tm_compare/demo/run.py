@@ -47,13 +47,15 @@ class DemoRun:
     results: Any = None
     report_path: Path | None = None
     exported: list = field(default_factory=list)
+    language: str = "en"
+    views_path: Path | None = None
 
 
 def build_corpus(run: DemoRun) -> str:
     """Generate the invented articles, keep them as a CSV file, and take them in as a corpus."""
     from ..text.corpus import Corpus, save_corpus
 
-    run.frame, run.truth = demo.scenario(run.n_docs, run.random_state)
+    run.frame, run.truth = demo.scenario(run.n_docs, run.random_state, run.language)
     folder = run.project.folder(DEMO_FOLDER)
     with atomic_path(folder / "quillhaven.csv") as tmp:
         run.frame.to_csv(tmp, index=False)
@@ -63,7 +65,10 @@ def build_corpus(run: DemoRun) -> str:
     run.corpus = Corpus.from_frame(run.frame, **demo.CORPUS_COLUMNS)
     save_corpus(run.corpus, run.project)
     run.project.update_manifest(
-        settings={"demo": {"n_docs": run.n_docs, "random_state": run.random_state}}
+        settings={
+            "demo": {"n_docs": run.n_docs, "random_state": run.random_state}
+            | ({} if run.language == "en" else {"language": run.language})
+        }
     )
     f = run.frame
     return "\n".join(
@@ -83,9 +88,13 @@ def build_corpus(run: DemoRun) -> str:
 
 def prepare_corpus(run: DemoRun) -> str:
     """Prepare the corpus for LDA (cached in the project) and say what was removed."""
+    from ..text.languages import describe_mix
     from ..text.prepared import prepare
 
-    run.prepared = prepare(run.corpus, project=run.project)
+    codes = run.language.split("+")  # a mixed demo detects each article's language
+    run.prepared = prepare(
+        run.corpus, project=run.project, language=codes[0] if len(codes) == 1 else codes
+    )
     meta = run.prepared.meta
     merged = meta[meta["duplicate_ids"].map(len) > 0]
     lines = [
@@ -101,6 +110,8 @@ def prepare_corpus(run: DemoRun) -> str:
         "",
         str(run.prepared.report),
     ]
+    if "+" in run.language:
+        lines += ["", "Languages detected per source:", describe_mix(run.prepared)]
     return "\n".join(lines)
 
 
@@ -285,15 +296,56 @@ def write_outputs(run: DemoRun) -> str:
 
     run.report_path = write_report(run.project, results=run.results)
     run.exported = export(run.project, results=run.results)
+    run.views_path = write_views_notebook(run)
     folder = run.report_path.parent
     return "\n".join(
         [
             f"Report: {run.report_path}",
+            f"Views: {run.views_path} (a notebook that opens the views of this project)",
             f"Exports ({len(run.exported)} files) in {folder}: tables as CSV and Parquet, "
             "charts as PNG and SVG (charts/), column meanings in columns.md, topic shares per "
             "document in document_topics.csv",
         ]
     )
+
+
+VIEWS_NOTEBOOK = "views.ipynb"
+
+
+def write_views_notebook(run: DemoRun) -> Path:
+    """Write ``PROJECT/views.ipynb``: one cell that opens the project's views on the
+    recommended model (``jupyter lab views.ipynb`` from the project folder)."""
+    rec = run.results.recommendation
+    line = f"%tm_compare . --k {int(rec.k)} --seed {int(rec.seed)} --analyst analyst_c"
+    intro = (
+        "# Quillhaven demo: the views\n\n"
+        "Run the cell below (Shift+Enter). It opens the sweep of the demo project and, under it, "
+        f"the recommended model (k = {int(rec.k)}, seed {int(rec.seed)}). Put your own name "
+        "after `--analyst` before you label topics; the demo's invented analysts are "
+        f"{' and '.join(ANALYSTS)}."
+    )
+    cells = [
+        {"cell_type": "markdown", "metadata": {}, "source": intro},
+        {
+            "cell_type": "code",
+            "metadata": {},
+            "execution_count": None,
+            "outputs": [],
+            "source": f"%load_ext tm_compare\n{line}",
+        },
+    ]
+    kernel = {"name": "python3", "display_name": "Python 3 (ipykernel)", "language": "python"}
+    notebook = {
+        "cells": cells,
+        "metadata": {"kernelspec": kernel, "language_info": {"name": "python"}},
+        "nbformat": 4,
+        "nbformat_minor": 5,
+    }
+    for i, cell in enumerate(cells):
+        cell["id"] = f"views-{i}"
+    path = run.project.path / VIEWS_NOTEBOOK
+    atomic_write_json(path, notebook)
+    return path
 
 
 def summary(run: DemoRun) -> str:
@@ -334,6 +386,7 @@ def run_demo(
     passes: int = GRID["passes"],
     n_boot: int = N_BOOT,
     progress: bool = True,
+    language: str = "en",
 ) -> DemoRun:
     """Build the Quillhaven demo project and run every step of the job on it.
 
@@ -351,10 +404,14 @@ def run_demo(
         Bootstrap replicates of the comparison.
     progress : bool
         Show progress bars.
+    language : "en", "de" or "de+en"
+        Language of the invented articles; "de+en" mixes both, prepares each article in the
+        language detected for it and reports the mix (see ``tm_compare.demo.DEMO_LANGUAGES``).
     """
-    demo._check("run_demo", n_docs, random_state)  # before any folder is made
+    demo._check("run_demo", n_docs, random_state, language)  # before any folder is made
     grid = {"k": tuple(k), "seeds": seeds, "passes": passes}
     run = DemoRun(Project.create(project), int(n_docs), int(random_state), grid, n_boot, progress)
+    run.language = language
     for title, step in STEPS:
         report = step(run)
         if echo is not None:

@@ -26,7 +26,7 @@ from ..errors import LabelStoreError
 from . import _schema as _s
 
 EXPORT_FORMAT = "tm_compare labels"
-EXPORT_VERSION = 2  # 2: the fingerprint's key is "fit" (1: "model")
+EXPORT_VERSION = 3  # 3: the codebook carries former_names and retirements; 2: "fit" (1: "model")
 CSV_COLUMNS = (
     "fit",
     "topic",

@@ -6,6 +6,9 @@ Schema history (``meta.schema_version``):
 1. ``meta`` and an append-only ``labels`` table (name, note, verdict, confidence, retraction).
 2. adds team procedures: ``labels.category`` and ``labels.round_id``, and the tables
    ``codebook``, ``rounds`` and ``consensus``.
+3. categories can be renamed and retired: ``codebook.retired_at``/``retired_by`` and the table
+   ``category_changes`` (every definition, rename, retirement and restoration; see
+   :mod:`tm_compare.labels.categories`).
 
 An older store is upgraded in place inside one write transaction (DDL is transactional in both
 SQLite and PostgreSQL, so a failed upgrade leaves the old store as it was).
@@ -36,7 +39,7 @@ from sqlalchemy.engine import URL, make_url
 from .._validation import param_error
 from ..errors import LabelConflictError, LabelStoreError, StoreVersionError
 
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 STORE_FILE = "labels.sqlite"
 # An arbitrary constant key: every writer of a PostgreSQL store takes this transaction-level
 # lock, which serialises writes so that row ids follow commit order (polling relies on it).
@@ -108,6 +111,19 @@ codebook = sa.Table(
     sa.Column("description", sa.Text, nullable=False),
     sa.Column("added_by", sa.Text, nullable=False),
     sa.Column("created_at", sa.String(32), nullable=False),
+    sa.Column("retired_at", sa.String(32)),
+    sa.Column("retired_by", sa.Text),
+)
+category_changes = sa.Table(
+    "category_changes",
+    metadata,
+    sa.Column("id", sa.Integer, primary_key=True, autoincrement=True),
+    sa.Column("category_id", sa.Integer, sa.ForeignKey("codebook.id"), nullable=False),
+    sa.Column("action", sa.String(16), nullable=False),  # defined, renamed, retired, restored
+    sa.Column("old_name", sa.Text),
+    sa.Column("new_name", sa.Text),
+    sa.Column("changed_by", sa.Text, nullable=False),
+    sa.Column("changed_at", sa.String(32), nullable=False),
 )
 consensus = sa.Table(
     "consensus",
@@ -314,7 +330,29 @@ def _v1_to_v2(conn: sa.Connection) -> None:
     conn.execute(sa.text("ALTER TABLE labels ADD COLUMN round_id INTEGER REFERENCES rounds (id)"))
 
 
-MIGRATIONS = {1: _v1_to_v2}  # from version -> step to version + 1
+def _v2_to_v3(conn: sa.Connection) -> None:
+    """Version 3: categories can be renamed and retired, with a history of changes."""
+    # A store upgraded from version 1 in the same session got today's codebook from step 1.
+    have = {c["name"] for c in sa.inspect(conn).get_columns("codebook")}
+    for name, kind in (("retired_at", "VARCHAR(32)"), ("retired_by", "TEXT")):
+        if name not in have:
+            conn.execute(sa.text(f"ALTER TABLE codebook ADD COLUMN {name} {kind}"))
+    metadata.create_all(conn, tables=[category_changes])
+    conn.execute(
+        category_changes.insert().from_select(
+            ["category_id", "action", "new_name", "changed_by", "changed_at"],
+            sa.select(
+                codebook.c.id,
+                sa.literal("defined"),
+                codebook.c.category,
+                codebook.c.added_by,
+                codebook.c.created_at,
+            ).order_by(codebook.c.id),
+        )
+    )
+
+
+MIGRATIONS = {1: _v1_to_v2, 2: _v2_to_v3}  # from version -> step to version + 1
 
 
 def read_verdicts(conn: sa.Connection) -> list[str]:
@@ -421,6 +459,11 @@ def integrity_problems(conn: sa.Connection, verdicts: list[str]) -> list[str]:
                 f"consensus: row {row.id} was settled from labels {missing}, which do not exist"
             )
     known = set(conn.execute(sa.select(codebook.c.category)).scalars())
+    known |= set(
+        conn.execute(
+            sa.select(category_changes.c.old_name).where(category_changes.c.action == "renamed")
+        ).scalars()
+    )
     for table in (labels, consensus):
         for row in conn.execute(
             sa.select(table.c.id, table.c.category, table.c.verdict).where(

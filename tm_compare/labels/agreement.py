@@ -159,3 +159,56 @@ def agreement_table(table, level: str = "nominal") -> pd.DataFrame:
     summary = agreement_summary(table, level)
     overall = {"scope": "overall", "unit": None, **{k: summary[k] for k in per_unit.columns[2:]}}
     return pd.concat([per_unit, pd.DataFrame([overall])], ignore_index=True)
+
+
+#: What to say when alpha cannot be computed because no topic has two analysts' labels.
+NEEDS_TWO_ANALYSTS = "needs labels from 2 analysts on the same topics"
+#: Label fields in words, for sentences.
+FIELD_WORDS = {"verdict": "verdicts", "category": "categories", "name": "names"}
+
+# Krippendorff (2004), "Content Analysis: An Introduction to Its Methodology", 2nd ed., p. 241
+# (from memory): rely on variables with alpha >= .800; consider those with .667 <= alpha < .800
+# only for tentative conclusions.
+_READINGS = (
+    (0.800, "reliable enough to rely on (Krippendorff's threshold: 0.800)"),
+    (0.667, "good enough for tentative conclusions only (0.667 to 0.800)"),
+    (-np.inf, "too low to rely on (below 0.667)"),
+)
+
+
+def can_compute(row) -> bool:
+    """Whether a row of an agreement table (or a summary dict) holds a defined alpha."""
+    alpha = row["alpha"]
+    return row["n_units"] > 0 and alpha is not None and not pd.isna(alpha)
+
+
+def explain_agreement(row, what: str | None = None) -> str:
+    """One plain sentence about a row of an agreement table or a summary dict.
+
+    ``what`` names what was labelled (default: from the row's ``field``, e.g. "verdicts").
+
+    With no topic labelled by two analysts: ``"... needs labels from 2 analysts on the same
+    topics"``; with every pairable value the same (alpha undefined: no variation to measure
+    against chance): says so and gives the percent agreement; otherwise alpha, what it rests
+    on, and how Krippendorff (2004) reads it.
+    """
+    if what is None:
+        field = row.get("field", "labels")
+        what = FIELD_WORDS.get(field, field)
+    units, coders = int(row["n_units"]), int(row["n_coders"])
+    if units == 0:
+        return f"Agreement on {what} {NEEDS_TWO_ANALYSTS}."
+    on = f"{units} topic{'s' if units != 1 else ''} labelled by {coders} analysts"
+    if not can_compute(row):
+        return (
+            f"Agreement on {what} cannot be computed yet: on the {on} every label is the same, "
+            "so there is no variation to weigh against chance (alpha needs two different "
+            "values). The analysts agree on all of them."
+        )
+    alpha = float(row["alpha"])
+    reading = next(text for limit, text in _READINGS if alpha >= limit)
+    share = float(row["percent_agreement"])
+    return (
+        f"Krippendorff's alpha for {what} is {alpha:.2f} on {on} "
+        f"({share:.0%} of pairs agree): {reading}."
+    )

@@ -35,6 +35,7 @@ from .._validation import check_choice, param_error
 from ..errors import LabelStoreError
 from . import _files as _f
 from . import _schema as _s
+from . import categories as _categories
 from ._files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
 from ._schema import LABEL_FIELDS
 from .agreement import agreement_table
@@ -122,6 +123,16 @@ def _topic(topic) -> int:
     return int(topic)
 
 
+def _unchanged(latest, values: dict) -> bool:
+    """Whether ``values`` are the fields of the stored ``latest`` label, which is not retracted."""
+    if latest is None or latest.retracted or values.get("retracted"):
+        return False
+    try:
+        return all(getattr(latest, f) == values.get(f) for f in LABEL_FIELDS)
+    except TypeError:  # a value of the wrong type: let the field checks name it
+        return False
+
+
 def _label(row) -> Label:
     data = _s.record(row)
     data["round"] = data.pop("round_id")
@@ -133,7 +144,7 @@ def _frame(rows) -> pd.DataFrame:
     return pd.DataFrame([asdict(_label(r)) for r in rows], columns=list(COLUMNS))
 
 
-class LabelStore:
+class LabelStore(_categories.CategoriesMixin):
     """A team's topic labels, in SQLite or PostgreSQL.
 
     Parameters
@@ -283,46 +294,15 @@ class LabelStore:
             )
         return values
 
-    def define_category(self, category: str, description: str = "") -> None:
-        """Add a category to the team's codebook (a category cannot be renamed or removed)."""
-        if not isinstance(category, str) or not category.strip() or len(category) > 200:
-            raise param_error(
-                "define_category",
-                "category",
-                category,
-                "a non-empty string of at most 200 characters",
-            )
-        _s.check_text("category", category)
-        _s.check_text("description", description)
-        who = self._writer("define a category")
-        with self._guard(), _s.write_transaction(self._engine) as conn:
-            self._add_categories(
-                conn, [{"category": category, "description": description, "added_by": who}]
-            )
-
     @staticmethod
     def _add_categories(conn, entries: list[dict]) -> None:
-        known = set(conn.execute(sa.select(_s.codebook.c.category)).scalars())
-        fresh = [
-            dict(e, created_at=e.get("created_at") or _s.utc_now())
-            for e in entries
-            if e["category"] not in known
-        ]
-        if fresh:
-            conn.execute(_s.codebook.insert(), fresh)
+        _categories.add(conn, entries)  # codebook entries of an imported label file
 
     def codebook(self) -> pd.DataFrame:
-        """The codebook: ``category``, ``description``, ``added_by``, ``created_at``."""
-        cb = _s.codebook
-        rows = self._read(
-            sa.select(cb.c.category, cb.c.description, cb.c.added_by, cb.c.created_at).order_by(
-                cb.c.id
-            )
-        )
-        return pd.DataFrame(
-            [dict(r._mapping) for r in rows],
-            columns=["category", "description", "added_by", "created_at"],
-        )
+        """The codebook: ``category``, ``description``, ``added_by``, ``created_at``,
+        ``retired_at``, ``retired_by`` and ``former_names`` (a list), as label files carry it."""
+        with self._guard(), self._engine.connect() as conn:
+            return _categories.codebook_frame(conn)
 
     # --- rounds and visibility --------------------------------------------------------------
 
@@ -528,7 +508,8 @@ class LabelStore:
         if values["verdict"] is not None:
             check_choice(owner, "verdict", values["verdict"], _s.read_verdicts(conn))
         known = list(conn.execute(_s.CATEGORIES).scalars()) if values["category"] else []
-        if values["category"] is not None and values["category"] not in known:
+        former = _categories.aliases(conn) if values["category"] not in known else {}
+        if values["category"] is not None and values["category"] not in {*known, *former}:
             listed = ", ".join(map(repr, known)) or "none yet"
             fix = "Add it first with store.define_category(...)."
             raise param_error(
@@ -572,11 +553,17 @@ class LabelStore:
                 based_on,
                 "the version your edit started from (an integer >= 0), or None for a new label",
             )
+        key = {"fit": fit, "topic": topic, "analyst": who}
         with self._guard(), _s.write_transaction(self._engine) as conn:
-            values = self._clean(conn, values)
+            latest = conn.execute(_s.LATEST["labels"], key).first()
             opened = self._open_round(conn, fit)
-            values["round_id"] = None if opened is None else opened.id
-            row = self._append(conn, {"fit": fit, "topic": topic, "analyst": who}, values, based_on)
+            round_id = None if opened is None else opened.id
+            if _unchanged(latest, values) and round_id in (None, latest.round_id):
+                return _label(latest)  # saving what is stored adds no version
+            _categories.refuse_for_new_label(conn, values["category"])
+            values = self._clean(conn, values)
+            values["round_id"] = round_id
+            row = self._append(conn, key, values, based_on)
         return _label(row)
 
     @_renamed_fit
@@ -632,6 +619,8 @@ class LabelStore:
         with self._guard(), self._engine.connect() as conn:
             frame = _frame(self._current_rows(conn, fit, round_id=round))
         frame = frame[~frame["retracted"].astype(bool)]
+        names = self.category_aliases()  # labels saved under a former name count as the new one
+        frame = frame.assign(category=frame["category"].map(lambda c: names.get(c, c)))
         tables = []
         for field in fields:
             units = frame.pivot(index="topic", columns="analyst", values=field)
@@ -657,6 +646,7 @@ class LabelStore:
             raise LabelStoreError(msg)
         values = {"name": name, "note": note, "verdict": verdict, "category": category}
         with self._guard(), _s.write_transaction(self._engine) as conn:
+            _categories.refuse_for_new_label(conn, values["category"])
             values = self._clean(conn, values)
             current = [r for r in self._current_rows(conn, fit) if r.topic == topic]
             if from_labels is None:

@@ -272,7 +272,7 @@ class TrainingData:
     """A prepared corpus as a document-term count matrix, with its held-out mask.
 
     This is what fitting needs, in a form that is written once and read by every
-    worker (memory-mapped on one machine, scattered once on a Dask cluster).
+    worker (memory-mapped on one machine, sent once to a Dask cluster).
     """
 
     matrix: sp.csr_matrix

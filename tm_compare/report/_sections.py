@@ -15,6 +15,8 @@ import math
 import pandas as pd
 
 from .. import _html
+from ..labels.agreement import explain_agreement
+from ..text.languages import is_only_english, language_mix
 from .exports import chart_svg, charts
 
 WORDS = 8  # top terms shown per topic
@@ -109,7 +111,21 @@ def corpus_section(results) -> dict:
         ]
     removals = results.tables["removals"]
     boiler = prepared.boilerplate
+    mix = None if is_only_english(prepared) else language_mix(prepared)
     return {
+        "languages": None
+        if mix is None
+        else table(
+            mix,
+            [
+                ("source", "source", None),
+                ("language", "code", None),
+                ("name", "language", None),
+                ("documents", "documents", _int),
+                ("share", "share", _pct),
+            ],
+            key="languages",
+        ),
         "sources": table(per_source, columns, key="sources"),
         "n_documents": len(prepared),
         "n_terms": len(prepared.dictionary),
@@ -376,6 +392,7 @@ def labels_section(results) -> dict:
                 "alpha": num(r.alpha, 2),
                 "percent": f"{r.percent_agreement:.0%}",
                 "units": int(r.n_units),
+                "sentence": explain_agreement(r._asdict()),  # or what alpha still needs
             }
             for r in overall.itertuples(index=False)
         ],

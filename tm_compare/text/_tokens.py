@@ -12,9 +12,13 @@ Tokenizer rules
   become spaces, and everything is lower-cased.
 - A token is a run of letters and digits; runs joined by an inner apostrophe
   or hyphen stay one token: ``o'brien``, ``cost-of-living``, ``don't``.
-- A trailing ``'s`` is cut: ``council's`` -> ``council``. Possessives count
-  as the noun itself; the contraction of "is" (``it's`` -> ``it``) leaves a
-  stop word either way.
+- A trailing ``'s`` is cut in English (``possessive=True``): ``council's`` ->
+  ``council``. Possessives count as the noun itself; the contraction of "is"
+  (``it's`` -> ``it``) leaves a stop word either way.
+- In French, Italian and Catalan an elided article or preposition is cut off
+  (``elisions``): ``l'école`` -> ``école``, ``dell'anno`` -> ``anno``.
+- Letters are Unicode word characters, so accented, Greek and Cyrillic words
+  are tokens like any other; compounds (``sturmflutwarnung``) stay whole.
 - Every other punctuation mark becomes a marker token that never reaches the
   output; it only stops a phrase from spanning it ("... the council. Mayor
   ..." never yields ``council_mayor``).
@@ -72,17 +76,24 @@ def classify(
     min_length: int,
     max_length: int,
     stem=None,
+    elisions: frozenset[str] = frozenset(),
+    possessive: bool = True,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Output form and class (KEEP, CONNECTOR or BREAK) of each distinct raw token.
 
     BREAK tokens (punctuation, stop words, numbers, too short or too long)
     are dropped and split the text into phrase segments. CONNECTOR tokens are
     stop words that may sit inside a phrase ("cost of living") and are
-    dropped after phrase detection.
+    dropped after phrase detection. ``elisions`` are the words cut off before an
+    apostrophe at the start of a token; ``possessive`` cuts a trailing ``'s``.
     """
     forms, kinds = [], []
     for raw in strings:
-        word = raw[:-2] if raw.endswith("'s") else raw
+        word = raw[:-2] if possessive and raw.endswith("'s") else raw
+        if elisions:
+            head, mark, tail = word.partition("'")
+            if mark and tail and head in elisions:
+                word = tail
         if not word[:1].isalnum():
             kind = BREAK
         elif word in stop_words:

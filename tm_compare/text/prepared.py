@@ -4,13 +4,16 @@
 
 1. boilerplate lines removed per outlet (or source) (:mod:`._boilerplate`);
 2. tokenizing (:mod:`._tokens`: NFKC, lower case, inner apostrophes and
-   hyphens kept, possessive ``'s`` cut);
+   hyphens kept, English possessive ``'s`` and French/Italian elisions cut),
+   each document in its language (:mod:`.languages`: given, or detected with
+   ``language="auto"``; undetected documents counted out or flagged);
 3. near-duplicates found on word shingles (:mod:`._neardup`); copies within
    one source (and group) merge into the fullest copy, their weights added;
    copies in different sources both stay, flagged ``cross_source_duplicate``;
-4. stop words, numbers and too short/long tokens dropped, optional Snowball
-   stemming, then n-gram phrases joined with gensim's ``Phrases`` (Mikolov et
-   al. 2013, eq. 6); phrases never span punctuation or a dropped word, except
+4. stop words (of each document's language), numbers and too short/long
+   tokens dropped, optional Snowball stemming or lemmas (of that language),
+   then n-gram phrases joined with gensim's ``Phrases`` (Mikolov et al. 2013,
+   eq. 6); phrases never span punctuation or a dropped word, except
    the connector words gensim allows inside a phrase ("cost_of_living");
 5. vocabulary pruned by the rules of gensim's ``Dictionary.filter_extremes``;
 6. documents shorter than ``min_doc_tokens`` counted out in the report.
@@ -34,6 +37,7 @@ from tqdm.auto import tqdm
 from .._hashing import fingerprint as _fingerprint
 from .._validation import check_choice, param_error
 from ..errors import CorpusError, ProjectError
+from ..options import default
 from ..project import Project
 from ._boilerplate import BoilerplateStripper, find_boilerplate
 from ._intake import frame_fingerprint
@@ -51,12 +55,24 @@ from ._tokens import (
     TokenIndex,
     all_segments,
     apply_phrases,
-    classify,
     join_phrases,
     normalise,
     phrase_parts,
     prune_vocabulary,
     tokenize,
+)
+from .languages import (
+    REASON_FALLBACK,
+    REASON_UNDETECTED,
+    UNDETECTED,
+    TokensByLanguage,
+    candidates,
+    check_language,
+    detector,
+    is_detected,
+    language_mix,
+    split_by_language,
+    warn_if_mixed,
 )
 from .removals import RemovalLog
 
@@ -77,7 +93,9 @@ DEFAULTS: dict[str, Any] = {
     "drop_numbers": True,
     "min_token_length": 2,
     "max_token_length": 40,
-    "stop_words": "english",
+    "language": default("language"),
+    "undetected": default("undetected"),
+    "stop_words": "builtin",
     "extra_stop_words": (),
     "stem": None,
     "boilerplate": True,
@@ -117,12 +135,22 @@ def prepare(
     drop_numbers : bool, default True
         Drop tokens that contain a digit.
     min_token_length, max_token_length : int, default 2 and 40
-    stop_words : "english", None or list of str, default "english"
-        The built-in list, none, or your own list instead.
+    language : str or list of str, default "en"
+        ISO 639-1 code of the corpus's language (``tm_compare.SUPPORTED_LANGUAGES``);
+        "auto" detects each document's language among the supported ones, a list of codes
+        among those only; each document is then prepared in its own language
+        (``meta["language"]``, :meth:`PreparedCorpus.language_mix`).
+    undetected : "remove" or str, default "remove"
+        What happens to documents whose language cannot be detected: counted out in the
+        report, or prepared in the language given here and flagged in the report.
+    stop_words : "builtin", "english", None or list of str, default "builtin"
+        The built-in list of each document's language, the English list, none, or your own
+        list instead.
     extra_stop_words : list of str
         Added to ``stop_words``.
-    stem : None or "snowball"
-        Snowball (Porter2) English stemming of kept words.
+    stem : None, "snowball" or "lemma"
+        Snowball stemming of kept words, by the stemmer of each document's language
+        (Porter2 for English), or their dictionary forms (simplemma; ``tm_compare[lemmas]``).
     boilerplate : bool, default True
     boilerplate_by : str, optional
         Column grouping documents for boilerplate lines; default "outlet" if
@@ -152,12 +180,14 @@ def prepare(
     if folder is not None:
         cached = _load_if_valid(folder, PreparedCorpus)
         if cached is not None:
+            warn_if_mixed(cached)
             return cached
     if progress is None:
         progress = len(corpus) >= PROGRESS_FROM
     result = PreparedCorpus(**_build(corpus, s, progress), fingerprint=key)
     if folder is not None:
         result.save(folder)
+    warn_if_mixed(result)
     if project is not None:
         # So a collaborator reopening the project sees which prepared corpora it holds.
         project.update_manifest(
@@ -245,6 +275,16 @@ class PreparedCorpus:
 
     def __len__(self) -> int:
         return len(self.texts)
+
+    def language_mix(self) -> pd.DataFrame:
+        """Documents per source and language, with those whose language was undetected
+        (see :func:`tm_compare.text.languages.language_mix`)."""
+        return language_mix(self)
+
+    def split_by_language(self, *, project=None, min_docs: int = 1) -> dict[str, PreparedCorpus]:
+        """One prepared corpus per language, to fit and compare each language on its own
+        (see :func:`tm_compare.text.languages.split_by_language`)."""
+        return split_by_language(self, project=project, min_docs=min_docs)
 
     def __repr__(self) -> str:
         return (
@@ -381,7 +421,15 @@ def _check_settings(corpus, settings: dict) -> dict:
     for name in ("boilerplate_min_share", "near_duplicate_threshold", "max_doc_fraction"):
         need(name, _is_real(s[name]) and 0 < s[name] <= 1, "a number in (0, 1]")
     need("phrase_threshold", _is_real(s["phrase_threshold"]), "a number")
-    check_choice("prepare", "stem", s["stem"], [None, "snowball"])
+    check_choice("prepare", "stem", s["stem"], [None, "snowball", "lemma"])
+    s["language"] = check_language("prepare", s["language"])
+    if s["undetected"] != "remove":
+        s["undetected"] = check_language("prepare", s["undetected"])
+        need(
+            "undetected",
+            isinstance(s["undetected"], str) and s["undetected"] != "auto",
+            '"remove" or one language code',
+        )
     check_choice(
         "prepare", "near_duplicates", s["near_duplicates"], ["auto", "exact", "minhash", None]
     )
@@ -395,13 +443,14 @@ def _check_settings(corpus, settings: dict) -> dict:
         )
     for name in ("stop_words", "extra_stop_words"):
         value = s[name]
-        if name == "stop_words" and value in ("english", None):
+        if name == "stop_words" and value in ("builtin", "english", None):
             continue
         need(
             name,
             isinstance(value, list | tuple | set | frozenset)
             and all(isinstance(w, str) for w in value),
-            "a list of strings" + (' or "english" or None' if name == "stop_words" else ""),
+            "a list of strings"
+            + (' or "builtin", "english" or None' if name == "stop_words" else ""),
         )
         s[name] = sorted({normalise(w).strip() for w in value})
     by = s["boilerplate_by"]
@@ -422,18 +471,25 @@ def _is_real(v) -> bool:
     return isinstance(v, int | float | np.integer | np.floating) and not isinstance(v, bool)
 
 
-def _stop_set(s: dict) -> frozenset[str]:
-    from ._stopwords import ENGLISH  # imports scikit-learn: only when preparing
+def _stop_set(s: dict, code: str = "en") -> frozenset[str]:
+    from . import languages
 
-    base = ENGLISH if s["stop_words"] == "english" else frozenset(s["stop_words"] or ())
+    if s["stop_words"] == "builtin":
+        base = languages.stop_words(code)
+    elif s["stop_words"] == "english":
+        base = languages.stop_words("en")
+    else:
+        base = frozenset(s["stop_words"] or ())
     return frozenset(base | set(s["extra_stop_words"]))
 
 
 def _key(corpus, s: dict) -> str:
     from .. import __version__
+    from .languages import versions
 
     # The corpus fingerprint covers every column, so metadata edits also miss the cache.
-    return _fingerprint(corpus.fingerprint, s, sorted(_stop_set(s)), FORMAT_VERSION, __version__)
+    stops = [sorted(_stop_set(s, code)) for code in candidates(s["language"])]
+    return _fingerprint(corpus.fingerprint, s, stops, versions(), FORMAT_VERSION, __version__)
 
 
 def _build(corpus, s: dict, progress: bool) -> dict:
@@ -455,11 +511,21 @@ def _build(corpus, s: dict, progress: bool) -> dict:
             progress=partial(bar, desc="counting lines"),
         )
         strip = BoilerplateStripper(found)
-    index, docs, clean = TokenIndex(), [], []
+    index, docs, clean, langs = TokensByLanguage(), [], [], []
+    detect = detector(s["language"]) if is_detected(s["language"]) else None
+    drop_undetected = s["undetected"] == "remove"
     for text, group in bar(zip(texts, bp_groups, strict=True), total=n, desc="tokenizing"):
         text = strip(text, group) if strip is not None else text
         clean.append(text)
-        docs.append(index.encode(tokenize(text)))
+        code = s["language"] if detect is None else detect(text)
+        langs.append(code)
+        if code == UNDETECTED and drop_undetected:
+            docs.append(np.empty(0, dtype=np.int32))  # counted out below, pairs with nothing
+        else:
+            docs.append(
+                index.encode(tokenize(text), s["undetected"] if code == UNDETECTED else code)
+            )
+    docs = index.merge(docs, [s["undetected"] if c == UNDETECTED else c for c in langs])
     del texts
     boilerplate = (
         strip.table(pd.Series(bp_groups).value_counts().to_dict())
@@ -472,6 +538,14 @@ def _build(corpus, s: dict, progress: bool) -> dict:
     ids = frame["id"].astype(str).to_numpy()
     rep, cross, copies = _near_duplicates(docs, frame, s, partial(bar, desc="near-duplicates"))
     merged = rep != np.arange(n)
+    undetected = np.array([c == UNDETECTED for c in langs], dtype=bool) & ~merged
+    report.add_counts(
+        STAGE,
+        REASON_UNDETECTED if drop_undetected else REASON_FALLBACK,
+        pd.Series(sources[undetected]).value_counts(sort=False),
+        _examples(ids, sources, undetected),
+        kind="removed" if drop_undetected else "flagged",
+    )
     report.add_counts(
         STAGE,
         REASON_MERGED,
@@ -485,25 +559,18 @@ def _build(corpus, s: dict, progress: bool) -> dict:
     dup_ids = [list(v) if isinstance(v, list | tuple | np.ndarray) else [] for v in intake_ids]
     for i in np.flatnonzero(merged).tolist():
         dup_ids[rep[i]].extend([ids[i], *dup_ids[i]])
-    keep = np.flatnonzero(~merged)
+    keep = np.flatnonzero(~merged & ~(undetected & drop_undetected))
 
-    stop = _stop_set(s)
     from gensim.models.phrases import ENGLISH_CONNECTOR_WORDS, Phrases
 
-    connectors = frozenset(ENGLISH_CONNECTOR_WORDS & stop)
-    stem = None
-    if s["stem"] == "snowball":
-        import snowballstemmer
-
-        stem = snowballstemmer.stemmer("english").stemWord
-    forms, kinds = classify(
-        index.strings,
-        stop_words=stop,
+    connectors = frozenset(ENGLISH_CONNECTOR_WORDS & _stop_set(s, "en"))
+    forms, kinds = index.classify(
+        partial(_stop_set, s),
+        stem=s["stem"],
         connectors=connectors,
         drop_numbers=s["drop_numbers"],
         min_length=s["min_token_length"],
         max_length=s["max_token_length"],
-        stem=stem,
     )
     docs = [docs[i] for i in keep.tolist()]
     models, phrases = [], {}
@@ -563,6 +630,10 @@ def _build(corpus, s: dict, progress: bool) -> dict:
     strings = strings[present]
 
     meta = _meta(frame, keep, clean, weights, dup_ids, cross, copies)
+    if "language" in meta.columns:  # the corpus's own column keeps its values under a new name
+        meta = meta.rename(columns={"language": "corpus_language"})
+    prepared_in = np.array([s["undetected"] if c == UNDETECTED else c for c in langs], dtype=object)
+    meta["language"] = prepared_in[keep]
     report.kept[STAGE] = len(meta)
     dictionary, bow = _dictionary(docs, strings)
     texts = [strings[d].tolist() for d in docs]

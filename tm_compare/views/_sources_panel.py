@@ -6,6 +6,7 @@ import ipywidgets as w
 import traitlets
 
 from ..results import ModelResults
+from ..text.languages import describe_mix, is_only_english
 from . import charts
 from ._cards import esc
 from ._offline import chart_widget
@@ -68,8 +69,13 @@ class SourcesPanel(w.VBox):
         self.topic_list.observe(self._row_clicked, names="selected")
         for control in (self.weighting, self.cluster, self.contrast):
             control.observe(self._settings_changed, names="value")
+        mix = "" if is_only_english(results.prepared) else describe_mix(results.prepared)
+        self.languages = w.HTML(
+            mix and f"<small>Languages: {esc(mix.replace(chr(10), '; '))}</small>"
+        )
         self.children = [
             w.HBox([self.weighting, self.cluster, self.contrast]),
+            self.languages,
             self.warning,
             self.chart,
             self.note,
