@@ -636,3 +636,39 @@ def test_bad_byte_is_located_across_read_chunks(tmp_path, chunk):
     path = tmp_path / "a.csv"
     path.write_bytes(data)
     assert _first_bad_byte(path, "utf-8", chunk=chunk) == (data.index(b"\xff"), 3, 0xFF)
+
+
+def test_metadata_columns_travel_with_their_types_through_preparation(tmp_path):
+    from tm_compare.demo.quillhaven import CORPUS_COLUMNS, make_frame
+    from tm_compare.project import Project
+    from tm_compare.text.corpus import load_corpus, save_corpus
+    from tm_compare.text.prepared import load_prepared, prepare
+
+    frame = make_frame(240).set_index("id", drop=False)  # an index that is not 0..n-1
+    kinds = pd.CategoricalDtype(["tabloid", "daily", "bulletin"], ordered=True)
+    frame["outlet_type"] = pd.Categorical(
+        np.where(frame["outlet"] == "The Gullcry", "tabloid", "daily"), dtype=kinds
+    )
+    frame["age"] = pd.array([pd.NA if i % 7 == 0 else 20 + i % 50 for i in range(240)], "Int64")
+    frame["seen_at"] = pd.date_range("2024-03-01", periods=240, freq="h", tz="Europe/Berlin")
+    frame["wave"] = 2
+    extra = ["outlet_type", "age", "seen_at", "wave"]
+    corpus = Corpus.from_frame(frame, **CORPUS_COLUMNS)
+    # Kept as given: a category keeps its levels and their order (a formula's reference level),
+    # a nullable integer its missing values, a time stamp its zone (pandas dtypes compared).
+    assert corpus.frame[extra].dtypes.tolist() == frame[extra].dtypes.tolist()
+    project = Project.create(tmp_path / "p")
+    save_corpus(corpus, project)
+    assert load_corpus(project).frame[extra].dtypes.tolist() == frame[extra].dtypes.tolist()
+    prepared = prepare(corpus, project=project, progress=False)
+    for meta in (prepared.meta, load_prepared(project).meta):
+        assert meta[extra].dtypes.tolist() == frame[extra].dtypes.tolist()
+        given = frame.loc[meta["id"]]
+        # Every document keeps its own values (ids matched; merged copies fill only gaps).
+        same = [g == m for g, m in zip(given["outlet_type"], meta["outlet_type"], strict=True)]
+        assert all(same) and (given["wave"].to_numpy() == meta["wave"].to_numpy()).all()
+        assert (given["seen_at"].to_numpy() == meta["seen_at"].to_numpy()).all()
+    # Read from a CSV, as `tm-compare prepare` does: every column beyond the roles travels.
+    frame.drop(columns=["seen_at"]).to_csv(tmp_path / "c.csv", index=False)
+    read = prepare(Corpus.read(tmp_path / "c.csv", **CORPUS_COLUMNS), progress=False)
+    assert {"outlet", "outlet_type", "age", "wave"} <= set(read.meta.columns)

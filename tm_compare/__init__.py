@@ -62,6 +62,8 @@ _EXPORTS = {
     "differences": "compare.prevalence",
     "influence": "compare.prevalence",
     "cap_effect": "compare.prevalence",
+    "prevalence_over_time": "compare.over_time",
+    "differences_over_time": "compare.over_time",
     "term_rankings": "compare.terms",
     "source_wording": "compare.terms",
     "representative_documents": "compare.documents",

@@ -85,6 +85,19 @@ _TABLE = (
         None,
         "cap every cluster's share of its source's weight (0-1), or none",
     ),
+    Option(
+        "freq",
+        None,
+        None,
+        "length of a period over time: 'D', 'W', 'M', 'Q' or 'Y' (pandas period aliases); "
+        "none: the finest giving at most 26 periods over the date span",
+    ),
+    Option(
+        "min_period_docs",
+        10,
+        None,
+        "a source's period with fewer documents is marked sparse: no line or difference",
+    ),
     Option("random_state", 0, None, "seed of every random draw (bootstrap, fits)"),
     # -- terms and documents
     Option(

@@ -23,7 +23,7 @@ import numpy as np
 import pandas as pd
 
 from ._validation import check_limit, param_error
-from .compare import documents, terms
+from .compare import documents, over_time, terms
 from .compare import prevalence as comparison
 from .errors import ComparisonError, SettingsError
 from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
@@ -46,6 +46,8 @@ SETTINGS = (
     "lam",
     "n_terms",
     "n_docs",
+    "freq",
+    "min_period_docs",
 )
 _BOOT = ("weighting", "cluster", "n_boot", "ci", "interval", "resampling", "random_state")
 #: The settings that shape each table: they key its cache and are written beside it as columns
@@ -58,6 +60,8 @@ SHAPED_BY = {
     "terms": ("n_terms",),
     "wording": ("weighting", "n_terms"),
     "documents": ("n_docs",),
+    "over_time": (*_BOOT, "freq", "min_period_docs"),
+    "over_time_differences": (*_BOOT, "freq", "min_period_docs", "against", "fdr"),
 }
 _COLUMN_OF = {"ci": "ci_level"}  # the column name prevalence() gives a setting
 #: The setting that weighs each term ranking that takes a weight.
@@ -81,7 +85,8 @@ class ModelResults:
         Any of :data:`SETTINGS`: ``weighting``, ``cluster`` (``"group"``, a column of
         ``prepared.meta`` such as ``"outlet"``, or None for documents), ``n_boot``, ``ci``,
         ``interval``, ``resampling``, ``fdr``, ``against``, ``random_state`` (an integer),
-        ``frex_weight``, ``lam``, ``n_terms``, ``n_docs``. Defaults: :mod:`tm_compare.options`.
+        ``frex_weight``, ``lam``, ``n_terms``, ``n_docs``, ``freq``, ``min_period_docs``.
+        Defaults: :mod:`tm_compare.options`.
         ``cluster="group"`` on a corpus without groups resamples documents instead
         (``settings["cluster"]`` is then None) and says so with a UserWarning.
 
@@ -209,6 +214,109 @@ class ModelResults:
                 self.fit, self.prepared, against=s["against"], fdr=s["fdr"], **self._boot()
             ),
         )
+
+    # --- change over time ---------------------------------------------------------------------
+
+    def _over_time_pair(self):
+        s = self.settings
+        key = ("over_time tables", *(s[n] for n in SHAPED_BY["over_time_differences"]))
+        return self._cached(
+            key,
+            lambda: over_time.over_time_tables(
+                self.fit,
+                self.prepared,
+                freq=s["freq"],
+                min_period_docs=s["min_period_docs"],
+                against=s["against"],
+                fdr=s["fdr"],
+                **self._boot(),
+            ),
+        )
+
+    def over_time(self) -> pd.DataFrame:
+        """Prevalence of every topic per source and period, with bootstrap intervals
+        (:func:`tm_compare.compare.over_time.prevalence_over_time`; settings ``freq`` and
+        ``min_period_docs``)."""
+        return self._table("over_time", lambda: self._over_time_pair()[0])
+
+    def over_time_differences(self) -> pd.DataFrame:
+        """Differences between sources in each period, BH-adjusted across topics x periods
+        (:func:`tm_compare.compare.over_time.differences_over_time`)."""
+        if len(self.sources) < 2:
+            msg = f"over_time_differences needs two sources; the corpus has {self.sources}."
+            raise ComparisonError(msg)
+        return self._table("over_time_differences", lambda: self._over_time_pair()[1])
+
+    def over_time_frame(self) -> pd.DataFrame:
+        """The frame of :func:`tm_compare.views.charts.time_chart`: every topic over time."""
+        table = self.over_time()
+        return pd.DataFrame(
+            {
+                "topic": table["topic"].to_numpy(),
+                "name": table["topic"].map(self.captions).to_numpy(),
+                "source": table["source"].to_numpy(),
+                "period": table["period"].to_numpy(),
+                "period_start": table["period_start"].to_numpy(),
+                "estimate": table["prevalence"].to_numpy(),
+                "lower": table["ci_low"].to_numpy(),
+                "upper": table["ci_high"].to_numpy(),
+                "n_documents": table["n_documents"].to_numpy(),
+                "few": table["few_documents"].to_numpy(bool),
+            }
+        )
+
+    def date_span(self) -> tuple[pd.Timestamp, pd.Timestamp]:
+        """The first and last document date (ComparisonError when the corpus has none)."""
+        dates = over_time.document_dates(self.prepared, "ModelResults.date_span")
+        return dates.min().normalize(), dates.max().normalize()
+
+    def within(self, start=None, end=None) -> ModelResults:
+        """The same model and settings on the documents dated from ``start`` to ``end``
+        (inclusive days; None: open). Every table of the result covers those documents only;
+        documents without a date are left out. Computed once per window.
+        """
+        if start is None and end is None:
+            return self
+        owner = "ModelResults.within"
+        dates = over_time.document_dates(self.prepared, owner)
+        first, last = self.date_span()
+        try:
+            lo = first if start is None else pd.Timestamp(start).normalize()
+            hi = last if end is None else pd.Timestamp(end).normalize()
+        except (TypeError, ValueError):
+            raise param_error(owner, "start/end", (start, end), "dates, e.g. '2024-04-01'") from None
+        inside = ((dates >= lo) & (dates < hi + pd.Timedelta(days=1))).to_numpy()
+        rows = np.flatnonzero(inside)
+        if not len(rows):
+            msg = (
+                f"No document is dated from {lo:%Y-%m-%d} to {hi:%Y-%m-%d} ({owner}); the "
+                f"documents run from {first:%Y-%m-%d} to {last:%Y-%m-%d}. Widen the range."
+            )
+            raise ComparisonError(msg)
+        window = self._cached(("window", lo, hi), lambda: self._window(rows))
+        return window.with_settings(**self.settings)
+
+    def _window(self, rows: np.ndarray) -> ModelResults:
+        from .models.fits import Fit
+        from .text.prepared import PreparedCorpus
+
+        texts = self.prepared.texts
+        meta = self.prepared.meta.iloc[rows].reset_index(drop=True)
+        prepared = PreparedCorpus.from_texts(
+            [texts[i] for i in rows.tolist()], meta, vocab=list(self.fit.vocab)
+        )
+        dirichlet = self.fit.doc_dirichlet
+        fit = Fit.from_arrays(
+            prepared,
+            self.fit.topic_term,
+            np.asarray(self.fit.doc_topic)[rows],
+            doc_dirichlet=None if dirichlet is None else np.asarray(dirichlet)[rows],
+            random_state=self.fit.random_state,
+            engine=self.fit.engine,
+        )
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # the fallback to documents was said once already
+            return ModelResults(fit, prepared, corpus=self.corpus, **self.settings)
 
     def pairs(self) -> list[tuple[str, str]]:
         """The comparisons of :meth:`differences`, as (source, other), in its order."""

@@ -34,6 +34,8 @@ SETTINGS = (
     "random_state",
     "n_terms",
     "n_docs",
+    "freq",
+    "min_period_docs",
 )
 NO_CLUSTER = "document"  # --cluster document: the API's cluster=None
 #: Columns of a prevalence model's effects printed by ``compare --model``.
@@ -46,6 +48,8 @@ def add_settings(parser) -> None:
         if name == "cluster":
             choices = [c for c in OPTIONS[name].choices if c is not None] + [NO_CLUSTER]
             add_option(parser, name, choices=choices)
+        elif name == "freq":
+            add_option(parser, name, metavar="D|W|M|Q|Y")
         else:
             add_option(parser, name, renamed=("--weight",) if name == "weighting" else ())
 
@@ -97,6 +101,12 @@ def register(subparsers) -> None:
     parser.add_argument("--seed", type=int, default=0, help="seed of the model [0]")
     add_settings(parser)
     parser.add_argument(
+        "--over-time",
+        action="store_true",
+        help="also write prevalence per source and period, and differences per period "
+        "(over_time-*.csv, over_time_differences-*.csv); needs document dates",
+    )
+    parser.add_argument(
         "--model",
         metavar="FORMULA",
         action="append",
@@ -147,6 +157,21 @@ def summary(table: pd.DataFrame, fit, n_topics: int = default("n_topics")) -> pd
     ].round(3)
 
 
+def over_time_summary(made: dict) -> str:
+    """One line on the tables over time, for the terminal."""
+    prev = made["over_time"]
+    cells = prev.drop_duplicates(["source", "period"])
+    line = (
+        f"Over time: {cells['period'].nunique()} periods (freq {prev['freq'].iloc[0]}); "
+        f"{int(cells['few_documents'].sum())} source-periods with fewer than "
+        f"{int(prev['min_period_docs'].iloc[0])} documents (not tested)"
+    )
+    diff = made.get("over_time_differences")
+    if diff is not None:
+        line += f"; {int(diff['significant'].sum())} of {len(diff)} topic-period differences stand"
+    return line + "."
+
+
 def deprecated_flags(args) -> None:
     """Apply ``--by-group`` (the old opt-in to groups), with a FutureWarning naming the new flag."""
     if args.by_group:
@@ -166,6 +191,10 @@ def run(args) -> int:
         # Prevalence models first: a bad formula stops before any table is written.
         models = [results.prevalence_model(f, n_draws=args.n_draws) for f in args.model]
         made = {n: t for n, t in results.tables().items() if n in WRITTEN}
+        if args.over_time:
+            made["over_time"] = results.over_time()
+            if len(results.sources) > 1:
+                made["over_time_differences"] = results.over_time_differences()
     s = results.settings
     suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
     folder = Path(project.folder("comparison")) / f"k{args.k}_seed{args.seed}"
@@ -185,6 +214,8 @@ def run(args) -> int:
         print("One source only: no differences to show.")
     else:
         print(summary(made["differences"], fit).to_string(index=False))
+    if args.over_time:
+        print(over_time_summary(made))
     for number, model in enumerate(models, start=1):
         for name, table in model.tables().items():
             with atomic_path(folder / f"{name}-{number}-{suffix}.csv") as tmp:

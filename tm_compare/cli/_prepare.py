@@ -28,6 +28,11 @@ def register(subparsers) -> None:
     parser.add_argument("--project", required=True, metavar="DIR", help="project folder")
     parser.add_argument("--text", required=True, metavar="COL", help="column of article texts")
     parser.add_argument("--source", required=True, metavar="COL", help="column naming the source")
+    parser.add_argument(
+        "--date-format",
+        metavar="FORMAT",
+        help="how the dates are written, e.g. %%d/%%m/%%Y [ISO 8601, else read value by value]",
+    )
     for role, what in (
         ("id", "document ids"),
         ("weight", "exposure counts"),
@@ -136,7 +141,7 @@ def run(args) -> int:
     from ..text.corpus import Corpus, save_corpus
     from ..text.prepared import prepare
 
-    columns = {"text": args.text, "source": args.source}
+    columns = {"text": args.text, "source": args.source, "date_format": args.date_format}
     columns.update(
         {
             r: getattr(args, r)

@@ -17,6 +17,10 @@ Planted facts that later stages should find (all listed in :class:`DemoTruth`):
 4. One reader visits one outlet thousands of times.
 5. A few articles appear again in the same source under URL variants
    (tracking parameters, ``www.``, fragments), so intake has rows to merge.
+6. ``arts festival`` rises among shared articles from March to June: a shared
+   article of another theme (not housing or storms) turns into a festival
+   article with a chance growing linearly from 0 on the first day to
+   ``TREND[2]`` on the last (:meth:`DemoTruth.trend` gives the expected share).
 
 Everything is drawn from ``numpy.random.Generator`` streams seeded by
 ``random_state``: the same arguments give the same data on every run.
@@ -73,6 +77,8 @@ START = np.datetime64("2024-03-01")
 DAYS = 122  # March to June
 STORM = (14, 21)  # the mid-March gale: most storm articles fall in this week
 STORM_SHARE = 0.6
+TREND = ("arts festival", "shared", 0.3)  # theme, source where it rises, last day's switch chance
+_TREND_FIXED = ("housing", "storms and weather")  # themes the trend leaves alone
 SENTENCES = (7, 17)  # sentences per article, low inclusive, high exclusive
 # Roles of the frame's columns for ``Corpus.from_frame`` (``outlet`` stays as metadata).
 CORPUS_COLUMNS = {
@@ -115,6 +121,8 @@ class DemoTruth:
         The planted themes, and a few words that mark each one (in each language of the demo).
     language : str
         The demo's language (see ``DEMO_LANGUAGES``); ``docs["language"]`` gives each row's.
+    trend_theme, trend_source, trend_max
+        The theme that rises over the weeks in one source: see :meth:`trend`.
     """
 
     n_docs: int
@@ -129,6 +137,9 @@ class DemoTruth:
     source_heavy_theme: str = SOURCE_HEAVY[0]
     source_heavy_source: str = SOURCE_HEAVY[1]
     source_heavy_ratio: float = SOURCE_HEAVY[2]
+    trend_theme: str = TREND[0]
+    trend_source: str = TREND[1]
+    trend_max: float = TREND[2]
     themes: tuple = THEME_NAMES
     language: str = "en"
     theme_words: dict = field(default=None)
@@ -162,7 +173,38 @@ class DemoTruth:
                 f"- {self.heavy_reader} visited {self.heavy_outlet} {self.heavy_visits:,} times",
                 f"- {n_variants} rows repeat {len(self.url_variants)} articles under other URLs "
                 "(tracking parameters, www., fragments)",
+                f"- {self.trend_theme!r} rises among {self.trend_source} articles from March to "
+                f"June (expected share by dominant theme: {self.trend()['expected_share'].iloc[0]:.0%} "
+                f"in the first week, {self.trend()['expected_share'].iloc[-1]:.0%} in the last)",
             ]
+        )
+
+    def trend(self, freq: str = "W") -> pd.DataFrame:
+        """The planted rise: per period (pandas alias ``freq``), the expected share of the
+        trend source's articles whose dominant theme is the trend theme.
+
+        Exact for the generator's draws (themes, then days, the storm week's pile-up, then the
+        switch); rows planted later (a syndicated story, URL variants) are not counted.
+        """
+        days = np.arange(DAYS)
+        theme, source = THEME_NAMES.index(self.trend_theme), SOURCES.index(self.trend_source)
+        probs = _theme_probs()[source]
+        storm = THEME_NAMES.index("storms and weather")
+        movable = 1 - probs[theme] - sum(probs[THEME_NAMES.index(t)] for t in _TREND_FIXED)
+        # P(day | storm article): uniform, plus STORM_SHARE piled on the storm week.
+        in_storm = (days >= STORM[0]) & (days < STORM[1])
+        storm_days = (1 - STORM_SHARE) / DAYS + STORM_SHARE * in_storm / (STORM[1] - STORM[0])
+        on_day = (1 - probs[storm]) / DAYS + probs[storm] * storm_days  # P(day)
+        rising = (probs[theme] + movable * _switch_chance(days)) / DAYS  # P(trend theme, day)
+        period = pd.DatetimeIndex(START + days.astype("timedelta64[D]")).to_period(freq)
+        table = pd.DataFrame({"period": period, "joint": rising, "day": on_day})
+        table = table.groupby("period", sort=True)[["joint", "day"]].sum()
+        return pd.DataFrame(
+            {
+                "period": table.index.astype(str),
+                "period_start": table.index.start_time,
+                "expected_share": (table["joint"] / table["day"]).to_numpy(),
+            }
         )
 
     def to_dict(self) -> dict:
@@ -200,6 +242,27 @@ def _draw(rng: np.random.Generator, probs: np.ndarray) -> np.ndarray:
     cum = np.cumsum(probs, axis=1)
     u = rng.random(len(probs)) * cum[:, -1]
     return np.minimum((u[:, None] >= cum).sum(axis=1), probs.shape[1] - 1)
+
+
+def _switch_chance(day: np.ndarray) -> np.ndarray:
+    """Chance that an article of the trend source turns to the trend theme, by day."""
+    return TREND[2] * day / (DAYS - 1)
+
+
+def _plant_trend(rng: np.random.Generator, plan: dict) -> None:
+    """Turn articles of the trend source to the trend theme, more often as the days pass.
+
+    Uses its own random stream, so every other draw of the demo is unchanged.
+    """
+    theme, source = THEME_NAMES.index(TREND[0]), SOURCES.index(TREND[1])
+    fixed = [theme, *(THEME_NAMES.index(t) for t in _TREND_FIXED)]
+    u = rng.random(len(plan["theme"]))
+    turn = (plan["source"] == source) & ~np.isin(plan["theme"], fixed)
+    turn &= u < _switch_chance(plan["day"])
+    # The second theme must differ from the first: the old first theme takes its place.
+    clash = turn & (plan["second"] == theme)
+    plan["second"][clash] = plan["theme"][clash]
+    plan["theme"][turn] = theme
 
 
 def _exposures(rng: np.random.Generator, n: int, p: float) -> np.ndarray:
@@ -243,6 +306,7 @@ def _plan(n_docs: int, seed: int) -> dict:
         "role": np.full(n, "article", dtype=object),
         "n_readers": n_readers,
     }
+    _plant_trend(np.random.default_rng([seed, 1]), plan)
     order = iter(rng.permutation(n).tolist())
     plan["stories"] = _plant_stories(rng, plan, order, max(1, n // 2500))
     plan["heavy"] = _plant_heavy_reader(rng, plan, max(2000, round(1.2 * n)), max(12, n // 100))

@@ -420,6 +420,78 @@ def labels_section(results) -> dict:
     }
 
 
+OVER_TIME_TOPICS = 3  # topics charted over time: those whose prevalence moves most
+
+
+def over_time_section(results) -> dict:
+    """Prevalence per source and period; the topics that move most, charted; or why not."""
+    from ..errors import ComparisonError
+    from ..views.charts import time_chart
+
+    model = results.results
+    try:
+        prev = model.over_time()
+    except ComparisonError as exc:
+        return {"missing": str(exc)}
+    row = prev.iloc[0]
+    kept = prev[~prev["few_documents"]].sort_values("period_start", kind="stable")
+    ends = kept.groupby(["topic", "source"])["prevalence"].agg(["first", "last"])
+    ends["change"] = ends["last"] - ends["first"]
+    ends = ends.reset_index()
+    moving = ends.groupby("topic")["change"].apply(lambda c: c.abs().max())
+    topics = moving.sort_values(ascending=False, kind="stable").index[:OVER_TIME_TOPICS]
+    frame = model.over_time_frame()
+    periods = kept.groupby("topic")["period"]
+    ends = ends.assign(
+        caption=ends["topic"].map(results.captions),
+        first_period=ends["topic"].map(periods.first()),
+        last_period=ends["topic"].map(periods.last()),
+    )
+    out = {
+        "missing": None,
+        "freq": str(row["freq"]),
+        "n_periods": int(prev["period"].nunique()),
+        "min_period_docs": int(row["min_period_docs"]),
+        "n_few": int(prev.drop_duplicates(["source", "period"])["few_documents"].sum()),
+        "charts": [
+            image(
+                time_chart(frame, focus=int(t), min_period_docs=int(row["min_period_docs"])),
+                f"Topic {results.captions[int(t)]} over time, per source",
+            )
+            for t in topics
+        ],
+        "changes": table(
+            ends.loc[ends["topic"].isin(topics)],
+            [
+                ("caption", "topic", None),
+                ("source", "source", None),
+                ("first_period", "first period", None),
+                ("first", "prevalence then", num),
+                ("last_period", "last period", None),
+                ("last", "prevalence at the end", num),
+                ("change", "change", lambda v: num(v, sign=True)),
+            ],
+            key="over-time",
+        ),
+        "stands": None,
+    }
+    if len(results.sources) > 1:
+        diff = model.over_time_differences()
+        tested = diff.groupby(["source", "other"]).agg(
+            tested=("significant", "size"), stands=("significant", "sum")
+        )
+        out["stands"] = table(
+            tested.reset_index(),
+            [
+                (lambda r: f"{r['source']} vs {r['other']}", "comparison", None),
+                ("tested", "topic-periods tested", _int),
+                ("stands", "differences that stand", _int),
+            ],
+            key="over-time-differences",
+        )
+    return out
+
+
 def prevalence_model_section(results) -> list[dict]:
     """One entry per prevalence model computed on ``results.results`` (none: no section)."""
     from ..views.charts import covariate_chart
@@ -490,7 +562,11 @@ def reproduce_section(results) -> dict:
             key="versions",
         ),
         "command": f"tm-compare report {results.project.path} --k {fit.k} --seed {fit.random_state} "
-        + " ".join(f"--{k.replace('_', '-')} {_flag(v)}" for k, v in s.items()),
+        + " ".join(
+            f"--{k.replace('_', '-')} {_flag(v)}"
+            for k, v in s.items()
+            if v is not None or k == "cluster"  # freq=None is the flag left out
+        ),
     }
 
 
@@ -512,6 +588,7 @@ def context(results) -> dict:
         "sweep": sweep_section(results, made),
         "topics": topics_section(results),
         "comparison": comparison_section(results, made),
+        "over_time": over_time_section(results),
         "prevalence_models": prevalence_model_section(results),
         "documents": documents_section(results),
         "labels": labels_section(results),

@@ -346,8 +346,20 @@ def as_weights(values: pd.Series, column: str, labels: pd.Series, origin: str) -
     return numbers.to_numpy(float)
 
 
+def _day_first(text: pd.Series) -> bool:
+    """Whether numeric dates such as ``03/04/2024`` put the day first: some value's first
+    number is above 12 and no value's second is (read value by value, ``03/04/2024`` would
+    otherwise be March 4th beside ``25/03/2024`` as March 25th)."""
+    parts = text.str.extract(r"^\s*(\d{1,2})[/.\-](\d{1,2})[/.\-]\d{2,4}\b").dropna().astype(int)
+    return bool(len(parts)) and (parts[0] > 12).any() and not (parts[1] > 12).any()
+
+
 def as_dates(values: pd.Series, date_format: str | None) -> tuple[pd.Series, np.ndarray]:
-    """Dates as naive UTC datetimes, and a mask of values that could not be read."""
+    """Dates as naive UTC datetimes, and a mask of values that could not be read.
+
+    ISO 8601 first; other values are read one by one, numeric day/month dates day first when
+    the column shows it (:func:`_day_first`), month first otherwise (pandas' rule).
+    """
     if pd.api.types.is_datetime64_any_dtype(values.dtype):
         parsed = (
             values if values.dt.tz is None else values.dt.tz_convert("UTC").dt.tz_localize(None)
@@ -358,7 +370,9 @@ def as_dates(values: pd.Series, date_format: str | None) -> tuple[pd.Series, np.
     parsed = pd.to_datetime(text, errors="coerce", utc=True, format=fmt)
     retry = parsed.isna() & text.notna()
     if date_format is None and retry.any():  # slower per-value parsing only where needed
-        parsed[retry] = pd.to_datetime(text[retry], errors="coerce", utc=True, format="mixed")
+        parsed[retry] = pd.to_datetime(
+            text[retry], errors="coerce", utc=True, format="mixed", dayfirst=_day_first(text[retry])
+        )
     unread = (parsed.isna() & text.notna()).to_numpy(bool)
     return parsed.dt.tz_localize(None), unread
 
@@ -545,6 +559,8 @@ def frame_fingerprint(frame: pd.DataFrame) -> str:
         if column == "duplicate_ids":
             values = pd.Series(["\x1f".join(map(str, v)) for v in values], dtype="str")
         if pd.api.types.is_datetime64_any_dtype(values.dtype):
+            if getattr(values.dt, "tz", None) is not None:  # a metadata column with a time zone
+                values = values.dt.tz_convert("UTC").dt.tz_localize(None)
             parts.append(values.astype("datetime64[us]").to_numpy().view("int64"))
         elif pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(
             values.dtype

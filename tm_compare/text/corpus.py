@@ -282,8 +282,8 @@ def _typed_frame(df, columns, ignored, origin, date_format, tracking, log) -> pd
     out = out[CANONICAL]
     used = set(columns.values()) | set(CANONICAL) | ignored
     for extra in df.columns:
-        if extra not in used:
-            out[extra] = df[extra].to_numpy()
+        if extra not in used:  # kept as given, dtype too (a category's order, nullable ints)
+            out[extra] = df[extra].reset_index(drop=True)
     return out
 
 

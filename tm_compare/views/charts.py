@@ -7,6 +7,8 @@ term), never one row per document. Clicks reach Python through named selections:
   parameter ``picked`` (``"k:seed"``);
 - ``topic_pick`` (field ``topic``) on :func:`source_chart` and :func:`terms_chart`.
 
+:func:`time_chart` also holds every topic and shows the one in ``focus``.
+
 The topic on show is a variable parameter named ``focus``: a widget changes it without rebuilding
 the chart (``chart_widget.params.focus = 3``).
 """
@@ -303,6 +305,98 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Cha
             width=240,
             height=alt.Step(15),
             title=alt.Title("How each source words it", anchor="start"),
+        )
+    )
+
+
+def time_chart(
+    frame: pd.DataFrame,
+    *,
+    focus: int | None = None,
+    min_period_docs: int | None = None,
+    window: tuple | None = None,
+    note: str = "",
+    width: int = 560,
+    height: int = 200,
+) -> alt.LayerChart:
+    """One topic over time: a line and a band per source; thin periods as hollow faint rings.
+
+    Parameters
+    ----------
+    frame : DataFrame
+        One row per topic, source and period: ``topic``, ``source``, ``period_start``,
+        ``period`` (label), ``estimate``, ``lower``, ``upper``, ``n_documents``, ``few`` (bool:
+        too few documents to trust). Lines and bands run through the periods that are not
+        ``few`` only, broken where one is; those that are get a hollow ring and no band.
+    focus : int, optional
+        The topic shown (a variable parameter, so a widget switches topics in place).
+    min_period_docs : int, optional
+        Stated in the subtitle with ``note``.
+    window : (start, end), optional
+        Dates the other panels are narrowed to, shaded.
+    """
+    data = frame.copy()
+    data["start"] = pd.to_datetime(data["period_start"]).dt.strftime("%Y-%m-%d")
+    data = data.sort_values(["topic", "source", "start"], kind="stable")
+    # A new run of trusted periods starts after each thin one: lines and bands break there.
+    data["run"] = data.groupby(["topic", "source"])["few"].cumsum()
+    sources = sorted(data["source"].unique().tolist())
+    # One legend for every layer: drawn as solid strokes, whatever the layer's opacity.
+    key = alt.Legend(
+        orient="top", title=None, symbolType="stroke", symbolOpacity=1, symbolStrokeWidth=3
+    )
+    colour = quiet = alt.Color("source:N", scale=_source_scale(sources), legend=key)
+    x = alt.X(
+        "start:T",
+        title=None,
+        axis=alt.Axis(format="%d %b", labelAngle=0, labelOverlap="greedy", labelSeparation=8),
+    )
+    y = alt.Y("estimate:Q", title="share of the source", axis=alt.Axis(format=".0%"))
+    tip = [
+        alt.Tooltip("source:N"),
+        alt.Tooltip("period:N"),
+        alt.Tooltip("estimate:Q", format=".3f"),
+        alt.Tooltip("lower:Q", format=".3f"),
+        alt.Tooltip("upper:Q", format=".3f"),
+        alt.Tooltip("n_documents:Q", title="documents"),
+    ]
+    base = alt.Chart(data).transform_filter(f"datum.topic == {FOCUS}")
+    trusted = base.transform_filter("!datum.few")
+    detail = alt.Detail("run:N")
+    layers = [
+        trusted.mark_area(opacity=0.16).encode(
+            x=x, y="lower:Q", y2="upper:Q", color=quiet, detail=detail
+        ),
+        # The interval of each period too, so a lone trusted period still shows its band.
+        trusted.mark_rule(opacity=0.5).encode(x=x, y="lower:Q", y2="upper:Q", color=quiet),
+        trusted.mark_line(strokeWidth=2).encode(x=x, y=y, color=colour, detail=detail),
+        trusted.mark_point(filled=True, size=36).encode(x=x, y=y, color=quiet, tooltip=tip),
+        base.transform_filter("datum.few && isValid(datum.estimate)")
+        .mark_point(filled=False, size=60, strokeWidth=1.5, opacity=0.45)
+        .encode(x=x, y=y, color=quiet, tooltip=tip),
+    ]
+    if window is not None:
+        span = pd.DataFrame(
+            {"from": [pd.Timestamp(window[0]).strftime("%Y-%m-%d")],
+             "to": [pd.Timestamp(window[1]).strftime("%Y-%m-%d")]}
+        )  # fmt: skip
+        shade = alt.Chart(span).mark_rect(color=FAINT, opacity=0.3).encode(x="from:T", x2="to:T")
+        layers.insert(0, shade)
+    thin = (
+        f"Hollow faint rings: fewer than {min_period_docs} documents in the period, "
+        "shown apart from the line. "
+        if min_period_docs
+        else ""
+    )
+    return (
+        alt.layer(*layers)
+        .add_params(_focus_param(focus))
+        .properties(
+            width=width,
+            height=height,
+            title=alt.Title(
+                "The topic over time", subtitle=_wrap(thin + note, 110), anchor="start", fontSize=13
+            ),
         )
     )
 

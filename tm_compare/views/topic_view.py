@@ -14,6 +14,7 @@ from ._cards import esc
 from ._labels_panel import LabelsPanel
 from ._reading_panel import DocumentsPanel, TermsPanel
 from ._sources_panel import SourcesPanel
+from ._time_panel import TimePanel
 
 
 def _section(title: str, hint: str) -> w.HTML:
@@ -73,6 +74,7 @@ class TopicView(w.VBox):
         self.sources_panel = SourcesPanel(self.results, self._pick)
         self.terms_panel = TermsPanel(self.sources_panel.results, self._pick, method=method)
         self.documents_panel = DocumentsPanel(self.results)
+        self.time_panel = TimePanel(self.results, self._narrow)
         self.labels_panel = (
             None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
         )
@@ -88,6 +90,12 @@ class TopicView(w.VBox):
             _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
             self.sources_panel,
             self.reading_title,
+            _section(
+                "Over time",
+                "The topic's share of each source, period by period. Pick dates to narrow "
+                "every panel to the articles of those dates.",
+            ),
+            self.time_panel,
             _section(
                 "Terms",
                 "The topic's top terms, and the terms each source uses more when it writes on this topic.",
@@ -127,6 +135,7 @@ class TopicView(w.VBox):
             f"Reading topic <b>{esc(self.results.captions[topic])}</b>{self._badge(topic)}</div>"
         )
         panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
+        panels.append(self.time_panel)
         for panel in panels:
             if panel is not None:
                 panel.show_topic(topic)
@@ -142,7 +151,17 @@ class TopicView(w.VBox):
     def _pick(self, topic: int) -> None:
         self.topic = int(topic)
 
+    def _narrow(self, results) -> None:
+        """Every panel reads ``results``: the same model on the dates picked over time."""
+        self.results = results
+        self.documents_panel.results = results
+        panel = self.sources_panel
+        panel._base = results
+        panel._settings_changed({"owner": panel.weighting, "new": panel.weighting.value})
+        self._update_panels(self.topic)
+
     def _settings_changed(self, change):
+        self.time_panel.follow(self.sources_panel.results)
         # The wording follows the weighting and the pair of sources compared.
         if self.sources_panel.pair is None:
             return
