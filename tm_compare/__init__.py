@@ -57,6 +57,7 @@ _EXPORTS = {
     "cap_effect": "compare.prevalence",
     "term_rankings": "compare.terms",
     "source_wording": "compare.terms",
+    "find_topics": "compare.terms",
     "representative_documents": "compare.documents",
     "document_topics": "compare.documents",
     "LabelStore": "labels.store",
