@@ -184,7 +184,8 @@ def find_topics(
 
     Returns
     -------
-    DataFrame, one row per topic where the word ranks high (empty when it ranks high nowhere):
+    DataFrame, one row per topic where the word ranks high (empty when it ranks high nowhere),
+    best rank first, then the topic the word is more of:
     ``topic``, ``term``, ``rank`` (1 = first under ``method``), ``score``, ``probability``
     (``p(w | k)``), ``share_of_term`` (``p(k | w)``), ``method``, ``n_terms``.
     """
@@ -217,7 +218,9 @@ def find_topics(
         lam=lam,
         frex_weight=frex_weight,
     )
-    found = table[table["term_id"].isin(hits)].sort_values(["rank", "topic"], kind="stable")
+    found = table[table["term_id"].isin(hits)].sort_values(
+        ["rank", "probability", "topic"], ascending=[True, False, True], kind="stable"
+    )
     columns = ["topic", "term", "rank", "score", "probability", "share_of_term", "method"]
     return found[columns].reset_index(drop=True).assign(n_terms=int(n_terms))
 

@@ -15,6 +15,7 @@ import math
 import pandas as pd
 
 from .. import _html
+from ..options import VERDICT_WORDS, verdict_word
 from .exports import chart_svg, charts
 
 WORDS = 8  # top terms shown per topic
@@ -234,6 +235,8 @@ def comparison_section(results, made: dict) -> dict | None:
         "ci": f"{first['ci_level']:.0%}",
         "interval": first["interval"],
         "fdr": first["fdr"],
+        "holds": VERDICT_WORDS[True],
+        "chance": VERDICT_WORDS[False],
         "chart": image(made["sources"], "Prevalence of each topic per source, and the difference")
         if "sources" in made
         else None,
@@ -248,7 +251,7 @@ def comparison_section(results, made: dict) -> dict | None:
                 (lambda r: interval(r["diff_ci_low"], r["diff_ci_high"]), "interval", None),
                 ("ratio", "ratio", lambda v: num(v, 2)),
                 ("p_adjusted", "adjusted p", pval),
-                ("significant", "stands", None),
+                ("significant", "verdict", verdict_word),
             ],
             key="differences",
         ),

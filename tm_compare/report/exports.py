@@ -26,7 +26,7 @@ from .._atomic import atomic_path, atomic_write_bytes, atomic_write_text
 from .._deprecation import warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ProjectError
-from ..options import default
+from ..options import METHOD_NAMES, default
 from ..results import CANDIDATES, ModelResults
 
 TABLE_FORMATS = ("csv", "parquet")
@@ -193,10 +193,13 @@ def charts(results: Results, measure: str = default("measure")) -> dict:
     if "differences" in results.tables:
         prev, diff = results.chart_frames()
         out["sources"] = ch.source_chart(prev, diff, contrast=_contrast(results))
-    terms = results.tables["terms"].query("method == 'frex'")
+    terms = results.tables["terms"]
     for topic in range(results.fit.k):
-        out[f"terms-topic{topic}"] = ch.terms_chart(
-            terms[["topic", "term", "score", "rank"]], focus=topic, title="FREX score"
+        out[f"terms-topic{topic}"] = ch.term_map(
+            terms[terms["method"] == "frex"],
+            focus=topic,
+            ranking=METHOD_NAMES["frex"],
+            context=terms[terms["method"] == "probability"],
         )
     return out
 

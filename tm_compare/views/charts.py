@@ -295,6 +295,8 @@ def source_chart(
                 size=60,
                 shape="diamond",
                 color=INK,
+                stroke=INK,
+                opacity=1,
                 strokeWidth=1.5,
                 cursor="pointer",
             )
