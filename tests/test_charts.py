@@ -109,7 +109,9 @@ def test_source_chart_orders_topics_by_difference_and_shares_one_click(compariso
 
 def _term_frames():
     rows = [
-        (t, f"t{t}w{i}", i + 1, 0.1 / (i + 1), 0.9 / (1 + 0.3 * i)) for t in range(3) for i in range(12)
+        (t, f"t{t}w{i}", i + 1, 0.1 / (i + 1), 0.9 / (1 + 0.3 * i))
+        for t in range(3)
+        for i in range(12)
     ]
     frame = pd.DataFrame(rows, columns=["topic", "term", "rank", "probability", "share_of_term"])
     return frame[frame["rank"] <= 8], frame

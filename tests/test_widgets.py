@@ -197,7 +197,11 @@ def test_term_map_places_terms_by_both_conditional_probabilities(view, planted):
     pi = fit.doc_topic.mean(axis=0)
     phi = fit.topic_term
     for r in rows:
-        w_id = fit.vocab.index(r["term"]) if isinstance(fit.vocab, list) else list(fit.vocab).index(r["term"])
+        w_id = (
+            fit.vocab.index(r["term"])
+            if isinstance(fit.vocab, list)
+            else list(fit.vocab).index(r["term"])
+        )
         assert r["probability"] == pytest.approx(phi[2, w_id])
         assert r["share_of_term"] == pytest.approx(pi[2] * phi[2, w_id] / (pi @ phi[:, w_id]))
     # the planted topic 2 owns w20..w29: its ranked terms are those, most probable first

@@ -6,6 +6,7 @@ import ipywidgets as w
 
 from ._cards import document_cards
 
+
 class DocumentsPanel(w.HBox):
     """Representative documents of the selected topic, one column per source."""
 

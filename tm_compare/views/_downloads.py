@@ -79,6 +79,8 @@ class Downloads(w.HBox):
         The table on show.
     chart : callable() -> dict, optional
         The chart on show as a Vega-Lite spec.
+    name : str
+        What is downloaded, as a CSS class ``tmc-downloads-NAME`` (for tests and styling).
     """
 
     def __init__(
@@ -88,6 +90,7 @@ class Downloads(w.HBox):
         *,
         table: Callable[[], pd.DataFrame] | None = None,
         chart: Callable[[], dict] | None = None,
+        name: str = "",
     ):
         self._folder, self._stem, self._table, self._chart = folder, stem, table, chart
         formats = ([TABLE_FORMAT] if table is not None else []) + (
@@ -111,6 +114,8 @@ class Downloads(w.HBox):
             layout=w.Layout(align_items="center", flex_flow="row wrap"),
         )
         self.add_class("tmc-downloads")
+        if name:
+            self.add_class(f"tmc-downloads-{name}")
 
     def _clicked(self, fmt: str) -> None:
         try:
@@ -120,7 +125,7 @@ class Downloads(w.HBox):
 
     def save(self, fmt: str) -> Path:
         """Write the table or chart as ``fmt`` ("csv", "png" or "svg"); show and return its path."""
-        path = Path(self._folder()).expanduser() / f"{self._stem()}.{fmt}"
+        path = Path(self._folder()).expanduser().absolute() / f"{self._stem()}.{fmt}"
         try:
             if fmt == TABLE_FORMAT:
                 write_table(self._table(), path)

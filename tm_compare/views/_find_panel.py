@@ -48,7 +48,7 @@ class FindPanel(w.VBox):
             from ._downloads import Downloads
 
             folder, stem = downloads("find", lambda: [f"word-{self.query.value.strip()}"])
-            self.downloads = Downloads(folder, stem, table=lambda: self.found)
+            self.downloads = Downloads(folder, stem, table=lambda: self.found, name="find")
             self.downloads.layout.display = "none"
             children.append(self.downloads)
         super().__init__(children)

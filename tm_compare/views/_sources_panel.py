@@ -86,9 +86,13 @@ class SourcesPanel(w.VBox):
         ]
         if downloads is not None:
             folder, stem = downloads("sources", self._file_parts)
-            self.chart_downloads = Downloads(folder, stem, table=self._chart_table, chart=self._spec)
+            self.chart_downloads = Downloads(
+                folder, stem, table=self._chart_table, chart=self._spec, name="sources"
+            )
             folder, stem = downloads("differences", self._file_parts)
-            self.table_downloads = Downloads(folder, stem, table=self.differences)
+            self.table_downloads = Downloads(
+                folder, stem, table=self.differences, name="differences"
+            )
             children.insert(3, self.chart_downloads)
             children.append(self.table_downloads)
         self.children = children

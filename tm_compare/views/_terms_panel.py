@@ -25,7 +25,7 @@ WEIGHT_HELP = {
     "lam": "weight of p(term | topic) against lift (0 to 1)",
 }
 #: Terms per topic drawn faint behind the ranked ones (the most frequent).
-CONTEXT_TERMS = 30
+CONTEXT_TERMS = 20
 
 
 def wording_frame(wording: pd.DataFrame, pair: tuple[str, str]) -> pd.DataFrame:
@@ -114,11 +114,15 @@ class TermsPanel(w.VBox):
         if downloads is not None:
             folder, stem = downloads("term-map", self._settings_parts)
             self.map_downloads = Downloads(
-                folder, stem, table=self.ranked_terms, chart=self._map_spec
+                folder, stem, table=self.ranked_terms, chart=self._map_spec, name="term-map"
             )
             folder, stem = downloads("wording", self._wording_parts)
             self.wording_downloads = Downloads(
-                folder, stem, table=self._wording_table, chart=self._wording_spec_now
+                folder,
+                stem,
+                table=self._wording_table,
+                chart=self._wording_spec_now,
+                name="wording",
             )
             children.insert(3, self.map_downloads)
             children += [self.wording_chart, self.wording_downloads]
@@ -189,7 +193,16 @@ class TermsPanel(w.VBox):
         table = self._terms()
         table = table[table["topic"] == self._topic]
         return table[
-            ["topic", "rank", "term", "score", "probability", "share_of_term", "method", "parameter"]
+            [
+                "topic",
+                "rank",
+                "term",
+                "score",
+                "probability",
+                "share_of_term",
+                "method",
+                "parameter",
+            ]
         ].reset_index(drop=True)
 
     def _show_list(self) -> None:

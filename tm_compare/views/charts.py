@@ -35,6 +35,9 @@ ACCENT = "#e0a526"
 BAND = "#f6e7c1"  # the pale band behind the topic in focus
 #: Average width of one character of chart text in pixels (11 px sans-serif), to wrap titles.
 CHAR_PX = 6.4
+#: Room around every chart: text drawn with another font than the one it was measured with (an
+#: SVG exported by vl-convert, shown by a browser) may be a few per cent wider.
+PADDING = {"left": 24, "right": 16, "top": 6, "bottom": 6}
 #: Longest topic caption on an axis, in characters; longer ones end in "..." (whole on hover).
 CAPTION_CHARS = 34
 
@@ -43,6 +46,7 @@ def _alt():
     import altair
 
     return altair
+
 
 FIT_PICK = "fit_pick"
 TOPIC_PICK = "topic_pick"
@@ -152,6 +156,7 @@ def sweep_chart(
     return alt.layer(*layers).properties(
         width=width,
         height=height,
+        padding=PADDING,
         title=alt.Title(
             wrap(f"{title} against k (dots: seeds; band: range over seeds)", width),
             subtitle=wrap(rule or "", width),
@@ -213,7 +218,9 @@ def source_chart(
     right_w = max(140, width - label_px - 16 - left_w)
     pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
     short_expr = " : ".join(
-        f"datum.value === {_js(name)} ? {_js(text)}" for name, text in labels.items() if name != text
+        f"datum.value === {_js(name)} ? {_js(text)}"
+        for name, text in labels.items()
+        if name != text
     )
     # Long captions are shortened on the axis only (whole in the tooltip and the data).
     shortened = {"labelExpr": f"{short_expr} : datum.value"} if short_expr else {}
@@ -272,7 +279,9 @@ def source_chart(
         .properties(
             width=left_w,
             height=height,
-            title=alt.Title(wrap("How much each source carries each topic", left_w), anchor="start"),
+            title=alt.Title(
+                wrap("How much each source carries each topic", left_w), anchor="start"
+            ),
         )
     )
     diff = difference.assign(
@@ -327,8 +336,7 @@ def source_chart(
             height=height,
             title=alt.Title(
                 wrap(
-                    f"Difference (filled: {VERDICT_WORDS[True]}; "
-                    f"hollow: {VERDICT_WORDS[False]})",
+                    f"Difference (filled: {VERDICT_WORDS[True]}; hollow: {VERDICT_WORDS[False]})",
                     right_w,
                 ),
                 anchor="start",
@@ -340,6 +348,7 @@ def source_chart(
         warnings.filterwarnings("ignore", message="Automatically deduplicated selection")
         chart = alt.hconcat(left, right, spacing=16)
     return chart.add_params(_focus_param(focus)).properties(
+        padding=PADDING,
         title=alt.Title(
             "Topic prevalence by source",
             subtitle=wrap(note, width),
@@ -427,17 +436,31 @@ def term_map(
         .mark_circle(size=48, color=INK, opacity=0.9, cursor="pointer")
         .encode(x=x, y=y, tooltip=tip)
     )
-    names = (
-        base.transform_filter(f"datum.kind == 'ranked' && datum.rank <= {int(n_labels)}")
-        .mark_text(align="left", dx=5, dy=-5, fontSize=11, color=INK, limit=110)
-        .encode(x=x, y=y, text="label:N")
-    )
+    named = f"datum.kind == 'ranked' && datum.rank <= {int(n_labels)}"
+
+    def names(odd: bool):
+        # Odd ranks are named to the right of their dot, even ranks to the left, so that
+        # neighbouring terms rarely print over each other.
+        return (
+            base.transform_filter(f"{named} && datum.rank % 2 == {int(odd)}")
+            .mark_text(
+                align="left" if odd else "right",
+                dx=6 if odd else -6,
+                dy=-4 if odd else 4,
+                fontSize=11,
+                color=INK,
+                limit=110,
+            )
+            .encode(x=x, y=y, text="label:N")
+        )
+
     return (
-        alt.layer(faint.encode(x=x, y=y), dots, names)
+        alt.layer(faint.encode(x=x, y=y), dots, names(True), names(False))
         .add_params(pick, _focus_param(focus))
         .properties(
             width=width,
             height=height,
+            padding=PADDING,
             title=alt.Title(
                 wrap(f"Terms of the topic, ranked {ranking}", width),
                 subtitle=wrap(
@@ -450,7 +473,7 @@ def term_map(
     )
 
 
-def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int = 240):
+def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int = 300):
     """Terms the topic's documents use more in one source than the other, as diverging bars.
 
     Parameters
@@ -470,7 +493,9 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
         .encode(
             x=alt.X(
                 "score:Q",
-                title=wrap(f"<- more in {sources[1]} | more in {sources[0]} ->", width),
+                title=wrap(
+                    f"\u2190 more in {sources[1]} \u00b7 more in {sources[0]} \u2192", width
+                ),
                 axis=alt.Axis(tickCount=max(2, width // 70)),
             ),
             y=alt.Y("term:N", sort=alt.EncodingSortField("score", order="descending"), title=None),
@@ -484,6 +509,7 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
         .properties(
             width=width,
             height=alt.Step(15),
+            padding=PADDING,
             title=alt.Title(wrap("How each source words it", width), anchor="start"),
         )
     )

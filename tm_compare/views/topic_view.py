@@ -120,7 +120,11 @@ class TopicView(w.VBox):
             self.results, self._pick, topic=first, downloads=self._namer
         )
         self.terms_panel = TermsPanel(
-            self.sources_panel.results, self._pick, method=method, topic=first, downloads=self._namer
+            self.sources_panel.results,
+            self._pick,
+            method=method,
+            topic=first,
+            downloads=self._namer,
         )
         self.find_panel = FindPanel(self.results, self._pick, self._ranking, downloads=self._namer)
         self.documents_panel = DocumentsPanel(self.results)
