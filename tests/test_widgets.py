@@ -426,3 +426,16 @@ def test_ipython_extension_registers_magic_and_summaries(planted):
     assert "k = 4" in summary and "w00 w01 w02" in summary
     with pytest.raises(SettingsError, match="Usage: %tm_compare PROJECT"):
         shell.run_line_magic("tm_compare", "")
+
+
+def test_importing_the_views_leaves_altair_unloaded():
+    # Altair loads when the first chart is drawn (bench/import_views.py times the difference).
+    import subprocess
+    import sys
+
+    code = (
+        "import sys; from tm_compare.views import TopicView, SweepView; "
+        "print('altair' in sys.modules)"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"
