@@ -354,7 +354,7 @@ def source_chart(
             subtitle=wrap(note, width),
             anchor="start",
             fontSize=14,
-        )
+        ),
     )
 
 
