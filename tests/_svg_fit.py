@@ -2,8 +2,9 @@
 
 ``TEXT_OUTSIDE`` takes an ``<svg>`` element and returns every text element whose bounding box
 (``getBoundingClientRect``, as drawn) reaches past the SVG's own box by more than half a pixel,
-and every pair of axis labels of one axis that overlap (ticks run together). An empty list means
-every title, subtitle, label and tick is inside its chart and readable.
+every pair of axis labels of one axis that overlap (ticks run together), and every pair of text
+marks of one layer that overlap (names printed over each other, e.g. on the term map). An empty
+list means every title, subtitle, label, tick and name is inside its chart and readable.
 """
 
 TEXT_OUTSIDE = """
@@ -20,7 +21,7 @@ svg => {
                `${Math.round(r.right - box.left)}] of width ${Math.round(box.width)}`);
     }
   }
-  for (const axis of svg.querySelectorAll('.role-axis-label')) {
+  for (const axis of svg.querySelectorAll('.role-axis-label, .mark-text.role-mark')) {
     const rects = Array.from(axis.querySelectorAll('text'))
       .filter(t => t.textContent.trim() && t.getAttribute('opacity') !== '0')
       .map(t => [t.textContent, t.getBoundingClientRect()]);

@@ -372,10 +372,11 @@ def term_map(
     context: pd.DataFrame | None = None,
     n_labels: int = 10,
     width: int = 360,
-    height: int = 260,
+    height: int = 280,
 ):
-    """Where the topic's leading terms sit: how much of the topic each is (x) against how much of
-    the term's use falls in the topic (y); the ranked terms are named, others are faint dots.
+    """Where the topic's leading terms sit: how much of the term's use falls in the topic
+    (p(topic | term), across) against how much of the topic the term is (p(term | topic), up, log
+    scale); the ranked terms are numbered and named, the topic's other frequent terms are faint.
 
     Holds every topic's terms; the parameter ``focus`` picks the topic drawn (changed in place).
 
@@ -405,22 +406,22 @@ def term_map(
         ]
         layers_data.append(extra.assign(kind="context", rank=0))
     data = pd.concat(layers_data, ignore_index=True)
-    data["label"] = [
-        f"{r} {w}" if k == "ranked" else ""
-        for r, w, k in zip(data["rank"], data["term"], data["kind"], strict=True)
-    ]
+    data = pd.concat(
+        [_place_names(part, width, height, n_labels) for _, part in data.groupby("topic")],
+        ignore_index=True,
+    )
     pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
     x = alt.X(
-        "probability:Q",
-        title="share of the topic (p(term | topic), log scale)",
-        scale=alt.Scale(type="log", nice=False, padding=12),
-        axis=alt.Axis(tickCount=4, format=".1~%", labelOverlap="greedy"),
-    )
-    y = alt.Y(
         "share_of_term:Q",
-        title=wrap("share of the term's use in this topic (p(topic | term))", height),
+        title=wrap("share of the term's use that falls in this topic (p(topic | term))", width),
         scale=alt.Scale(domain=[0, 1]),
         axis=alt.Axis(format=".0%", tickCount=5),
+    )
+    y = alt.Y(
+        "probability:Q",
+        title=wrap("share of the topic (p(term | topic), log scale)", height),
+        scale=alt.Scale(type="log", nice=False, padding=MAP_PAD),
+        axis=alt.Axis(tickCount=4, format=".1~%", labelOverlap="greedy"),
     )
     tip = [
         alt.Tooltip("term:N"),
@@ -436,26 +437,22 @@ def term_map(
         .mark_circle(size=48, color=INK, opacity=0.9, cursor="pointer")
         .encode(x=x, y=y, tooltip=tip)
     )
-    named = f"datum.kind == 'ranked' && datum.rank <= {int(n_labels)}"
-
-    def names(odd: bool):
-        # Odd ranks are named to the right of their dot, even ranks to the left, so that
-        # neighbouring terms rarely print over each other.
-        return (
-            base.transform_filter(f"{named} && datum.rank % 2 == {int(odd)}")
-            .mark_text(
-                align="left" if odd else "right",
-                dx=6 if odd else -6,
-                dy=-4 if odd else 4,
-                fontSize=11,
-                color=INK,
-                limit=110,
-            )
-            .encode(x=x, y=y, text="label:N")
+    # Names are placed in Python, where no two overlap (see _place_names); a name with no free
+    # place around its dot keeps only its rank.
+    names = (
+        base.transform_filter("datum.kind == 'ranked' && datum.label != ''")
+        .mark_text(
+            align=alt.expr("datum.align"),
+            dx=alt.expr("datum.dx"),
+            dy=alt.expr("datum.dy"),
+            baseline="middle",
+            fontSize=11,
+            color=INK,
         )
-
+        .encode(x=x, y=y, text="label:N")
+    )
     return (
-        alt.layer(faint.encode(x=x, y=y), dots, names(True), names(False))
+        alt.layer(faint.encode(x=x, y=y), dots, names)
         .add_params(pick, _focus_param(focus))
         .properties(
             width=width,
@@ -464,13 +461,80 @@ def term_map(
             title=alt.Title(
                 wrap(f"Terms of the topic, ranked {ranking}", width),
                 subtitle=wrap(
-                    "Right: more of the topic; up: more of the term's use is in this topic.",
+                    "Up: more of the topic; right: more of the term's use is in this topic.",
                     width,
                 ),
                 anchor="start",
             ),
         )
     )
+
+
+MAP_PAD = 10  # pixels of padding of the term map's log axis
+_LABEL_H = 12  # pixels of one line of 11 px text
+# Where a name may go around its dot: (dx, dy, align), tried in this order.
+_PLACES = (
+    (6, 0, "left"),
+    (-6, 0, "right"),
+    (6, -9, "left"),
+    (6, 9, "left"),
+    (-6, -9, "right"),
+    (-6, 9, "right"),
+    (0, -12, "center"),
+    (0, 12, "center"),
+)
+
+
+def _place_names(part: pd.DataFrame, width: int, height: int, n_labels: int) -> pd.DataFrame:
+    """One topic's rows of the term map with ``label``, ``dx``, ``dy`` and ``align``: each ranked
+    term (rank order) takes the first place around its dot where its name overlaps no other name
+    or dot and stays inside the chart; with none free it shows only its rank.
+
+    Pixels are computed as the chart draws them: ``share_of_term`` on [0, 1] across ``width``;
+    ``probability`` on a log scale over the topic's values, ``MAP_PAD`` pixels in from each end.
+    """
+    import numpy as np
+
+    part = part.reset_index(drop=True).copy()
+    logs = np.log(part["probability"].clip(lower=1e-12).to_numpy(float))
+    lo, hi = logs.min(), logs.max()
+    span = hi - lo if hi > lo else 1.0
+    px = part["share_of_term"].to_numpy(float) * width
+    py = MAP_PAD + (hi - logs) / span * (height - 2 * MAP_PAD)
+    dots = [(x - 4, y - 4, x + 4, y + 4) for x, y in zip(px, py, strict=True)]
+    taken: list[tuple[float, float, float, float]] = []
+    labels, dxs, dys, aligns = (
+        [""] * len(part),
+        [6] * len(part),
+        [0] * len(part),
+        ["left"] * len(part),
+    )
+
+    def free(box, own):
+        x0, y0, x1, y1 = box
+        if x0 < 0 or x1 > width or y0 < 0 or y1 > height:
+            return False
+        others = taken + [d for i, d in enumerate(dots) if i != own]
+        return all(x1 <= a or b <= x0 or y1 <= c or d <= y0 for a, c, b, d in others)
+
+    order = part.index[part["kind"] == "ranked"].tolist()
+    order.sort(key=lambda i: part.at[i, "rank"])
+    for i in order:
+        rank = int(part.at[i, "rank"])
+        texts = [f"{rank} {part.at[i, 'term']}"] if rank <= n_labels else []
+        texts.append(str(rank))
+        for text in texts:
+            w = CHAR_PX * len(text)
+            for dx, dy, align in _PLACES:
+                left = px[i] + dx - (w if align == "right" else w / 2 if align == "center" else 0)
+                box = (left, py[i] + dy - _LABEL_H / 2, left + w, py[i] + dy + _LABEL_H / 2)
+                if free(box, i):
+                    taken.append(box)
+                    labels[i], dxs[i], dys[i], aligns[i] = text, dx, dy, align
+                    break
+            if labels[i]:
+                break
+    return part.assign(label=labels, dx=dxs, dy=dys, align=aligns)
 
 
 def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int = 300):
