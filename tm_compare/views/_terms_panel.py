@@ -1,8 +1,8 @@
 """The terms panel: the selected topic's term map, its ranked terms, and how each source words it.
 
 The term map places each of the topic's leading terms by how much of the topic it is
-(p(term | topic), across) and how much of the term's use falls in this topic (p(topic | term),
-up). The ranking, chosen from :data:`tm_compare.options.METHOD_NAMES`, decides which terms are
+(p(term | topic), up) and how much of the term's use falls in this topic (p(topic | term),
+across). The ranking, chosen from :data:`tm_compare.options.METHOD_NAMES`, decides which terms are
 named and numbered; the terms it passes over stay on the map as faint dots, so a reader sees
 what each ranking trades. A ranking's weight is a plain number under "more options".
 """

@@ -471,17 +471,18 @@ def term_map(
 
 
 MAP_PAD = 10  # pixels of padding of the term map's log axis
-_LABEL_H = 12  # pixels of one line of 11 px text
+_LABEL_H = 14  # pixels of one line of 11 px text, as browsers box it
+_NAME_CHAR_PX = 7.0  # a wide estimate of one character of a name (fonts vary by machine)
 # Where a name may go around its dot: (dx, dy, align), tried in this order.
 _PLACES = (
     (6, 0, "left"),
     (-6, 0, "right"),
-    (6, -9, "left"),
-    (6, 9, "left"),
-    (-6, -9, "right"),
-    (-6, 9, "right"),
-    (0, -12, "center"),
-    (0, 12, "center"),
+    (6, -10, "left"),
+    (6, 10, "left"),
+    (-6, -10, "right"),
+    (-6, 10, "right"),
+    (0, -14, "center"),
+    (0, 14, "center"),
 )
 
 
@@ -495,41 +496,39 @@ def _place_names(part: pd.DataFrame, width: int, height: int, n_labels: int) -> 
     """
     import numpy as np
 
-    part = part.reset_index(drop=True).copy()
+    part = part.reset_index(drop=True)
+    n = len(part)
     logs = np.log(part["probability"].clip(lower=1e-12).to_numpy(float))
     lo, hi = logs.min(), logs.max()
     span = hi - lo if hi > lo else 1.0
     px = part["share_of_term"].to_numpy(float) * width
     py = MAP_PAD + (hi - logs) / span * (height - 2 * MAP_PAD)
-    dots = [(x - 4, y - 4, x + 4, y + 4) for x, y in zip(px, py, strict=True)]
-    taken: list[tuple[float, float, float, float]] = []
-    labels, dxs, dys, aligns = (
-        [""] * len(part),
-        [6] * len(part),
-        [0] * len(part),
-        ["left"] * len(part),
-    )
+    dots = np.column_stack([px - 4, py - 4, px + 4, py + 4])
+    taken = np.empty((0, 4))
+    labels, dxs, dys, aligns = [""] * n, [6] * n, [0] * n, ["left"] * n
+    ranks = part["rank"].to_numpy()
+    terms = part["term"].to_numpy()
+    ranked = np.flatnonzero(part["kind"].to_numpy() == "ranked")
 
-    def free(box, own):
+    def free(box, own) -> bool:
         x0, y0, x1, y1 = box
         if x0 < 0 or x1 > width or y0 < 0 or y1 > height:
             return False
-        others = taken + [d for i, d in enumerate(dots) if i != own]
-        return all(x1 <= a or b <= x0 or y1 <= c or d <= y0 for a, c, b, d in others)
+        others = np.vstack([taken, np.delete(dots, own, axis=0)])
+        hit = (x1 > others[:, 0]) & (others[:, 2] > x0) & (y1 > others[:, 1]) & (others[:, 3] > y0)
+        return not hit.any()
 
-    order = part.index[part["kind"] == "ranked"].tolist()
-    order.sort(key=lambda i: part.at[i, "rank"])
-    for i in order:
-        rank = int(part.at[i, "rank"])
-        texts = [f"{rank} {part.at[i, 'term']}"] if rank <= n_labels else []
+    for i in ranked[np.argsort(ranks[ranked], kind="stable")]:
+        rank = int(ranks[i])
+        texts = [f"{rank} {terms[i]}"] if rank <= n_labels else []
         texts.append(str(rank))
         for text in texts:
-            w = CHAR_PX * len(text)
+            w = _NAME_CHAR_PX * len(text) + 2
             for dx, dy, align in _PLACES:
                 left = px[i] + dx - (w if align == "right" else w / 2 if align == "center" else 0)
                 box = (left, py[i] + dy - _LABEL_H / 2, left + w, py[i] + dy + _LABEL_H / 2)
                 if free(box, i):
-                    taken.append(box)
+                    taken = np.vstack([taken, box])
                     labels[i], dxs[i], dys[i], aligns[i] = text, dx, dy, align
                     break
             if labels[i]:
