@@ -240,6 +240,12 @@ def test_find_by_word_lists_topics_and_picks_one(view, planted):
     assert panel.table.rows[0][:2] == ["2 · w20 w21 w22", 6]
     panel.table.selected = 2  # a row clicked
     assert view.topic == 2
+    view.terms_panel.method.value = "frex"  # a word's rank follows the ranking on show
+    expected = terms.find_topics(fit, "w25", prepared, method="frex")
+    assert panel.found[["topic", "rank"]].values.tolist() == (
+        expected[["topic", "rank"]].values.tolist()
+    )
+    assert set(panel.found["method"]) == {"frex"}
     panel.query.value = "harbor"
     assert "Closest terms" in panel.message.value or "vocabulary" in panel.message.value
     assert panel.table.layout.display == "none"

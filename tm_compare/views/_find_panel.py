@@ -104,5 +104,5 @@ class FindPanel(w.VBox):
             self._on_pick(int(change["new"]))
 
     def show_topic(self, topic: int) -> None:
-        if self.table.row_keys and topic in self.table.row_keys:
-            self.table.selected = topic
+        # the found row of the topic on show is highlighted; none when it is not among them
+        self.table.selected = topic if topic in self.table.row_keys else None

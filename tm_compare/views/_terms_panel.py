@@ -217,8 +217,9 @@ class TermsPanel(w.VBox):
             f'<div style="font-size:12px"><div style="font-weight:600;margin-bottom:2px">'
             f"Topic {self._topic}, ranked {esc(METHOD_NAMES[self.method.value])}</div>"
             '<table style="border-collapse:collapse"><tr style="color:#6b7078">'
-            '<th></th><th style="text-align:left">term</th><th>of topic</th>'
-            "<th>of term's use</th></tr>"
+            '<th></th><th style="text-align:left">term</th>'
+            '<th style="padding-left:8px">of topic</th>'
+            '<th style="padding-left:8px">of term\'s use</th></tr>'
             f"{rows}</table></div>"
         )
 

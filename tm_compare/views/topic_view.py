@@ -127,6 +127,9 @@ class TopicView(w.VBox):
             downloads=self._namer,
         )
         self.find_panel = FindPanel(self.results, self._pick, self._ranking, downloads=self._namer)
+        for control in (self.terms_panel.method, self.terms_panel.weight):
+            # a word's rank depends on the ranking: a search on show follows it
+            control.observe(lambda _change: self.find_panel.search(), names="value")
         self.documents_panel = DocumentsPanel(self.results)
         self.labels_panel = None
         if labels is not None:
