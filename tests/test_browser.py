@@ -372,12 +372,27 @@ def test_views_right_on_first_draw_find_download_and_fit(lab):
     assert set(_map_terms(view)) <= {f"w3{i}" for i in range(10)}
     assert view.locator(".tmc-term-list .tmc-term").all_inner_texts()[5] == "w35"
 
-    # 5. A download: the term map as PNG lands in the chosen folder, its path on the page.
+    # 5. Another ranking from the list; its weight is a plain number under "more options".
+    assert not view.locator(".tmc-weight input").is_visible()
+    view.locator(".tmc-ranking select").select_option(label="distinctive (FREX)")
+    view.locator(".tmc-more-options").click()
+    weight = view.locator(".tmc-weight input")
+    weight.wait_for(state="visible", timeout=30_000)
+    assert float(weight.input_value()) == 0.5
+    weight.fill("0.8")
+    weight.press("Enter")
+    page.wait_for_function(
+        "() => document.querySelector('.tmc-topic-view .tmc-term-list')"
+        ".innerText.includes('ranked distinctive (FREX)')",
+        timeout=30_000,
+    )
+
+    # 6. A download: the term map as PNG lands in the chosen folder, its path on the page.
     view.locator(".tmc-downloads-term-map .tmc-download-png").click()
     saved = view.locator(".tmc-downloads-term-map .tmc-saved-path")
     saved.wait_for(timeout=60_000)
     path = Path(saved.inner_text())
-    assert path == root / "downloads" / "term-map_k8-seed0_topic3_probability.png"
+    assert path == root / "downloads" / "term-map_k8-seed0_topic3_frexw0.8.png"
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
     assert page.dialogs == []  # no alert() from the hostile markup ever ran

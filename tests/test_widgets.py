@@ -445,3 +445,18 @@ def test_importing_the_views_leaves_altair_unloaded():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+def test_added_panels_follow_the_one_selected_topic(view):
+    import ipywidgets
+
+    class Recorder(ipywidgets.HTML):
+        def show_topic(self, topic):
+            self.value = f"topic {topic}"
+
+    panel = Recorder()
+    view.topic = 2
+    view.add_panel(panel, "Over time", "A panel another module adds.")
+    assert panel.value == "topic 2" and panel in view.panels and panel in view.children
+    view.topic = 3
+    assert panel.value == "topic 3"

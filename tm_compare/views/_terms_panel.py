@@ -87,6 +87,9 @@ class TermsPanel(w.VBox):
             description="weight",
             layout=w.Layout(width="150px"),
         )
+        self.method.add_class("tmc-ranking")
+        self.more.add_class("tmc-more-options")
+        self.weight.add_class("tmc-weight")
         self.weight_help = w.HTML()
         self.options_box = w.HBox([self.weight, self.weight_help])
         self._sync_weight_control()
