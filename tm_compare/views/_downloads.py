@@ -17,6 +17,7 @@ import pandas as pd
 
 from .._atomic import atomic_path, atomic_write_bytes
 from .._html import esc
+from .charts import WARN
 
 TABLE_FORMAT = "csv"
 CHART_FORMATS = ("png", "svg")
@@ -132,7 +133,7 @@ class Downloads(w.HBox):
             else:
                 write_chart(self._chart(), path, fmt)
         except OSError as exc:
-            self.status.value = f'<span style="color:#8a3b2a">Not saved: {esc(exc)}</span>'
+            self.status.value = f'<span style="color:{WARN}">Not saved: {esc(exc)}</span>'
             raise
         self.status.value = (
             f'<span style="font-size:12px">Saved <code class="tmc-saved-path">{esc(path)}</code>'

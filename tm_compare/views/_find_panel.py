@@ -8,6 +8,7 @@ from .._html import esc
 from ..compare.terms import find_topics
 from ..errors import TmCompareError
 from ._row_table import RowTable
+from .charts import WARN
 
 #: A word "ranks high" in a topic when it is among the topic's first FIND_TERMS terms.
 FIND_TERMS = 30
@@ -71,7 +72,7 @@ class FindPanel(w.VBox):
                 **weights,
             )
         except TmCompareError as exc:
-            self.message.value = f'<span style="color:#8a3b2a;font-size:12px">{esc(exc)}</span>'
+            self.message.value = f'<span style="color:{WARN};font-size:12px">{esc(exc)}</span>'
             self.table.layout.display = "none"
             self.found = None
             return None

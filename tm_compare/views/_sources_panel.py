@@ -147,7 +147,8 @@ class SourcesPanel(w.VBox):
         )
         threshold = float(flagged["threshold"].iloc[0])
         self.warning.value = (
-            '<div class="tmc-influence" style="border-left:4px solid #b5523b;background:#fbeeea;'
+            f'<div class="tmc-influence" style="border-left:4px solid {charts.WARN};'
+            f"background:{charts.WARN_BG};"
             'padding:6px 10px;font-size:12px"><b>One cluster may be driving a source.</b> '
             f"Above the {threshold:.0%} share threshold:<ul style='margin:2px 0'>{items}</ul>"
             "Try counting each article once, or see the cap effect "

@@ -33,6 +33,9 @@ INK = "#2b2d31"
 FAINT = "#c9ccd1"
 ACCENT = "#e0a526"
 BAND = "#f6e7c1"  # the pale band behind the topic in focus
+#: Warnings and errors: a dark ochre, never a source's colour.
+WARN = "#7a5c12"
+WARN_BG = "#fbf4e2"
 #: Average width of one character of chart text in pixels (11 px sans-serif), to wrap titles.
 CHAR_PX = 6.4
 #: Room around every chart: text drawn with another font than the one it was measured with (an
