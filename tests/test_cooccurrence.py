@@ -126,6 +126,40 @@ def test_chunked_and_sparse_paths_equal_the_plain_one(monkeypatch):
         np.testing.assert_array_equal(got.pair_counts, ref.pair_counts)
 
 
+def test_document_bitsets_equal_gensim_across_chunks(monkeypatch):
+    # Whole-document counts are AND + popcount of per-word document bitsets, built in
+    # chunks of 64-document multiples. Reference: gensim 4 CorpusAccumulator on 300
+    # documents (several 64-bit words, a partial last word), with chunks of ~100 tokens,
+    # and the sparse-product path used when bitsets would be too large.
+    rng = np.random.default_rng(8)
+    texts = [[f"w{i}" for i in rng.integers(0, 25, rng.integers(0, 12))] for _ in range(300)]
+    words = [f"w{i}" for i in range(25)] + ["absent"]
+    dictionary = Dictionary(texts + [words])
+    ref = CorpusAccumulator({dictionary.token2id[w] for w in words}).accumulate(
+        [dictionary.doc2bow(t) for t in texts]
+    )
+    expected = np.array(
+        [
+            [
+                ref[dictionary.token2id[a]]
+                if a == b
+                else ref[dictionary.token2id[a], dictionary.token2id[b]]
+                for b in words
+            ]
+            for a in words
+        ]
+    )
+    monkeypatch.setattr(co, "_TOKENS_PER_CHUNK", 100)
+    monkeypatch.setattr(co, "_BITSET_WORDS_PER_BATCH", 7)
+    index = co.TokenIndex(texts)
+    word_ids, keys = _all_pairs(index, words)
+    for limit in (1 << 30, 0):  # bitsets, then the sparse product
+        monkeypatch.setattr(co, "_BITSET_MAX_BYTES", limit)
+        got = co.count(index, word_ids, keys, None)
+        assert got.num_windows == 300
+        np.testing.assert_array_equal(_matrix(got, len(words)), expected)
+
+
 def test_token_index_layout():
     index = co.TokenIndex([["a", "b"], [], ["b", "c", "a"]])
     assert index.offsets.tolist() == [0, 2, 2, 5]

@@ -31,6 +31,7 @@ COLUMNS = {
 SMALLER = {
     "k=range(5, 41, 5), seeds=3": "k=[4, 6], seeds=2",
     "result.get_fit(k=15, seed=0)": "result.get_fit(k=6, seed=0)",
+    '"wave2.csv"': '"articles.csv"',
 }
 _BLOCK = re.compile(r"^```python\n(.*?)^```", re.DOTALL | re.MULTILINE)
 

@@ -84,6 +84,13 @@ _TABLE = (
     ),
     Option("n_model_draws", 100, None, "batches of replicates sharing one redraw of the shares"),
     Option(
+        "n_draws",
+        25,
+        None,
+        "prevalence model: draws of every document's shares from its Dirichlet, each refitted "
+        "and pooled (0: the posterior mean only)",
+    ),
+    Option(
         "cap_group_share",
         None,
         None,

@@ -363,6 +363,35 @@ class ModelResults:
             lambda: documents.document_topics(self.fit, self.prepared, self.corpus),
         )
 
+    def prevalence_model(self, formula: str, *, n_draws=None, topics=None):
+        """Prevalence regressed on covariates (:func:`tm_compare.compare.covariates.prevalence_model`)
+        with this object's ``weighting``, ``cluster``, ``ci`` and ``random_state``; cached per
+        formula and setting. ``n_draws`` defaults to the options table's."""
+        from .compare.covariates import prevalence_model
+
+        s = self.settings
+        n_draws = default("n_draws") if n_draws is None else n_draws
+        shaped = (s["weighting"], s["cluster"], s["ci"], s["random_state"])
+        key = ("prevalence_model", formula, n_draws, tuple(topics or ()), *shaped)
+        return self._cached(
+            key,
+            lambda: prevalence_model(
+                self.fit,
+                self.prepared,
+                formula,
+                topics=topics,
+                weighting=s["weighting"],
+                cluster=s["cluster"],
+                n_draws=n_draws,
+                ci=s["ci"],
+                random_state=s["random_state"],
+            ),
+        )
+
+    def prevalence_models(self) -> list:
+        """The prevalence models computed so far (the report shows them), oldest first."""
+        return [v for k, v in self._cache.items() if k[0] == "prevalence_model"]
+
     # --- labels -------------------------------------------------------------------------------
 
     def read_labels(self, store=None) -> dict[str, pd.DataFrame]:

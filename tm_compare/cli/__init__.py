@@ -19,7 +19,7 @@ from ..errors import TmCompareError
 from ..options import OPTIONS, cli_help
 
 # Order here is the order in ``tm-compare --help``.
-COMMANDS = ("demo", "prepare", "sweep", "compare", "labels", "report", "export")
+COMMANDS = ("demo", "prepare", "sweep", "compare", "infer", "labels", "report", "export")
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -36,6 +36,8 @@ SETTINGS = (
     "n_docs",
 )
 NO_CLUSTER = "document"  # --cluster document: the API's cluster=None
+#: Columns of a prevalence model's effects printed by ``compare --model``.
+MODEL_SHOWN = ("topic", "covariate", "value", "reference", "estimate", "ci_low", "ci_high")
 
 
 def add_settings(parser) -> None:
@@ -95,6 +97,15 @@ def register(subparsers) -> None:
     parser.add_argument("--seed", type=int, default=0, help="seed of the model [0]")
     add_settings(parser)
     parser.add_argument(
+        "--model",
+        metavar="FORMULA",
+        action="append",
+        default=[],
+        help='also regress prevalence on covariates, e.g. "~ source * period + outlet" '
+        "(columns of the corpus; repeatable); writes model_*.csv",
+    )
+    add_option(parser, "n_draws")
+    parser.add_argument(
         "--by-group",
         action="store_true",
         help="deprecated: groups are resampled by default now (--cluster group)",
@@ -153,6 +164,8 @@ def run(args) -> int:
     project, fit, prepared = _load(args.project, args.k, args.seed)
     with notes():
         results = ModelResults(fit, prepared, **settings(args))
+        # Prevalence models first: a bad formula stops before any table is written.
+        models = [results.prevalence_model(f, n_draws=args.n_draws) for f in args.model]
         made = {n: t for n, t in results.tables().items() if n in WRITTEN}
     s = results.settings
     suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
@@ -173,5 +186,18 @@ def run(args) -> int:
         print("One source only: no differences to show.")
     else:
         print(summary(made["differences"], fit).to_string(index=False))
-    print(f"Wrote {len(made)} tables to {folder}")
+    for number, model in enumerate(models, start=1):
+        for name, table in model.tables().items():
+            with atomic_path(folder / f"{name}-{number}-{suffix}.csv") as tmp:
+                table.to_csv(tmp, index=False)
+        clear = model.effects[model.effects["p_adjusted"] <= s["fdr"]]
+        print(
+            f"Model {number} {model.formula!r}: {len(clear)} of {len(model.effects)} effects "
+            f"stand (adjusted p <= {s['fdr']}); {model.settings['n_draws']} draws, clusters of "
+            f"{model.settings['cluster']!r}."
+        )
+        if len(clear):
+            shown = clear.sort_values("p_adjusted").head(default("n_topics"))
+            print(shown[[*MODEL_SHOWN, "p_adjusted"]].round(3).to_string(index=False))
+    print(f"Wrote {len(made) + 3 * len(models)} tables to {folder}")
     return 0

@@ -22,15 +22,18 @@ Hochberg (1995), JRSS B 57 (false discovery rate).
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
 from scipy.special import ndtr, ndtri
 from scipy.stats import false_discovery_control, poisson
+from threadpoolctl import threadpool_limits
 
-# Elements of one (replicates x units) count block: bounds memory near 128 MB of float64.
-_BLOCK = 1 << 24
+# Elements of one (replicates x units) count block: about 32 MB of float64, small enough to
+# stay near the caches; two blocks are in flight at a time.
+_BLOCK = 1 << 22
 _JACKKNIFE_CHUNK = 4096
 
 
@@ -103,11 +106,27 @@ def draw_counts(n: int, size: int, rng: np.random.Generator, method: str) -> np.
     ``rng.integers(0, n, (size, n))`` exactly as ``scipy.stats.bootstrap`` draws its
     indices); ``"poisson"`` draws independent Poisson(1) counts, much faster for large n.
     """
+    return _to_counts(_draw(n, size, rng, method), n, method)
+
+
+def _draw(n: int, size: int, rng: np.random.Generator, method: str) -> np.ndarray:
+    """The random part of :func:`draw_counts`: indices (multinomial) or 16-bit uniforms."""
     if method == "poisson":
-        return _POISSON_TABLE[rng.integers(0, 65536, (size, n), dtype=np.uint16)]
-    idx = rng.integers(0, n, (size, n))
-    idx += np.arange(size)[:, None] * n
-    return np.bincount(idx.ravel(), minlength=size * n).reshape(size, n).astype(np.float64)
+        return rng.integers(0, 65536, (size, n), dtype=np.uint16)
+    # 32-bit indices are the same numbers as scipy's 64-bit ones (numpy draws both with
+    # the same 32-bit bounded generator when n < 2**32), drawn about 1.5x faster.
+    return rng.integers(0, n, (size, n), dtype=np.int32 if n < 2**31 else np.int64)
+
+
+def _to_counts(drawn: np.ndarray, n: int, method: str) -> np.ndarray:
+    if method == "poisson":
+        return _POISSON_TABLE[drawn]
+    # One replicate at a time: its counts stay in the caches (3-4x faster than one
+    # bincount over the whole block with offsets).
+    counts = np.empty((len(drawn), n))
+    for row, indices in zip(counts, drawn, strict=True):
+        row[:] = np.bincount(indices, minlength=n)
+    return counts
 
 
 def replicate(
@@ -122,22 +141,40 @@ def replicate(
 
     With ``redraw`` (model uncertainty), replicates run in ``n_redraws`` batches and each
     batch uses the unit sums of one fresh call ``redraw(rng)``.
+
+    Blocks of replicates are drawn in order from ``rng`` (so the draws are those of one
+    call per stratum and batch); while the next block is drawn, a second thread turns
+    the previous one into counts and multiplies them with the unit sums (numpy's
+    generator and the matrix product release the GIL).
     """
     k = units.num.shape[1]
     num = np.empty((n_boot, units.n_strata, k))
     den = np.empty((n_boot, units.n_strata))
+
+    def product(drawn, rows, s, sums, n):
+        both = _to_counts(drawn, n, method) @ sums
+        num[rows, s], den[rows, s] = both[:, :k], both[:, k]
+
     batches = np.array_split(np.arange(n_boot), n_redraws if redraw else 1)
-    for batch in batches:
-        current = redraw(rng) if redraw else units
-        for s, (a, b) in enumerate(current.bounds()):
-            n = b - a
-            step = max(1, _BLOCK // max(n, 1))
-            # One product for topic sums and weight together: the counts are read once.
-            sums = np.column_stack([current.num[a:b], current.den[a:b]])
-            for start in range(0, len(batch), step):
-                rows = batch[start : start + step]
-                both = draw_counts(n, len(rows), rng, method) @ sums
-                num[rows, s], den[rows, s] = both[:, :k], both[:, k]
+    # One BLAS thread: drawing already keeps the other core busy, and a multi-threaded
+    # product of these thin blocks spends more CPU than it saves (measured here).
+    with threadpool_limits(limits=1, user_api="blas"), ThreadPoolExecutor(max_workers=1) as pool:
+        pending: list[Future] = []
+        for batch in batches:
+            current = redraw(rng) if redraw else units
+            for s, (a, b) in enumerate(current.bounds()):
+                n = b - a
+                step = max(1, _BLOCK // max(n, 1))
+                # One product for topic sums and weight together: the counts are read once.
+                sums = np.column_stack([current.num[a:b], current.den[a:b]])
+                for start in range(0, len(batch), step):
+                    rows = batch[start : start + step]
+                    drawn = _draw(n, len(rows), rng, method)
+                    while len(pending) > 1:  # at most two blocks in memory
+                        pending.pop(0).result()
+                    pending.append(pool.submit(product, drawn, rows, s, sums, n))
+        for job in pending:
+            job.result()
     return num, den
 
 

@@ -45,6 +45,9 @@ import scipy.sparse as sp
 DENSE_MAX_WORDS = 4096
 _TOKENS_PER_CHUNK = 1 << 22
 _PAIRS_PER_BATCH = 1 << 22
+# Whole-document counts keep one bit per (word, document) up to this many bytes.
+_BITSET_MAX_BYTES = 1 << 30
+_BITSET_WORDS_PER_BATCH = 1 << 22  # 64-bit words AND-ed per batch of pairs
 
 
 class TokenIndex:
@@ -174,6 +177,8 @@ def count(
     present = word_ids >= 0
     relevant[word_ids[present]] = np.flatnonzero(present)
 
+    if window is None and n_words * (index.n_docs // 8 + 8) <= _BITSET_MAX_BYTES:
+        return _document_counts(index, relevant, n_words, pair_keys)
     dense = n_words <= DENSE_MAX_WORDS
     pair_total = np.zeros(n_words * n_words if dense else len(pair_keys))
     occurrences = np.zeros(n_words)
@@ -198,13 +203,47 @@ def count(
     return Counts(int(window_offsets[-1]), occurrences, pair_keys, pair_counts)
 
 
-def _doc_chunks(offsets: np.ndarray):
+def _document_counts(index, relevant, n_words, pair_keys) -> Counts:
+    """Whole-document counts from one bit per (word, document): pairs are AND + popcount.
+
+    Only the needed pairs are counted, at ``n_docs / 64`` machine words each.
+    """
+    n_docs = index.n_docs
+    parts = []
+    for lo_doc, hi_doc in _doc_chunks(index.offsets, align=64):
+        word = relevant[index.tokens[index.offsets[lo_doc] : index.offsets[hi_doc]]]
+        pos = np.flatnonzero(word >= 0)
+        doc = np.searchsorted(
+            index.offsets[lo_doc + 1 : hi_doc + 1], pos + index.offsets[lo_doc], side="right"
+        )
+        present = np.zeros((n_words, -(-(hi_doc - lo_doc) // 64) * 64), dtype=bool)
+        present[word[pos], doc] = True
+        parts.append(np.packbits(present, axis=1, bitorder="little"))
+    bits = (
+        np.ascontiguousarray(np.concatenate(parts, axis=1)).view(np.uint64)
+        if parts
+        else np.zeros((n_words, 0), np.uint64)
+    )
+    occurrences = np.bitwise_count(bits).sum(axis=1, dtype=np.int64).astype(np.float64)
+    a, b = np.divmod(pair_keys, n_words)
+    pair_counts = np.zeros(len(pair_keys))
+    step = max(1, _BITSET_WORDS_PER_BATCH // max(bits.shape[1], 1))
+    for i in range(0, len(pair_keys), step):
+        both = bits[a[i : i + step]] & bits[b[i : i + step]]
+        pair_counts[i : i + step] = np.bitwise_count(both).sum(axis=1, dtype=np.int64)
+    return Counts(n_docs, occurrences, pair_keys, pair_counts)
+
+
+def _doc_chunks(offsets: np.ndarray, align: int = 1):
     """Ranges of documents holding about ``_TOKENS_PER_CHUNK`` tokens each."""
     n_docs = len(offsets) - 1
     lo = 0
     while lo < n_docs:
         hi = int(np.searchsorted(offsets, offsets[lo] + _TOKENS_PER_CHUNK, side="right")) - 1
         hi = min(max(hi, lo + 1), n_docs)
+        if hi < n_docs and align > 1:  # whole multiples of ``align`` documents, but the last
+            hi = max(lo + align, lo + (hi - lo) // align * align)
+            hi = min(hi, n_docs)
         yield lo, hi
         lo = hi
 

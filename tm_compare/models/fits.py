@@ -191,6 +191,12 @@ class Fit:
             doc_topic=doc_topic,
         )
 
+    def transform(self, corpus, prepared, **options):
+        """Topic shares of new documents under this fit (:func:`tm_compare.models.inference.infer`)."""
+        from .inference import infer
+
+        return infer(self, prepared, corpus, **options)
+
     @renamed_parameters(n="n_terms")
     def top_words(self, n_terms: int = default("n_terms")) -> list[list[str]]:
         """The ``n_terms`` most probable words of each topic, most probable first (ties by term
@@ -266,7 +272,7 @@ class TrainingData:
     """A prepared corpus as a document-term count matrix, with its held-out mask.
 
     This is what fitting needs, in a form that is written once and read by every
-    worker (memory-mapped on one machine, scattered once on a Dask cluster).
+    worker (memory-mapped on one machine, sent once to a Dask cluster).
     """
 
     matrix: sp.csr_matrix

@@ -431,12 +431,17 @@ _SHARED: dict[str, TrainingData] = {}
 
 def _train_shared(shared, k, seed, engine, settings) -> Fit:
     """Worker side: ``shared`` is a folder written by TrainingData.save (read once per process)."""
-    if isinstance(shared, TrainingData):  # scattered to Dask workers
+    if isinstance(shared, TrainingData):  # held by Dask workers
         return train(shared, k, seed, engine, settings)
     if shared not in _SHARED:
         _SHARED.clear()
         _SHARED[shared] = TrainingData.load(Path(shared))
     return train(_SHARED[shared], k, seed, engine, settings)
+
+
+def _hold(data):
+    """Worker side: the training data as a task result, so Dask can recompute it."""
+    return data
 
 
 def _connect(client, scheduler, fallback_local: bool):
@@ -463,8 +468,9 @@ def _run_dask(client, own: bool, data: TrainingData, todo: list, engine: str, se
 
     futures = []
     try:
-        # Sent once to every worker, not once per fit.
-        shared = client.scatter(data, broadcast=True)
+        # Sent once, held as a task result: when a worker holding it is lost, the scheduler
+        # recomputes it from the task (scattered data would be lost with that worker).
+        shared = client.submit(_hold, data, pure=False)
         futures = [
             client.submit(_train_shared, shared, k, seed, engine, settings, pure=False)
             for k, seed in todo

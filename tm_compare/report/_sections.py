@@ -396,6 +396,49 @@ def labels_section(results) -> dict:
     }
 
 
+def prevalence_model_section(results) -> list[dict]:
+    """One entry per prevalence model computed on ``results.results`` (none: no section)."""
+    from ..views.charts import covariate_chart
+
+    out = []
+    for model in results.results.prevalence_models():
+        ms = model.settings
+        effects = model.effects.assign(caption=model.effects["topic"].map(results.captions))
+        effects = effects.sort_values("p_value", kind="stable").head(15)
+        covariates = list(dict.fromkeys(model.prevalence["covariate"]))
+        out.append(
+            {
+                "formula": model.formula,
+                "weighting": ms["weighting"],
+                "cluster": ms["cluster"],
+                "n_clusters": ms["n_clusters"],
+                "n_docs": ms["n_docs"],
+                "n_draws": ms["n_draws"],
+                "ci": f"{ms['ci_level']:.0%}",
+                "charts": [
+                    image(
+                        covariate_chart(model.prevalence, covariate=c, captions=results.captions),
+                        f"Estimated prevalence of each topic by {c}",
+                    )
+                    for c in covariates[:3]
+                ],
+                "effects": table(
+                    effects,
+                    [
+                        ("caption", "topic", None),
+                        ("covariate", "covariate", None),
+                        (lambda r: f"{r['value']} vs {r['reference']}", "change", None),
+                        ("estimate", "effect", lambda v: num(v, sign=True)),
+                        (lambda r: interval(r["ci_low"], r["ci_high"]), "interval", None),
+                        ("p_adjusted", "adj. p", pval),
+                    ],
+                    key=f"model-{len(out)}",
+                ),
+            }
+        )
+    return out
+
+
 def reproduce_section(results) -> dict:
     from ..project import package_versions
 
@@ -445,6 +488,7 @@ def context(results) -> dict:
         "sweep": sweep_section(results, made),
         "topics": topics_section(results),
         "comparison": comparison_section(results, made),
+        "prevalence_models": prevalence_model_section(results),
         "documents": documents_section(results),
         "labels": labels_section(results),
         "reproduce": reproduce_section(results),

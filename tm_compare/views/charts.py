@@ -428,7 +428,7 @@ def term_map(
     )
     tip = [
         alt.Tooltip("term:N"),
-        alt.Tooltip("rank:Q", title=f"rank ({ranking})"),
+        alt.Tooltip("rank:Q"),  # "rank: 1" in each dot's aria-label (bench/view_browser_speed.py)
         alt.Tooltip("probability:Q", title="p(term | topic)", format=".4f"),
         alt.Tooltip("share_of_term:Q", title="p(topic | term)", format=".2f"),
         alt.Tooltip("topic:Q"),
@@ -578,4 +578,56 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
             padding=PADDING,
             title=alt.Title(wrap("How each source words it", width), anchor="start"),
         )
+    )
+
+
+def covariate_chart(
+    prevalence: pd.DataFrame, *, covariate: str, captions: dict | None = None
+) -> alt.LayerChart:
+    """Estimated prevalence of each topic at each value of one covariate, with intervals.
+
+    Parameters
+    ----------
+    prevalence : DataFrame
+        ``PrevalenceModel.prevalence``: columns ``topic``, ``covariate``, ``value``,
+        ``estimate``, ``ci_low``, ``ci_high``, ``ci_level``.
+    covariate : str
+        The covariate shown (rows of other covariates are left out).
+    captions : dict, optional
+        Topic -> caption for the rows (default: the topic number).
+    """
+    data = prevalence[prevalence["covariate"] == covariate].copy()
+    names = captions or {}
+    data["name"] = [names.get(t, str(t)) for t in data["topic"]]
+    values = list(dict.fromkeys(data["value"]))
+    level = float(data["ci_level"].iloc[0]) if len(data) else 0.95
+    color = alt.Color(
+        "value:N",
+        title=covariate,
+        sort=values,
+        scale=alt.Scale(
+            domain=values, range=(PALETTE * (len(values) // len(PALETTE) + 1))[: len(values)]
+        ),
+    )
+    y = alt.Y("name:N", sort=alt.EncodingSortField("topic", order="ascending"), title=None)
+    offset = alt.YOffset("value:N", sort=values)
+    base = alt.Chart(data).encode(y=y, yOffset=offset, color=color)
+    whiskers = base.mark_rule(strokeWidth=2).encode(
+        x=alt.X("ci_low:Q", title=f"estimated prevalence ({level:.0%} interval)"),
+        x2="ci_high:Q",
+    )
+    dots = base.mark_point(filled=True, size=40).encode(
+        x="estimate:Q",
+        tooltip=[
+            alt.Tooltip("name:N", title="topic"),
+            alt.Tooltip("value:N", title=covariate),
+            alt.Tooltip("estimate:Q", format=".3f"),
+            alt.Tooltip("ci_low:Q", format=".3f"),
+            alt.Tooltip("ci_high:Q", format=".3f"),
+        ],
+    )
+    return (whiskers + dots).properties(
+        width=320,
+        height=alt.Step(max(6, 14 // max(1, len(values) // 2))),
+        title=alt.Title(f"Prevalence by {covariate}", anchor="start"),
     )
