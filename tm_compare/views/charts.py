@@ -20,65 +20,34 @@ Altair is imported when the first chart is built, so importing the views stays f
 
 from __future__ import annotations
 
-import textwrap
 import warnings
 
 import pandas as pd
 
 from ..options import VERDICT_WORDS, verdict_word
-
-#: Our palette: a deep teal and a brick red for two sources, then further sources.
-PALETTE = ["#1b6f80", "#b5523b", "#6b8e23", "#8a5fa8", "#c28f1c", "#4f5d75"]
-INK = "#2b2d31"
-FAINT = "#c9ccd1"
-ACCENT = "#e0a526"
-BAND = "#f6e7c1"  # the pale band behind the topic in focus
-#: Warnings and errors: a dark ochre, never a source's colour.
-WARN = "#7a5c12"
-WARN_BG = "#fbf4e2"
-#: Average width of one character of chart text in pixels (11 px sans-serif), to wrap titles.
-CHAR_PX = 6.4
-#: Room around every chart: text drawn with another font than the one it was measured with (an
-#: SVG exported by vl-convert, shown by a browser) may be a few per cent wider.
-PADDING = {"left": 24, "right": 16, "top": 6, "bottom": 6}
-#: Longest topic caption on an axis, in characters; longer ones end in "..." (whole on hover).
-CAPTION_CHARS = 34
-
-
-def _alt():
-    import altair
-
-    return altair
-
-
-FIT_PICK = "fit_pick"
-TOPIC_PICK = "topic_pick"
-FOCUS = "focus"
-PICKED = "picked"
-
-
-def fit_key(k: int, seed: int) -> str:
-    """The ``"k:seed"`` key of one fit, as the ``picked`` parameter of :func:`sweep_chart` holds it."""
-    return f"{int(k)}:{int(seed)}"
-
-
-def _focus_param(focus: int | None):
-    return _alt().param(name=FOCUS, value=-1 if focus is None else int(focus))
-
-
-def _source_scale(sources: list[str]):
-    return _alt().Scale(domain=list(sources), range=PALETTE[: max(1, len(sources))])
-
-
-def wrap(text: str, pixels: float) -> list[str]:
-    """``text`` cut into lines no wider than ``pixels`` at 11 px (for titles and subtitles)."""
-    return textwrap.wrap(text, max(20, int(pixels / CHAR_PX))) if text else []
-
-
-def short(caption: str, chars: int = CAPTION_CHARS) -> str:
-    """A caption cut to ``chars`` characters, ending in an ellipsis when cut."""
-    caption = str(caption)
-    return caption if len(caption) <= chars else caption[: chars - 1].rstrip() + "\u2026"
+from ._chart_style import (  # noqa: F401  (re-exported: charts.INK, charts.FOCUS, ...)
+    ACCENT,
+    BAND,
+    CAPTION_CHARS,
+    CHAR_PX,
+    FAINT,
+    FIT_PICK,
+    FOCUS,
+    INK,
+    PADDING,
+    PALETTE,
+    PICKED,
+    TOPIC_PICK,
+    WARN,
+    WARN_BG,
+    _alt,
+    _focus_param,
+    _source_scale,
+    fit_key,
+    short,
+    wrap,
+)
+from ._term_map import MAP_PAD, term_map  # noqa: F401  (re-exported)
 
 
 def sweep_chart(
@@ -367,178 +336,6 @@ def _js(text: str) -> str:
     return json.dumps(str(text))
 
 
-def term_map(
-    terms: pd.DataFrame,
-    *,
-    focus: int | None = None,
-    ranking: str = "frequent",
-    context: pd.DataFrame | None = None,
-    n_labels: int = 10,
-    width: int = 360,
-    height: int = 280,
-):
-    """Where the topic's leading terms sit: how much of the term's use falls in the topic
-    (p(topic | term), across) against how much of the topic the term is (p(term | topic), up, log
-    scale); the ranked terms are numbered and named, the topic's other frequent terms are faint.
-
-    Holds every topic's terms; the parameter ``focus`` picks the topic drawn (changed in place).
-
-    Parameters
-    ----------
-    terms : DataFrame
-        The ranked terms of every topic: ``topic``, ``term``, ``rank`` (1 = first),
-        ``probability`` (p(term | topic)) and ``share_of_term`` (p(topic | term)).
-    ranking : str
-        The ranking's name, for the title.
-    context : DataFrame, optional
-        More terms per topic (same columns) drawn as faint dots behind the ranked ones.
-    n_labels : int
-        Ranked terms named on the map (the first ``n_labels``).
-    """
-    alt = _alt()
-    cols = ["topic", "term", "rank", "probability", "share_of_term"]
-    ranked = terms[cols].assign(kind="ranked")
-    layers_data = [ranked]
-    if context is not None:
-        ranked_keys = set(zip(ranked["topic"], ranked["term"], strict=True))
-        extra = context[cols][
-            [
-                (t, w) not in ranked_keys
-                for t, w in zip(context["topic"], context["term"], strict=True)
-            ]
-        ]
-        layers_data.append(extra.assign(kind="context", rank=0))
-    data = pd.concat(layers_data, ignore_index=True)
-    data = pd.concat(
-        [_place_names(part, width, height, n_labels) for _, part in data.groupby("topic")],
-        ignore_index=True,
-    )
-    pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
-    x = alt.X(
-        "share_of_term:Q",
-        title=wrap("share of the term's use that falls in this topic (p(topic | term))", width),
-        scale=alt.Scale(domain=[0, 1]),
-        axis=alt.Axis(format=".0%", tickCount=5),
-    )
-    y = alt.Y(
-        "probability:Q",
-        title=wrap("share of the topic (p(term | topic), log scale)", height),
-        scale=alt.Scale(type="log", nice=False, padding=MAP_PAD),
-        axis=alt.Axis(tickCount=4, format=".1~%", labelOverlap="greedy"),
-    )
-    tip = [
-        alt.Tooltip("term:N"),
-        alt.Tooltip("rank:Q"),  # "rank: 1" in each dot's aria-label (bench/view_browser_speed.py)
-        alt.Tooltip("probability:Q", title="p(term | topic)", format=".4f"),
-        alt.Tooltip("share_of_term:Q", title="p(topic | term)", format=".2f"),
-        alt.Tooltip("topic:Q"),
-    ]
-    base = alt.Chart(data).transform_filter(f"datum.topic == {FOCUS}")
-    faint = base.transform_filter("datum.kind == 'context'").mark_circle(size=22, color=FAINT)
-    dots = (
-        base.transform_filter("datum.kind == 'ranked'")
-        .mark_circle(size=48, color=INK, opacity=0.9, cursor="pointer")
-        .encode(x=x, y=y, tooltip=tip)
-    )
-    # Names are placed in Python, where no two overlap (see _place_names); a name with no free
-    # place around its dot keeps only its rank.
-    names = (
-        base.transform_filter("datum.kind == 'ranked' && datum.label != ''")
-        .mark_text(
-            align=alt.expr("datum.align"),
-            dx=alt.expr("datum.dx"),
-            dy=alt.expr("datum.dy"),
-            baseline="middle",
-            fontSize=11,
-            color=INK,
-        )
-        .encode(x=x, y=y, text="label:N")
-    )
-    return (
-        alt.layer(faint.encode(x=x, y=y), dots, names)
-        .add_params(pick, _focus_param(focus))
-        .properties(
-            width=width,
-            height=height,
-            padding=PADDING,
-            title=alt.Title(
-                wrap(f"Terms of the topic, ranked {ranking}", width),
-                subtitle=wrap(
-                    "Up: more of the topic; right: more of the term's use is in this topic.",
-                    width,
-                ),
-                anchor="start",
-            ),
-        )
-    )
-
-
-MAP_PAD = 10  # pixels of padding of the term map's log axis
-_LABEL_H = 14  # pixels of one line of 11 px text, as browsers box it
-_NAME_CHAR_PX = 7.0  # a wide estimate of one character of a name (fonts vary by machine)
-# Where a name may go around its dot: (dx, dy, align), tried in this order.
-_PLACES = (
-    (6, 0, "left"),
-    (-6, 0, "right"),
-    (6, -10, "left"),
-    (6, 10, "left"),
-    (-6, -10, "right"),
-    (-6, 10, "right"),
-    (0, -14, "center"),
-    (0, 14, "center"),
-)
-
-
-def _place_names(part: pd.DataFrame, width: int, height: int, n_labels: int) -> pd.DataFrame:
-    """One topic's rows of the term map with ``label``, ``dx``, ``dy`` and ``align``: each ranked
-    term (rank order) takes the first place around its dot where its name overlaps no other name
-    or dot and stays inside the chart; with none free it shows only its rank.
-
-    Pixels are computed as the chart draws them: ``share_of_term`` on [0, 1] across ``width``;
-    ``probability`` on a log scale over the topic's values, ``MAP_PAD`` pixels in from each end.
-    """
-    import numpy as np
-
-    part = part.reset_index(drop=True)
-    n = len(part)
-    logs = np.log(part["probability"].clip(lower=1e-12).to_numpy(float))
-    lo, hi = logs.min(), logs.max()
-    span = hi - lo if hi > lo else 1.0
-    px = part["share_of_term"].to_numpy(float) * width
-    py = MAP_PAD + (hi - logs) / span * (height - 2 * MAP_PAD)
-    dots = np.column_stack([px - 4, py - 4, px + 4, py + 4])
-    taken = np.empty((0, 4))
-    labels, dxs, dys, aligns = [""] * n, [6] * n, [0] * n, ["left"] * n
-    ranks = part["rank"].to_numpy()
-    terms = part["term"].to_numpy()
-    ranked = np.flatnonzero(part["kind"].to_numpy() == "ranked")
-
-    def free(box, own) -> bool:
-        x0, y0, x1, y1 = box
-        if x0 < 0 or x1 > width or y0 < 0 or y1 > height:
-            return False
-        others = np.vstack([taken, np.delete(dots, own, axis=0)])
-        hit = (x1 > others[:, 0]) & (others[:, 2] > x0) & (y1 > others[:, 1]) & (others[:, 3] > y0)
-        return not hit.any()
-
-    for i in ranked[np.argsort(ranks[ranked], kind="stable")]:
-        rank = int(ranks[i])
-        texts = [f"{rank} {terms[i]}"] if rank <= n_labels else []
-        texts.append(str(rank))
-        for text in texts:
-            w = _NAME_CHAR_PX * len(text) + 2
-            for dx, dy, align in _PLACES:
-                left = px[i] + dx - (w if align == "right" else w / 2 if align == "center" else 0)
-                box = (left, py[i] + dy - _LABEL_H / 2, left + w, py[i] + dy + _LABEL_H / 2)
-                if free(box, i):
-                    taken = np.vstack([taken, box])
-                    labels[i], dxs[i], dys[i], aligns[i] = text, dx, dy, align
-                    break
-            if labels[i]:
-                break
-    return part.assign(label=labels, dx=dxs, dy=dys, align=aligns)
-
-
 def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int = 300):
     """Terms the topic's documents use more in one source than the other, as diverging bars.
 
@@ -581,9 +378,12 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
     )
 
 
-def covariate_chart(
-    prevalence: pd.DataFrame, *, covariate: str, captions: dict | None = None
-) -> alt.LayerChart:
+#: Shades of ink for the values of a covariate other than the source (colour means source).
+SHADES = ["#2b2d31", "#6b7078", "#a3a8b0", "#4f5d75"]
+SHAPES = ["circle", "square", "triangle-up", "diamond", "cross", "triangle-down"]
+
+
+def covariate_chart(prevalence: pd.DataFrame, *, covariate: str, captions: dict | None = None):
     """Estimated prevalence of each topic at each value of one covariate, with intervals.
 
     Parameters
@@ -601,12 +401,23 @@ def covariate_chart(
     data["name"] = [names.get(t, str(t)) for t in data["topic"]]
     values = list(dict.fromkeys(data["value"]))
     level = float(data["ci_level"].iloc[0]) if len(data) else 0.95
+    alt = _alt()
+    # Sources keep their colours; any other covariate's values are shades of ink and shapes.
+    palette = PALETTE if covariate == "source" else SHADES
     color = alt.Color(
         "value:N",
         title=covariate,
         sort=values,
         scale=alt.Scale(
-            domain=values, range=(PALETTE * (len(values) // len(PALETTE) + 1))[: len(values)]
+            domain=values, range=(palette * (len(values) // len(palette) + 1))[: len(values)]
+        ),
+    )
+    shape = alt.Shape(
+        "value:N",
+        title=covariate,
+        sort=values,
+        scale=alt.Scale(
+            domain=values, range=(SHAPES * (len(values) // len(SHAPES) + 1))[: len(values)]
         ),
     )
     y = alt.Y("name:N", sort=alt.EncodingSortField("topic", order="ascending"), title=None)
@@ -618,6 +429,7 @@ def covariate_chart(
     )
     dots = base.mark_point(filled=True, size=40).encode(
         x="estimate:Q",
+        shape=shape,
         tooltip=[
             alt.Tooltip("name:N", title="topic"),
             alt.Tooltip("value:N", title=covariate),
