@@ -5,6 +5,7 @@ it) and vl-convert, which renders specs with the real Vega engine, offline.
 """
 
 import json
+import re
 
 import numpy as np
 import pandas as pd
@@ -100,21 +101,77 @@ def test_source_chart_orders_topics_by_difference_and_shares_one_click(compariso
     left = spec["hconcat"][0]["layer"][1]["encoding"]["y"]
     assert left["sort"] == diff["name"].tolist()
     total_rows = sum(len(v) for v in spec["datasets"].values())
-    assert total_rows <= len(prev) + len(diff) + 1  # aggregated tables only
+    # aggregated tables only: prevalence, differences, the focus bands (one row per topic), zero
+    assert total_rows <= len(prev) + 2 * len(diff) + 1
     svg = _svg(chart)
     assert "0 · word0" in svg and "shared minus visited" in svg
 
 
-def test_terms_chart_filters_to_the_focus_topic():
-    terms = pd.DataFrame(
-        [(t, f"t{t}w{i}", 1 / (i + 1), i + 1) for t in range(3) for i in range(4)],
-        columns=["topic", "term", "score", "rank"],
-    )
-    chart = charts.terms_chart(terms, focus=2, title="probability")
+def _term_frames():
+    rows = [
+        (t, f"t{t}w{i}", i + 1, 0.1 / (i + 1), 0.9 / (1 + 0.3 * i))
+        for t in range(3)
+        for i in range(12)
+    ]
+    frame = pd.DataFrame(rows, columns=["topic", "term", "rank", "probability", "share_of_term"])
+    return frame[frame["rank"] <= 8], frame
+
+
+def test_term_map_draws_the_focus_topic_and_names_its_ranked_terms():
+    ranked, context = _term_frames()
+    chart = charts.term_map(ranked, focus=2, ranking="distinctive (FREX)", context=context)
     spec = chart.to_dict()
-    assert spec["transform"] == [{"filter": f"datum.topic == {charts.FOCUS}"}]
+    assert _params(spec)[charts.FOCUS]["value"] == 2
     svg = _svg(chart)
-    assert "t2w0" in svg and "t0w0" not in svg  # only the focus topic is drawn
+    assert "1 t2w0" in svg and "8 t2w7" in svg  # ranked terms are named with their rank
+    assert "t0w0" not in svg and "t2w9" not in svg  # other topics and context terms are not
+    assert "share of the term" in svg and "share of the topic" in svg
+    rows = [r for rows in spec["datasets"].values() for r in rows]
+    assert sum(r["kind"] == "context" for r in rows) == 3 * 4  # context adds only unranked terms
+
+
+def test_source_chart_encodes_verdict_by_fill_and_sources_by_colour(comparison_frames):
+    prev, diff = comparison_frames
+    spec = charts.source_chart(prev, diff, focus=1).to_dict()
+    right = spec["hconcat"][1]["layer"]
+    points = [layer for layer in right if layer["mark"].get("shape") == "diamond"]
+    # one filled layer (holds up) and one hollow (could be chance), both ink, never a source colour
+    assert sorted(layer["mark"]["filled"] for layer in points) == [False, True]
+    assert {layer["mark"]["color"] for layer in points} == {charts.INK}
+    svg = _svg(charts.source_chart(prev, diff, focus=1))
+    assert "holds up" in svg and "could be chance" in svg
+    diamonds = re.findall(r'<path aria-label="[^"]*verdict: [^"]*"[^>]*>', svg)
+    assert len(diamonds) == len(diff)
+    assert all(f'stroke="{charts.INK}"' in d for d in diamonds)
+    assert sum(f'fill="{charts.INK}"' in d for d in diamonds) == int(diff["clear"].sum())
+    # the focus topic has a band in each panel, named for screen readers
+    assert svg.count('aria-label="selected topic 1 · word1"') == 2
+
+
+def test_long_captions_and_titles_fit_their_chart():
+    names = {t: f"{t} · " + " ".join(["harbourmaster"] * (t + 1)) for t in range(4)}
+    prev = pd.DataFrame(
+        [(t, names[t], s, 0.2, 0.1, 0.3) for t in range(4) for s in ("shared", "visited")],
+        columns=["topic", "name", "source", "estimate", "lower", "upper"],
+    )
+    diff = pd.DataFrame(
+        {
+            "topic": range(4),
+            "name": [names[t] for t in range(4)],
+            "estimate": [0.3, 0.1, -0.1, -0.3],
+            "lower": [0.2, 0.0, -0.2, -0.4],
+            "upper": [0.4, 0.2, 0.0, -0.2],
+            "clear": [True, False, False, True],
+        }
+    )
+    note = "Counting by exposure; 95% percentile intervals from 1000 replicates. " * 4
+    spec = charts.source_chart(prev, diff, note=note).to_dict()
+    subtitle = spec["title"]["subtitle"]
+    assert len(subtitle) > 1 and max(map(len, subtitle)) * charts.CHAR_PX <= 720
+    svg = _svg(charts.source_chart(prev, diff, note=note))
+    texts = re.findall(r"<text[^>]*>([^<]*)</text>", svg)
+    assert charts.short(names[3]) in texts and names[3] not in texts
+    assert len(charts.short(names[3])) == charts.CAPTION_CHARS
 
 
 def test_wording_chart_colours_by_leaning_source():

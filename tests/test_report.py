@@ -95,7 +95,7 @@ def test_differences_in_the_report_equal_the_exported_table(shown):
             assert row["p_adjusted"] < 0.001
         else:
             assert _number(p) == pytest.approx(row["p_adjusted"], rel=5e-3)
-        assert cells["stands"] == ("yes" if row["significant"] else "no")
+        assert cells["verdict"] == ("holds up" if row["significant"] else "could be chance")
 
 
 def test_prevalence_sweep_topics_and_influence_equal_the_exported_tables(shown):

@@ -1,17 +1,22 @@
 """``tm-compare demo`` on a small corpus, then its report in headless Debian Chromium.
 
 The report must open from a file with no network request (every URL is ``file:`` or ``data:``)
-and no console error; a full-page screenshot goes to ``.artifacts/`` (git-ignored). Never
-downloads a browser: Chromium must be Debian's (``apt-get install -y chromium``).
+and no console error, and every chart must be readable: each chart image is drawn on its own in
+the same browser and no text element (title, subtitle, label, tick) may reach outside the chart's
+SVG box, nor two tick labels of one axis overlap (measured with bounding boxes). A full-page
+screenshot goes to ``.artifacts/`` (git-ignored). Never downloads a browser: Chromium must be
+Debian's (``apt-get install -y chromium``).
 """
 
 from __future__ import annotations
 
+import base64
 import subprocess
 import sys
 
 import pytest
 from _chromium import ARTIFACTS, chromium, require_browser
+from _svg_fit import TEXT_OUTSIDE
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
@@ -56,9 +61,22 @@ def test_demo_report_opens_offline_without_errors(tmp_path):
             "img", "els => els.map(e => [e.complete, e.naturalWidth])"
         )
         headings = page.eval_on_selector_all("h2", "els => els.map(e => e.textContent)")
+        sources = page.eval_on_selector_all("img", "els => els.map(e => e.src)")
         ARTIFACTS.mkdir(exist_ok=True)
         page.screenshot(path=str(ARTIFACTS / "report.png"), full_page=True)
         page.screenshot(path=str(ARTIFACTS / "report-top.png"))
+        # Each chart on its own page, as the browser draws it: does every text fit?
+        misfits = {}
+        prefix = "data:image/svg+xml;base64,"
+        for n, src in enumerate(sources):
+            assert src.startswith(prefix)
+            svg = base64.b64decode(src[len(prefix) :]).decode("utf-8")
+            page.set_content(f'<html><body style="margin:0">{svg}</body></html>')
+            found = page.locator("svg").first.evaluate(TEXT_OUTSIDE)
+            if found:
+                misfits[n] = found
+        assert len(sources) >= 3  # the sweep, the sources, the term maps
+    assert misfits == {}
     assert requests and all(u.startswith(("file:", "data:")) for u in requests), requests
     assert problems == []
     # Every chart drew (an SVG that failed to decode has no natural width).

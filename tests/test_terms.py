@@ -164,3 +164,35 @@ def test_old_argument_order_and_names_still_work_with_a_warning():
     with pytest.warns(FutureWarning, match=r"term_rankings\(topn=\.\.\.\).*n_terms=\.\.\."):
         short = term_rankings(FIT, method="frex", topn=3)
     pd.testing.assert_frame_equal(short, term_rankings(FIT, method="frex", n_terms=3))
+
+
+def test_share_of_term_is_bayes_rule_by_hand():
+    # pi = mean topic share (0.5, 0.5) without a prepared corpus: p(k | w) = phi_kw / sum_j phi_jw.
+    table = term_rankings(FIT, n_terms=4)
+    got = table.set_index(["topic", "term"])["share_of_term"]
+    assert got[(0, "w0")] == pytest.approx(0.4 / (0.4 + 0.6))
+    assert got[(1, "w3")] == pytest.approx(0.2 / (0.1 + 0.2))
+    # each term's shares over topics sum to 1 (a distribution over topics)
+    np.testing.assert_allclose(table.groupby("term")["share_of_term"].sum(), 1.0)
+
+
+def test_find_topics_ranks_and_errors():
+    from tm_compare import find_topics
+
+    found = find_topics(FIT, "W3", n_terms=2)  # any case
+    # w3 is 2nd in topic 1 (0.6, 0.2, ...) and last in topic 0: only topic 1 within the top 2
+    assert found[["topic", "rank"]].values.tolist() == [[1, 2]]
+    assert found["probability"].tolist() == [0.2]
+    everywhere = find_topics(FIT, "w0", n_terms=4)
+    assert everywhere[["topic", "rank"]].values.tolist() == [[1, 1], [0, 1]]
+    with pytest.raises(SettingsError, match="Closest terms: w0"):
+        find_topics(FIT, "w00")
+    with pytest.raises(SettingsError, match="'method' parameter of find_topics"):
+        find_topics(FIT, "w0", method="salience")
+
+
+def test_find_topics_matches_phrase_terms():
+    phrase = topics_fit(PHI, ["city_council", "w1", "w2", "w3"], doc_topic=[[0.5, 0.5]] * 2)
+    from tm_compare.compare.terms import find_topics
+
+    assert find_topics(phrase, "City Council", n_terms=1)["topic"].tolist() == [1, 0]

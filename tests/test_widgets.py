@@ -112,7 +112,7 @@ def test_one_topic_trait_moves_every_panel(view, planted):
     fit, prepared = planted
     view.topic = 2
     assert view.sources_panel.chart.params.focus == 2
-    assert view.terms_panel.terms_chart.params.focus == 2
+    assert view.terms_panel.map_chart.params.focus == 2
     assert view.sources_panel.topic_list.selected == 2
     assert "Reading topic <b>2 · w20 w21 w22</b>" in view.reading_title.value
     expected = documents.representative_documents(fit, prepared, 2, n_docs=3)
@@ -129,7 +129,7 @@ def test_one_topic_trait_moves_every_panel(view, planted):
 def test_clicks_anywhere_select_the_topic(view):
     _click(view.sources_panel.chart, charts.TOPIC_PICK, topic=1)
     assert view.topic == 1
-    _click(view.terms_panel.terms_chart, charts.TOPIC_PICK, topic=3)
+    _click(view.terms_panel.map_chart, charts.TOPIC_PICK, topic=3)
     assert view.topic == 3
     view.sources_panel.topic_list.selected = 2  # a row clicked in the topic list
     assert view.topic == 2
@@ -160,16 +160,125 @@ def test_weighting_cluster_and_influence_warning(view, planted):
 def test_ranking_selector_uses_term_rankings(view, planted):
     fit, prepared = planted
     panel = view.terms_panel
+    assert [label for label, _ in panel.method.options] == [
+        "frequent",
+        "lift",
+        "distinctive (FREX)",
+        "weighted (Sievert & Shirley 2014)",
+    ]
     panel.method.value = "relevance"
-    assert panel.weight.layout.display is None and panel.weight.value == 0.6
+    # the weight is a plain number under "more options", hidden until asked for
+    assert panel.more.layout.display is None and panel.options_box.layout.display == "none"
+    panel.more.value = True
+    assert panel.options_box.layout.display is None and panel.weight.value == 0.6
+    assert "lambda" not in panel.weight.description + panel.weight_help.value
     panel.weight.value = 0.3
     expected = terms.term_rankings(fit, prepared, "relevance", lam=0.3)
-    rows = next(iter(panel.terms_chart.spec["datasets"].values()))
-    assert [(r["topic"], r["term"]) for r in rows] == list(
-        zip(expected["topic"], expected["term"], strict=True)
+    rows = [r for r in _rows(panel.map_chart.spec) if r["kind"] == "ranked"]
+    assert [(r["topic"], r["term"], r["rank"]) for r in rows] == list(
+        zip(expected["topic"], expected["term"], expected["rank"], strict=True)
     )
+    listed = re.findall(r'class="tmc-term">([^<]+)<', panel.term_list.value)
+    assert listed == expected[expected["topic"] == view.topic]["term"].tolist()
     panel.method.value = "lift"
-    assert panel.weight.layout.display == "none"
+    assert panel.more.layout.display == "none" and panel.options_box.layout.display == "none"
+
+
+def _rows(spec):
+    return [r for rows in spec["datasets"].values() for r in rows]
+
+
+def test_term_map_places_terms_by_both_conditional_probabilities(view, planted):
+    fit, prepared = planted
+    view.topic = 2
+    rows = [r for r in _rows(view.terms_panel.map_chart.spec) if r["topic"] == 2]
+    # Bayes' rule by hand: p(k | w) = pi_k phi_kw / sum_j pi_j phi_jw, pi = the topics' token
+    # shares (every planted document has 30 tokens, so pi is the mean topic share).
+    pi = fit.doc_topic.mean(axis=0)
+    phi = fit.topic_term
+    for r in rows:
+        w_id = (
+            fit.vocab.index(r["term"])
+            if isinstance(fit.vocab, list)
+            else list(fit.vocab).index(r["term"])
+        )
+        assert r["probability"] == pytest.approx(phi[2, w_id])
+        assert r["share_of_term"] == pytest.approx(pi[2] * phi[2, w_id] / (pi @ phi[:, w_id]))
+    # the planted topic 2 owns w20..w29: its ranked terms are those, most probable first
+    ranked = sorted((r for r in rows if r["kind"] == "ranked"), key=lambda r: r["rank"])
+    assert [r["term"] for r in ranked] == [f"w2{i}" for i in range(10)]
+
+
+def test_first_draw_shows_the_chosen_topic(planted, tmp_path):
+    fit, prepared = planted
+    v = TopicView(fit, prepared, topic=3, n_boot=50, n_docs=2, downloads=tmp_path)
+    try:
+        for chart in (v.sources_panel.chart, v.terms_panel.map_chart):
+            focus = [p for p in chart.spec["params"] if p["name"] == charts.FOCUS]
+            assert focus[0]["value"] == 3  # the first drawing already shows topic 3
+            # a drawing reports the spec's values back (altair's front end does so on every
+            # (re)draw): the view stays the owner and sets its topic again
+            chart._params = {**chart._params, charts.FOCUS: 0}
+            assert chart.params.focus == 3 and chart._params[charts.FOCUS] == 3
+        assert v.sources_panel.topic_list.selected == 3
+        assert "Reading topic <b>3 · w30 w31 w32</b>" in v.reading_title.value
+        assert "Topic 3," in v.terms_panel.term_list.value
+        with pytest.raises(ValueError, match="'topic' parameter of TopicView"):
+            TopicView(fit, prepared, topic=K, n_boot=50)
+    finally:
+        v.close()
+
+
+def test_find_by_word_lists_topics_and_picks_one(view, planted):
+    fit, prepared = planted
+    panel = view.find_panel
+    panel.query.value = "W25"  # any case
+    expected = terms.find_topics(fit, "w25", prepared)
+    assert panel.found["topic"].tolist() == expected["topic"].tolist()
+    # planted: w25 is the 6th most probable word of topic 2, and far down every other topic
+    assert expected.iloc[0][["topic", "rank"]].tolist() == [2, 6]
+    assert panel.table.rows[0][:2] == ["2 · w20 w21 w22", 6]
+    panel.table.selected = 2  # a row clicked
+    assert view.topic == 2
+    view.terms_panel.method.value = "frex"  # a word's rank follows the ranking on show
+    expected = terms.find_topics(fit, "w25", prepared, method="frex")
+    assert panel.found[["topic", "rank"]].values.tolist() == (
+        expected[["topic", "rank"]].values.tolist()
+    )
+    assert set(panel.found["method"]) == {"frex"}
+    panel.query.value = "harbor"
+    assert "Closest terms" in panel.message.value or "vocabulary" in panel.message.value
+    assert panel.table.layout.display == "none"
+
+
+def test_downloads_write_tables_and_charts_named_by_settings(planted, tmp_path):
+    fit, prepared = planted
+    v = TopicView(fit, prepared, topic=1, n_boot=50, n_docs=2, downloads=tmp_path)
+    try:
+        csv = v.sources_panel.table_downloads.save("csv")
+        assert csv.parent == tmp_path
+        assert csv.name == (
+            "differences_k4-seed0_shared-minus-visited_exposure_cluster-group_nboot50_seed0.csv"
+        )
+        assert "Saved" in v.sources_panel.table_downloads.status.value
+        assert html.escape(str(csv)) in v.sources_panel.table_downloads.status.value
+        written = pd.read_csv(csv)
+        diff = comparison.differences(fit, prepared, n_boot=50)
+        diff = diff[diff["source"] == "shared"]
+        np.testing.assert_allclose(
+            written.sort_values("topic")["difference"], diff.sort_values("topic")["difference"]
+        )
+        v.terms_panel.method.value = "frex"
+        png = v.terms_panel.map_downloads.save("png")
+        assert png.name == "term-map_k4-seed0_topic1_frexw0.5.png"
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # the PNG signature
+        svg = v.terms_panel.map_downloads.save("svg").read_text()
+        assert svg.startswith("<svg") and "w10" in svg and "w20" not in svg  # topic 1 drawn
+        table = pd.read_csv(v.terms_panel.map_downloads.save("csv"))
+        expected = terms.term_rankings(fit, prepared, "frex")
+        assert table["term"].tolist() == expected[expected["topic"] == 1]["term"].tolist()
+    finally:
+        v.close()
 
 
 def test_corpus_and_label_text_is_escaped(view, planted, store):
@@ -323,3 +432,31 @@ def test_ipython_extension_registers_magic_and_summaries(planted):
     assert "k = 4" in summary and "w00 w01 w02" in summary
     with pytest.raises(SettingsError, match="Usage: %tm_compare PROJECT"):
         shell.run_line_magic("tm_compare", "")
+
+
+def test_importing_the_views_leaves_altair_unloaded():
+    # Altair loads when the first chart is drawn (bench/import_views.py times the difference).
+    import subprocess
+    import sys
+
+    code = (
+        "import sys; from tm_compare.views import TopicView, SweepView; "
+        "print('altair' in sys.modules)"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "False"
+
+
+def test_added_panels_follow_the_one_selected_topic(view):
+    import ipywidgets
+
+    class Recorder(ipywidgets.HTML):
+        def show_topic(self, topic):
+            self.value = f"topic {topic}"
+
+    panel = Recorder()
+    view.topic = 2
+    view.add_panel(panel, "Over time", "A panel another module adds.")
+    assert panel.value == "topic 2" and panel in view.panels and panel in view.children
+    view.topic = 3
+    assert panel.value == "topic 3"

@@ -66,6 +66,7 @@ _EXPORTS = {
     "differences_over_time": "compare.over_time",
     "term_rankings": "compare.terms",
     "source_wording": "compare.terms",
+    "find_topics": "compare.terms",
     "representative_documents": "compare.documents",
     "document_topics": "compare.documents",
     "prevalence_model": "compare.covariates",

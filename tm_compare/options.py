@@ -20,7 +20,18 @@ from typing import Any
 
 from ._validation import check_choice
 
-__all__ = ["OPTIONS", "Option", "check", "choices", "cli_help", "default"]
+__all__ = [
+    "METHOD_NAMES",
+    "OPTIONS",
+    "VERDICT_WORDS",
+    "Option",
+    "check",
+    "choices",
+    "cli_help",
+    "default",
+    "verdict_rule",
+    "verdict_word",
+]
 
 
 @dataclass(frozen=True)
@@ -200,3 +211,30 @@ def cli_help(name: str) -> str:
     option = OPTIONS[name]
     shown = "none" if option.default is None else option.default
     return f"{option.help} [{shown}]"
+
+
+# -- words shown for values: one word per meaning on every surface (views, report, command line)
+
+#: A difference between sources whose Benjamini-Hochberg adjusted p-value is at most ``fdr``
+#: "holds up"; any other "could be chance". Tables keep the boolean column ``significant``.
+VERDICT_WORDS = {True: "holds up", False: "could be chance"}
+#: The term rankings of option ``method`` as the views and the report name them.
+METHOD_NAMES = {
+    "probability": "frequent",
+    "frex": "distinctive (FREX)",
+    "lift": "lift",
+    "relevance": "weighted (Sievert & Shirley 2014)",
+}
+
+
+def verdict_word(holds) -> str:
+    """The word for a difference between sources: ``"holds up"`` or ``"could be chance"``."""
+    return VERDICT_WORDS[bool(holds)]
+
+
+def verdict_rule(fdr) -> str:
+    """What "holds up" means, in one sentence (shown beside the charts and tables)."""
+    return (
+        f"A difference {VERDICT_WORDS[True]} when its adjusted p-value is at most {fdr} "
+        f"(Benjamini-Hochberg across topics); otherwise it {VERDICT_WORDS[False]}."
+    )

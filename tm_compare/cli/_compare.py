@@ -16,7 +16,7 @@ from pathlib import Path
 import pandas as pd
 
 from .._deprecation import warn_renamed
-from ..options import OPTIONS, default
+from ..options import OPTIONS, default, verdict_word
 from . import add_option
 
 #: Tables ``compare`` writes, of those :meth:`ModelResults.tables` returns.
@@ -143,6 +143,7 @@ def summary(table: pd.DataFrame, fit, n_topics: int = default("n_topics")) -> pd
         for d, lo, hi in top[["difference", "diff_ci_low", "diff_ci_high"]].itertuples(index=False)
     ]
     top["p adj."] = top["p_adjusted"].map("{:.3g}".format)
+    top["verdict"] = top["significant"].map(verdict_word)
     top["comparison"] = top["source"] + " vs " + top["other"]
     return top[
         [
@@ -153,6 +154,7 @@ def summary(table: pd.DataFrame, fit, n_topics: int = default("n_topics")) -> pd
             "prevalence_other",
             "difference (CI)",
             "p adj.",
+            "verdict",
         ]
     ].round(3)
 

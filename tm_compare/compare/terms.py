@@ -12,6 +12,15 @@ Term rankings (``phi_kw = p(w | k)``, ``p_w`` the corpus share of term w):
 
 ``p_w`` is the empirical share of term w in the prepared corpus when ``prepared`` is given,
 otherwise the model's marginal ``sum_k pi_k phi_kw`` with ``pi`` the mean topic share.
+
+Every ranking's score grows with its order (rank 1 has the highest score); relevance scores are
+logs, hence negative, so charts draw ranks, never raw scores, as lengths.
+
+Beside each ranked term: ``probability`` (``phi_kw``, how much of the topic the term is) and
+``share_of_term`` (``p(k | w) = pi_k phi_kw / sum_j pi_j phi_jw``, how much of the term's use falls
+in the topic, with ``pi`` the topics' share of the corpus's tokens; Bayes' rule). The term map of
+the topic view plots one against the other. :func:`find_topics` lists the topics where a word
+ranks high.
 """
 
 from __future__ import annotations
@@ -75,8 +84,9 @@ def term_rankings(
     Returns
     -------
     DataFrame, ``n_terms`` rows per topic: ``topic``, ``rank`` (1 = first), ``term``,
-    ``term_id``, ``score``, ``probability`` (``phi_kw``), ``method``, ``parameter``
-    (``lam`` for relevance, ``frex_weight`` for FREX, NaN otherwise). Ties keep term-id order.
+    ``term_id``, ``score``, ``probability`` (``phi_kw``), ``share_of_term`` (``p(k | w)``),
+    ``method``, ``parameter`` (``lam`` for relevance, ``frex_weight`` for FREX, NaN otherwise).
+    Ties keep term-id order.
     """
     owner = "term_rankings"
     check_choice(owner, "method", method, _METHODS)
@@ -89,6 +99,7 @@ def term_rankings(
     phi = _topic_term(fit, owner)
     score = ranking_scores(phi, method, lam, frex_weight, lambda: _term_share(fit, prepared, phi))
     order = np.argsort(-np.nan_to_num(score, nan=-np.inf), axis=1, kind="stable")[:, :n_terms]
+    share = topic_given_term(fit, prepared, phi)
     k, n = order.shape
     rows = np.repeat(np.arange(k), n)
     vocab = np.asarray(fit.vocab, dtype=object)
@@ -101,6 +112,7 @@ def term_rankings(
             "term_id": order.ravel(),
             "score": score[rows, order.ravel()],
             "probability": phi[rows, order.ravel()],
+            "share_of_term": share[rows, order.ravel()],
             "method": method,
             "parameter": parameter,
         }
@@ -131,6 +143,88 @@ def ranking_scores(
         if method == "lift":
             return np.exp(log_lift)
         return lam * np.log(phi) + (1 - lam) * log_lift
+
+
+def topic_given_term(fit, prepared=None, phi=None) -> np.ndarray:
+    """``p(k | w)`` (k x V): the share of each term's use that falls in each topic.
+
+    Bayes' rule on the model, ``pi_k phi_kw / sum_j pi_j phi_jw``, with ``pi_k`` the topic's
+    share of the tokens (documents weighted by their length in ``prepared``; without it, the mean
+    topic share). A term no topic uses gives NaN.
+    """
+    phi = _topic_term(fit, "topic_given_term") if phi is None else phi
+    theta = np.asarray(fit.doc_topic, dtype=float)
+    if prepared is not None:
+        lengths = np.asarray(count_matrix(prepared, phi.shape[1]).sum(axis=1)).ravel()
+        if len(lengths) == len(theta) and lengths.sum() > 0:
+            pi = lengths @ theta / lengths.sum()
+        else:
+            pi = theta.mean(axis=0)
+    else:
+        pi = theta.mean(axis=0)
+    joint = pi[:, None] * phi
+    with np.errstate(divide="ignore", invalid="ignore"):
+        total = joint.sum(axis=0, keepdims=True)
+        return joint / np.where(total > 0, total, np.nan)
+
+
+def find_topics(
+    fit,
+    word: str,
+    prepared=None,
+    *,
+    method: str = default("method"),
+    n_terms: int = 30,
+    lam: float = default("lam"),
+    frex_weight: float = default("frex_weight"),
+) -> pd.DataFrame:
+    """The topics where ``word`` ranks among the top ``n_terms`` terms, best rank first.
+
+    ``word`` matches a vocabulary term whatever its case; a phrase term such as
+    ``city_council`` is also found as "city council" or "city-council". A word absent from the
+    vocabulary raises SettingsError naming the closest terms.
+
+    Returns
+    -------
+    DataFrame, one row per topic where the word ranks high (empty when it ranks high nowhere),
+    best rank first, then the topic the word is more of:
+    ``topic``, ``term``, ``rank`` (1 = first under ``method``), ``score``, ``probability``
+    (``p(w | k)``), ``share_of_term`` (``p(k | w)``), ``method``, ``n_terms``.
+    """
+    import difflib
+    import re
+
+    owner = "find_topics"
+    check_choice(owner, "method", method, _METHODS)
+    if not (isinstance(n_terms, int | np.integer) and n_terms >= 1):
+        raise param_error(owner, "n_terms", n_terms, "an integer >= 1")
+    if not isinstance(word, str) or not word.strip():
+        raise param_error(owner, "word", word, "a word of the model's vocabulary")
+    wanted = "_".join(w for w in re.split(r"[\s_-]+", word.strip().lower()) if w)
+    vocab = [str(v) for v in fit.vocab]
+    hits = [i for i, v in enumerate(vocab) if v.lower() == wanted]
+    if not hits:
+        close = difflib.get_close_matches(wanted, vocab, n=5, cutoff=0.6)
+        fix = (
+            f"Closest terms: {', '.join(close)}."
+            if close
+            else "Check the spelling, or look at fit.vocab."
+        )
+        accepted = f"a term of the model's vocabulary ({len(vocab):,} terms)"
+        raise param_error(owner, "word", word, accepted, fix)
+    table = term_rankings(
+        fit,
+        prepared,
+        method,
+        n_terms=min(int(n_terms), len(vocab)),
+        lam=lam,
+        frex_weight=frex_weight,
+    )
+    found = table[table["term_id"].isin(hits)].sort_values(
+        ["rank", "probability", "topic"], ascending=[True, False, True], kind="stable"
+    )
+    columns = ["topic", "term", "rank", "score", "probability", "share_of_term", "method"]
+    return found[columns].reset_index(drop=True).assign(n_terms=int(n_terms))
 
 
 def _topic_term(fit, owner):

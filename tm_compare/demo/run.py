@@ -17,7 +17,7 @@ from typing import Any
 
 from .._atomic import atomic_path, atomic_write_json
 from .._deprecation import renamed_parameters
-from ..options import default
+from ..options import default, verdict_word
 from ..project import Project
 from . import quillhaven as demo
 
@@ -170,7 +170,8 @@ def _differences_summary(results, n_topics: int = 4) -> str:
         lines.append(
             f"  {results.captions[r.topic]}: {r.source} {r.prevalence:.3f} vs {r.other} "
             f"{r.prevalence_other:.3f}, difference {r.difference:+.3f} "
-            f"[{r.diff_ci_low:+.3f}, {r.diff_ci_high:+.3f}], p adj. {r.p_adjusted:.3g}"
+            f"[{r.diff_ci_low:+.3f}, {r.diff_ci_high:+.3f}], p adj. {r.p_adjusted:.3g}: "
+            f"{verdict_word(r.significant)}"
         )
     return "\n".join(lines)
 

@@ -18,6 +18,7 @@ from .. import _html
 from ..labels.agreement import explain_agreement
 from ..models.quality import topic_badge
 from ..models.sweep_summary import health
+from ..options import VERDICT_WORDS, verdict_word
 from ..text.languages import is_only_english, language_mix
 from .exports import chart_svg, charts
 
@@ -260,6 +261,8 @@ def comparison_section(results, made: dict) -> dict | None:
         "ci": f"{first['ci_level']:.0%}",
         "interval": first["interval"],
         "fdr": first["fdr"],
+        "holds": VERDICT_WORDS[True],
+        "chance": VERDICT_WORDS[False],
         "chart": image(made["sources"], "Prevalence of each topic per source, and the difference")
         if "sources" in made
         else None,
@@ -274,7 +277,7 @@ def comparison_section(results, made: dict) -> dict | None:
                 (lambda r: interval(r["diff_ci_low"], r["diff_ci_high"]), "interval", None),
                 ("ratio", "ratio", lambda v: num(v, 2)),
                 ("p_adjusted", "adjusted p", pval),
-                ("significant", "stands", None),
+                ("significant", "verdict", verdict_word),
             ],
             key="differences",
         ),

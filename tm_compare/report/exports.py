@@ -27,7 +27,7 @@ from .._csv import to_csv
 from .._deprecation import warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import ProjectError
-from ..options import default
+from ..options import METHOD_NAMES, default
 from ..results import CANDIDATES, ModelResults
 
 TABLE_FORMATS = ("csv", "parquet")
@@ -194,10 +194,13 @@ def charts(results: Results, measure: str = default("measure")) -> dict:
     if "differences" in results.tables:
         prev, diff = results.chart_frames()
         out["sources"] = ch.source_chart(prev, diff, contrast=_contrast(results))
-    terms = results.tables["terms"].query("method == 'frex'")
+    terms = results.tables["terms"]
     for topic in range(results.fit.k):
-        out[f"terms-topic{topic}"] = ch.terms_chart(
-            terms[["topic", "term", "score", "rank"]], focus=topic, title="FREX score"
+        out[f"terms-topic{topic}"] = ch.term_map(
+            terms[terms["method"] == "frex"],
+            focus=topic,
+            ranking=METHOD_NAMES["frex"],
+            context=terms[terms["method"] == "probability"],
         )
     return out
 
@@ -470,7 +473,8 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "term": "the term",
             "term_id": "its id in the prepared dictionary",
             "score": "the ranking's score",
-            "probability": "p(term | topic)",
+            "probability": "p(term | topic): how much of the topic the term is",
+            "share_of_term": "p(topic | term): how much of the term's use falls in the topic",
             "method": "'probability', 'frex', 'relevance' or 'lift'",
             "parameter": "FREX weight or relevance lambda (empty otherwise)",
             "n_terms": "terms kept per topic and method",

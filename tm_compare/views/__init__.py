@@ -6,7 +6,8 @@
 - :mod:`.ipython`: ``%load_ext tm_compare`` and the ``%tm_compare`` line magic.
 
 Every number shown comes from :mod:`tm_compare.results`; the views only arrange it. The widget
-classes are imported on first use, so that the report can draw charts without ipywidgets.
+classes are imported on first use, so that the report can draw charts without ipywidgets, and
+Altair when the first chart is built, so that importing the views stays fast.
 """
 
 import importlib

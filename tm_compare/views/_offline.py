@@ -4,6 +4,13 @@
 switch builds a ~0.9 MB bundle in every kernel (3-9 s). Here the bundle is built once per
 (altair, vl-convert, Vega-Lite) version with vl-convert, cached under the user cache folder,
 and a ``JupyterChart`` subclass points its ``_esm`` at that file, so a kernel reads it once.
+
+A chart's front end, when it draws (or draws again, e.g. when a cell is re-shown), takes its
+parameters from the spec and reports them back to Python, overwriting any value Python set before
+the drawing existed. :meth:`hold_param` makes Python the owner: the held value is set now, and set
+again whenever the front end reports another one (the "wrong topic on first draw" defect).
+
+Altair itself is imported only when the first chart widget is made.
 """
 
 from __future__ import annotations
@@ -13,7 +20,6 @@ import os
 from importlib import metadata
 from pathlib import Path
 
-import altair as alt
 import platformdirs
 
 from .._atomic import atomic_write_text
@@ -35,6 +41,8 @@ def cache_dir() -> Path:
 def _widget_source() -> str:
     # altair's own front-end code, minus the CDN imports that the bundle replaces
     # (the same trimming altair's JupyterChart.enable_offline does).
+    import altair as alt
+
     src = (Path(alt.__file__).parent / "jupyter" / "js" / "index.js").read_text(encoding="utf-8")
     lines = src.split("\n")
     while lines and (not lines[0].strip() or lines[0].startswith(("import", "//"))):
@@ -56,19 +64,43 @@ def bundle_path() -> Path:
     return path
 
 
+def _hold_param(self, name: str, value) -> None:
+    """Keep parameter ``name`` at ``value``: set it now, and again whenever a drawing of the
+    chart (or a new chart given to the widget) reports another value."""
+    self._held = {**getattr(self, "_held", {}), name: value}
+    if getattr(self.params, name, None) != value:
+        setattr(self.params, name, value)
+
+
+def _reassert(self, change) -> None:
+    # Runs after JupyterChart's own observer copied the front end's values into ``params``.
+    for name, value in getattr(self, "_held", {}).items():
+        if name in change["new"] and change["new"][name] != value:
+            setattr(self.params, name, value)
+
+
 @functools.cache
-def chart_class() -> type[alt.JupyterChart]:
+def chart_class() -> type:
     """The ``JupyterChart`` subclass whose front end is the cached bundle (made once per kernel)."""
+    import altair as alt
+    import traitlets
+
     # anywidget turns a Path class attribute into file contents when the class is created,
     # so the class is made only after the bundle exists.
     return type(
         "OfflineChart",
         (alt.JupyterChart,),
-        {"_esm": bundle_path(), "__module__": __name__, "__doc__": "JupyterChart served offline."},
+        {
+            "_esm": bundle_path(),
+            "__module__": __name__,
+            "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's.",
+            "hold_param": _hold_param,
+            "_reassert_held": traitlets.observe("_params")(_reassert),
+        },
     )
 
 
-def chart_widget(chart: alt.TopLevelMixin, **kwargs) -> alt.JupyterChart:
+def chart_widget(chart, **kwargs):
     """Wrap an Altair chart in an offline widget (SVG renderer, no action menu)."""
     kwargs.setdefault("embed_options", EMBED_OPTIONS)
     return chart_class()(chart, **kwargs)

@@ -5,10 +5,12 @@ from __future__ import annotations
 import ipywidgets as w
 import traitlets
 
+from ..options import verdict_rule, verdict_word
 from ..results import ModelResults
 from ..text.languages import describe_mix, is_only_english
 from . import charts
 from ._cards import esc
+from ._downloads import Downloads, with_params
 from ._offline import chart_widget
 from ._row_table import RowTable
 
@@ -27,14 +29,18 @@ class SourcesPanel(w.VBox):
         Its settings are the controls' first values.
     on_pick : callable(int)
         Called with the topic clicked in the chart or the topic list.
+    topic : int
+        The topic in focus when the panel is first drawn.
+    downloads : callable, optional
+        The topic view's file namer (see :class:`tm_compare.views.topic_view.TopicView`).
     """
 
     results = traitlets.Instance(ModelResults, help="The results on show (current settings).")
 
-    def __init__(self, results: ModelResults, on_pick):
+    def __init__(self, results: ModelResults, on_pick, *, topic: int = 0, downloads=None):
         self._base = results
         self._on_pick = on_pick
-        self._topic = 0
+        self._topic = int(topic)
         self.weighting = w.ToggleButtons(
             options=[("by exposure", "exposure"), ("each article once", "unique")],
             value=results.settings["weighting"],
@@ -73,14 +79,29 @@ class SourcesPanel(w.VBox):
         self.languages = w.HTML(
             mix and f"<small>Languages: {esc(mix.replace(chr(10), '; '))}</small>"
         )
-        self.children = [
-            w.HBox([self.weighting, self.cluster, self.contrast]),
+        children = [
+            w.HBox(
+                [self.weighting, self.cluster, self.contrast],
+                layout=w.Layout(flex_flow="row wrap"),
+            ),
             self.languages,
             self.warning,
             self.chart,
             self.note,
             self.topic_list,
         ]
+        if downloads is not None:
+            folder, stem = downloads("sources", self._file_parts)
+            self.chart_downloads = Downloads(
+                folder, stem, table=self._chart_table, chart=self._spec, name="sources"
+            )
+            folder, stem = downloads("differences", self._file_parts)
+            self.table_downloads = Downloads(
+                folder, stem, table=self.differences, name="differences"
+            )
+            children.insert(3, self.chart_downloads)
+            children.append(self.table_downloads)
+        self.children = children
         self._refresh_list()
 
     def _frames_for_settings(self):
@@ -109,8 +130,8 @@ class SourcesPanel(w.VBox):
         note = (
             f"Counting {'by exposure' if row['weighting'] == 'exposure' else 'each article once'}; "
             f"{row['ci_level']:.0%} {row['interval']} intervals from {row['n_boot']} bootstrap "
-            f"replicates resampling {resample}. Red: adjusted p <= {row['fdr']} "
-            "(Benjamini-Hochberg across topics). Topics ordered by difference."
+            f"replicates resampling {resample}. {verdict_rule(row['fdr'])} "
+            "Topics ordered by difference."
         )
         self._update_warning()
         return charts.source_chart(
@@ -132,7 +153,8 @@ class SourcesPanel(w.VBox):
         )
         threshold = float(flagged["threshold"].iloc[0])
         self.warning.value = (
-            '<div class="tmc-influence" style="border-left:4px solid #b5523b;background:#fbeeea;'
+            f'<div class="tmc-influence" style="border-left:4px solid {charts.WARN};'
+            f"background:{charts.WARN_BG};"
             'padding:6px 10px;font-size:12px"><b>One cluster may be driving a source.</b> '
             f"Above the {threshold:.0%} share threshold:<ul style='margin:2px 0'>{items}</ul>"
             "Try counting each article once, or see the cap effect "
@@ -160,8 +182,9 @@ class SourcesPanel(w.VBox):
             f"[{lo:+.3f}, {hi:+.3f}]" for lo, hi in zip(diff["lower"], diff["upper"], strict=True)
         ]
         shown["p_adjusted"] = shown["p_adjusted"].map("{:.3g}".format)
-        shown = shown[["topic", "name", "estimate", "interval", "p_adjusted"]]
-        shown.columns = ["topic", "top words", "difference", "interval", "adjusted p"]
+        shown["verdict"] = [verdict_word(v) for v in diff["clear"]]
+        shown = shown[["topic", "name", "estimate", "interval", "p_adjusted", "verdict"]]
+        shown.columns = ["topic", "top words", "difference", "interval", "adjusted p", "verdict"]
         self.topic_list.show_frame(shown, diff["topic"].tolist())
         self.topic_list.selected = self._topic
 
@@ -176,6 +199,42 @@ class SourcesPanel(w.VBox):
             self._on_pick(int(change["new"]))
 
     def show_topic(self, topic: int) -> None:
-        self._topic = topic
-        self.chart.params.focus = topic
-        self.topic_list.selected = topic
+        self._topic = int(topic)
+        self.chart.hold_param(charts.FOCUS, self._topic)
+        self.topic_list.selected = self._topic
+
+    # --- downloads ---------------------------------------------------------------------------
+
+    def _file_parts(self) -> list[str]:
+        a, b = self.pair
+        s = self.results.settings
+        return [
+            f"{a}-minus-{b}",
+            s["weighting"],
+            f"cluster-{s['cluster'] or 'document'}",
+            f"nboot{s['n_boot']}",
+            f"seed{s['random_state']}",
+        ]
+
+    def differences(self):
+        """The differences table of the comparison on show (every topic, with its settings)."""
+        a, b = self.pair
+        diff = self.results.differences()
+        return diff[(diff["source"] == a) & (diff["other"] == b)].reset_index(drop=True)
+
+    def _chart_table(self):
+        prev, diff = self._frames()
+        return prev.merge(
+            diff[["topic", "estimate", "lower", "upper", "clear"]].rename(
+                columns={
+                    "estimate": "difference",
+                    "lower": "diff_lower",
+                    "upper": "diff_upper",
+                    "clear": "holds_up",
+                }
+            ),
+            on="topic",
+        )
+
+    def _spec(self) -> dict:
+        return with_params(self.chart.spec, {charts.FOCUS: self._topic})

@@ -10,39 +10,46 @@ term), never one row per document. Clicks reach Python through named selections:
 :func:`time_chart` also holds every topic and shows the one in ``focus``.
 
 The topic on show is a variable parameter named ``focus``: a widget changes it without rebuilding
-the chart (``chart_widget.params.focus = 3``).
+the chart (``chart_widget.params.focus = 3``); a chart built for a view carries the view's topic as
+the parameter's first value, so it is right from the first draw.
+
+Colour means one thing: which source. Everything else is drawn in ink: whether a difference
+holds up is the mark's fill (filled: holds up; hollow: could be chance, words from
+:data:`tm_compare.options.VERDICT_WORDS`), the topic in focus a pale band behind its row.
+
+Altair is imported when the first chart is built, so importing the views stays fast.
 """
 
 from __future__ import annotations
 
 import warnings
 
-import altair as alt
 import pandas as pd
 
-#: Our palette: a deep teal and a brick red for two sources, then further sources.
-PALETTE = ["#1b6f80", "#b5523b", "#6b8e23", "#8a5fa8", "#c28f1c", "#4f5d75"]
-INK = "#2b2d31"
-FAINT = "#c9ccd1"
-ACCENT = "#e0a526"
-
-FIT_PICK = "fit_pick"
-TOPIC_PICK = "topic_pick"
-FOCUS = "focus"
-PICKED = "picked"
-
-
-def fit_key(k: int, seed: int) -> str:
-    """The ``"k:seed"`` key of one fit, as the ``picked`` parameter of :func:`sweep_chart` holds it."""
-    return f"{int(k)}:{int(seed)}"
-
-
-def _focus_param(focus: int | None) -> alt.Parameter:
-    return alt.param(name=FOCUS, value=-1 if focus is None else int(focus))
-
-
-def _source_scale(sources: list[str]) -> alt.Scale:
-    return alt.Scale(domain=list(sources), range=PALETTE[: max(1, len(sources))])
+from ..options import VERDICT_WORDS, verdict_word
+from ._chart_style import (  # noqa: F401  (re-exported: charts.INK, charts.FOCUS, ...)
+    ACCENT,
+    BAND,
+    CAPTION_CHARS,
+    CHAR_PX,
+    FAINT,
+    FIT_PICK,
+    FOCUS,
+    INK,
+    PADDING,
+    PALETTE,
+    PICKED,
+    TOPIC_PICK,
+    WARN,
+    WARN_BG,
+    _alt,
+    _focus_param,
+    _source_scale,
+    fit_key,
+    short,
+    wrap,
+)
+from ._term_map import MAP_PAD, term_map  # noqa: F401  (re-exported)
 
 
 def sweep_chart(
@@ -52,9 +59,9 @@ def sweep_chart(
     recommended_k: int | None = None,
     rule: str | None = None,
     picked: tuple[int, int] | None = None,
-    width: int = 460,
+    width: int = 440,
     height: int = 240,
-) -> alt.LayerChart:
+):
     """Score against k: one dot per seed, the mean over seeds as a line, the seed range as a band.
 
     Parameters
@@ -69,6 +76,7 @@ def sweep_chart(
         The fit on show, drawn in the accent colour; a variable parameter named ``picked``
         (``"k:seed"``) so a widget can move it in place.
     """
+    alt = _alt()
     data = scores[["k", "seed", "value"]].dropna(subset=["value"]).copy()
     data["k"] = data["k"].astype(int)
     data["seed"] = data["seed"].astype(int)
@@ -78,7 +86,7 @@ def sweep_chart(
         title="number of topics (k)",
         scale=alt.Scale(zero=False),
         # Ticks at the k values fitted: an automatic integer axis repeats labels on short grids.
-        axis=alt.Axis(values=sorted(data["k"].unique().tolist()), format="d"),
+        axis=alt.Axis(values=_thin(sorted(data["k"].unique().tolist()), width), format="d"),
     )
     base = alt.Chart(data)
     band = base.mark_area(opacity=0.18, color=PALETTE[0]).encode(
@@ -92,8 +100,9 @@ def sweep_chart(
         .encode(
             x=x,
             y="value:Q",
-            color=alt.condition(is_picked, alt.value(PALETTE[1]), alt.value(INK)),
-            opacity=alt.condition(is_picked, alt.value(1.0), alt.value(0.55)),
+            # The fit on show: a large ink dot; the others smaller and paler (no source colour).
+            color=alt.condition(is_picked, alt.value(INK), alt.value("#6b7078")),
+            opacity=alt.condition(is_picked, alt.value(1.0), alt.value(0.5)),
             size=alt.condition(is_picked, alt.value(140), alt.value(60)),
             tooltip=[
                 alt.Tooltip("k:Q"),
@@ -118,23 +127,29 @@ def sweep_chart(
             .mark_text(align="left", dx=5, dy=-4, color=INK, fontWeight="bold")
             .encode(x="k:Q", y=alt.value(8), text="note:N")
         )
-    subtitle = rule or ""
     return alt.layer(*layers).properties(
         width=width,
         height=height,
+        padding=PADDING,
         title=alt.Title(
-            f"{title} against k (dots: seeds; band: range over seeds)",
-            subtitle=_wrap(subtitle),
+            wrap(f"{title} against k (dots: seeds; band: range over seeds)", width),
+            subtitle=wrap(rule or "", width),
             anchor="start",
             fontSize=13,
         ),
     )
 
 
-def _wrap(text: str, width: int = 90) -> list[str]:
-    import textwrap
-
-    return textwrap.wrap(text, width) if text else []
+def _thin(values: list, width: int, min_px: int = 28) -> list:
+    """At most one tick every ``min_px`` pixels: every n-th value, always the first and last."""
+    room = max(2, int(width / min_px))
+    if len(values) <= room:
+        return values
+    step = -(-len(values) // room)  # ceiling division
+    kept = values[::step]
+    if kept[-1] != values[-1]:
+        kept[-1] = values[-1]
+    return kept
 
 
 def source_chart(
@@ -144,8 +159,9 @@ def source_chart(
     focus: int | None = None,
     contrast: str = "difference",
     note: str = "",
-    row_height: int = 16,
-) -> alt.HConcatChart:
+    row_height: int = 18,
+    width: int = 720,
+):
     """Each topic's prevalence per source, and the difference between sources, topics in one order.
 
     Parameters
@@ -155,20 +171,35 @@ def source_chart(
         ``upper``: one row per topic and source.
     difference : DataFrame
         Columns ``topic``, ``name``, ``estimate``, ``lower``, ``upper``, ``clear`` (bool: the
-        difference stands, e.g. its adjusted p-value is below the false discovery rate); its row
-        order is the order of the topics on both panels.
+        difference holds up, i.e. its adjusted p-value is at most the false discovery rate); its
+        row order is the order of the topics on both panels.
     focus : int, optional
-        The topic drawn in full colour; the others are faded.
+        The topic with a band behind its row in both panels (a variable parameter, ``focus``).
     contrast : str
         Axis title of the right-hand panel (which sources are compared).
+    note : str
+        How the numbers were made, wrapped under the title.
+    width : int
+        Pixels for the whole chart: labels, both panels and the gap between them.
     """
+    alt = _alt()
     order = difference["name"].tolist()
     sources = sorted(prevalence["source"].unique().tolist())
     height = max(120, row_height * len(order))
+    labels = {name: short(name) for name in order}
+    label_px = min(230, int(CHAR_PX * max((len(v) for v in labels.values()), default=8)) + 12)
+    left_w = max(160, int((width - label_px - 16) * 0.56))
+    right_w = max(140, width - label_px - 16 - left_w)
     pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
-    focus_param = _focus_param(focus)
-    faded = alt.condition(f"datum.topic == {FOCUS} || {FOCUS} < 0", alt.value(1.0), alt.value(0.35))
-    y = alt.Y("name:N", sort=order, title=None, axis=alt.Axis(labelLimit=260))
+    short_expr = " : ".join(
+        f"datum.value === {_js(name)} ? {_js(text)}"
+        for name, text in labels.items()
+        if name != text
+    )
+    # Long captions are shortened on the axis only (whole in the tooltip and the data).
+    shortened = {"labelExpr": f"{short_expr} : datum.value"} if short_expr else {}
+    axis = alt.Axis(labelLimit=label_px, **shortened)
+    y = alt.Y("name:N", sort=order, title=None, axis=axis)
     y_bare = alt.Y("name:N", sort=order, axis=None)
     offset = alt.YOffset("source:N", scale=alt.Scale(domain=sources))
     colour = alt.Color(
@@ -181,101 +212,133 @@ def source_chart(
         alt.Tooltip("lower:Q", format=".3f"),
         alt.Tooltip("upper:Q", format=".3f"),
     ]
+    bands = difference[["topic", "name"]].assign(
+        band="selected topic " + difference["name"].astype(str)
+    )
+
+    def band(y_channel, panel_width):
+        # The topic in focus: a pale band across the panel, behind the marks.
+        return (
+            alt.Chart(bands)
+            .transform_filter(f"datum.topic == {FOCUS}")
+            .mark_rect(color=BAND)
+            .encode(
+                y=y_channel,
+                x=alt.value(0),
+                x2=alt.value(panel_width),
+                description="band:N",
+            )
+        )
+
     base = alt.Chart(prevalence)
     left = (
         alt.layer(
+            band(y, left_w),
             base.mark_rule(strokeWidth=2).encode(
                 x=alt.X(
                     "lower:Q",
                     title="share of the source (interval)",
-                    axis=alt.Axis(format=".0%", tickCount=4),
+                    axis=alt.Axis(format=".0%", tickCount=max(2, left_w // 70)),
                 ),
                 x2="upper:Q",
                 y=y,
                 yOffset=offset,
                 color=colour,
-                opacity=faded,
             ),
             base.mark_point(filled=True, size=45, cursor="pointer").encode(
-                x="estimate:Q", y=y, yOffset=offset, color=colour, opacity=faded, tooltip=tip
+                x="estimate:Q", y=y, yOffset=offset, color=colour, tooltip=tip
             ),
         )
         .add_params(pick)
-        .properties(width=300, height=height, title="How much each source carries each topic")
+        .properties(
+            width=left_w,
+            height=height,
+            title=alt.Title(
+                wrap("How much each source carries each topic", left_w), anchor="start"
+            ),
+        )
     )
-    diff_base = alt.Chart(difference)
-    diff_colour = alt.condition("datum.clear", alt.value(PALETTE[1]), alt.value(INK))
+    diff = difference.assign(
+        verdict=[verdict_word(v) for v in difference["clear"]],
+    )
+    diff_base = alt.Chart(diff)
+    diff_tip = [
+        alt.Tooltip("name:N", title="topic"),
+        alt.Tooltip("estimate:Q", format="+.3f"),
+        alt.Tooltip("lower:Q", format="+.3f"),
+        alt.Tooltip("upper:Q", format="+.3f"),
+        alt.Tooltip("verdict:N"),
+    ]
+
+    def diamonds(holds: bool):
+        return (
+            diff_base.transform_filter("datum.clear" if holds else "!datum.clear")
+            .mark_point(
+                filled=holds,
+                size=60,
+                shape="diamond",
+                color=INK,
+                stroke=INK,
+                opacity=1,
+                strokeWidth=1.5,
+                cursor="pointer",
+            )
+            .encode(x="estimate:Q", y=y_bare, tooltip=diff_tip)
+        )
+
     right = (
         alt.layer(
+            band(y_bare, right_w),
             alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
-            diff_base.mark_rule(strokeWidth=2).encode(
-                x=alt.X("lower:Q", title=contrast, axis=alt.Axis(format="+.0%", tickCount=4)),
+            diff_base.mark_rule(strokeWidth=2, color=INK).encode(
+                x=alt.X(
+                    "lower:Q",
+                    title=wrap(contrast, right_w),
+                    axis=alt.Axis(
+                        format="+.0%", tickCount=max(2, right_w // 80), labelOverlap="greedy"
+                    ),
+                ),
                 x2="upper:Q",
                 y=y_bare,
-                color=diff_colour,
-                opacity=faded,
             ),
-            diff_base.mark_point(filled=True, size=55, shape="diamond", cursor="pointer").encode(
-                x="estimate:Q",
-                y=y_bare,
-                color=diff_colour,
-                opacity=faded,
-                tooltip=[
-                    alt.Tooltip("name:N", title="topic"),
-                    alt.Tooltip("estimate:Q", format="+.3f"),
-                    alt.Tooltip("lower:Q", format="+.3f"),
-                    alt.Tooltip("upper:Q", format="+.3f"),
-                ],
-            ),
+            diamonds(True),
+            diamonds(False),
         )
         .add_params(pick)
-        .properties(width=230, height=height, title="Difference (red: clear)")
+        .properties(
+            width=right_w,
+            height=height,
+            title=alt.Title(
+                wrap(
+                    f"Difference (filled: {VERDICT_WORDS[True]}; hollow: {VERDICT_WORDS[False]})",
+                    right_w,
+                ),
+                anchor="start",
+            ),
+        )
     )
     with warnings.catch_warnings():
         # One click selection shared by both panels is what we want; Altair merges it and warns.
         warnings.filterwarnings("ignore", message="Automatically deduplicated selection")
-        chart = alt.hconcat(left, right, spacing=8)
-    return chart.add_params(focus_param).properties(
+        chart = alt.hconcat(left, right, spacing=16)
+    return chart.add_params(_focus_param(focus)).properties(
+        padding=PADDING,
         title=alt.Title(
-            "Topic prevalence by source", subtitle=_wrap(note, 110), anchor="start", fontSize=14
-        )
+            "Topic prevalence by source",
+            subtitle=wrap(note, width),
+            anchor="start",
+            fontSize=14,
+        ),
     )
 
 
-def terms_chart(
-    terms: pd.DataFrame, *, focus: int | None = None, title: str = "score"
-) -> alt.Chart:
-    """Top terms of the topic in focus as bars; holds every topic's terms so focus can change in place.
+def _js(text: str) -> str:
+    import json
 
-    Parameters
-    ----------
-    terms : DataFrame
-        Columns ``topic``, ``term``, ``score``, ``rank`` (1 = first): the top terms of every topic.
-    title : str
-        Name of the ranking, shown on the x axis.
-    """
-    pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
-    return (
-        alt.Chart(terms)
-        .transform_filter(f"datum.topic == {FOCUS}")
-        .mark_bar(color=PALETTE[0], cursor="pointer")
-        .encode(
-            x=alt.X("score:Q", title=title),
-            y=alt.Y("term:N", sort=alt.EncodingSortField("rank", order="ascending"), title=None),
-            tooltip=[
-                alt.Tooltip("term:N"),
-                alt.Tooltip("score:Q", format=".4g"),
-                alt.Tooltip("rank:Q"),
-            ],
-        )
-        .add_params(pick, _focus_param(focus))
-        .properties(
-            width=240, height=alt.Step(15), title=alt.Title("Terms of the topic", anchor="start")
-        )
-    )
+    return json.dumps(str(text))
 
 
-def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Chart:
+def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int = 300):
     """Terms the topic's documents use more in one source than the other, as diverging bars.
 
     Parameters
@@ -286,13 +349,20 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Cha
     sources : (str, str)
         The two sources compared, for the colours and the axis title.
     """
+    alt = _alt()
     data = wording[["term", "score"]].copy()
     data["leans"] = [sources[0] if s > 0 else sources[1] for s in data["score"]]
     return (
         alt.Chart(data)
         .mark_bar()
         .encode(
-            x=alt.X("score:Q", title=f"<- more in {sources[1]}   |   more in {sources[0]} ->"),
+            x=alt.X(
+                "score:Q",
+                title=wrap(
+                    f"\u2190 more in {sources[1]} \u00b7 more in {sources[0]} \u2192", width
+                ),
+                axis=alt.Axis(tickCount=max(2, width // 70)),
+            ),
             y=alt.Y("term:N", sort=alt.EncodingSortField("score", order="descending"), title=None),
             color=alt.Color("leans:N", scale=_source_scale(list(sources)), legend=None),
             tooltip=[
@@ -302,9 +372,10 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str]) -> alt.Cha
             ],
         )
         .properties(
-            width=240,
+            width=width,
             height=alt.Step(15),
-            title=alt.Title("How each source words it", anchor="start"),
+            padding=PADDING,
+            title=alt.Title(wrap("How each source words it", width), anchor="start"),
         )
     )
 
@@ -318,7 +389,7 @@ def time_chart(
     note: str = "",
     width: int = 560,
     height: int = 200,
-) -> alt.LayerChart:
+):
     """One topic over time: a line and a band per source; thin periods as hollow faint rings.
 
     Parameters
@@ -335,6 +406,7 @@ def time_chart(
     window : (start, end), optional
         Dates the other panels are narrowed to, shaded.
     """
+    alt = _alt()
     data = frame.copy()
     data["start"] = pd.to_datetime(data["period_start"]).dt.strftime("%Y-%m-%d")
     data = data.sort_values(["topic", "source", "start"], kind="stable")
@@ -395,15 +467,18 @@ def time_chart(
             width=width,
             height=height,
             title=alt.Title(
-                "The topic over time", subtitle=_wrap(thin + note, 110), anchor="start", fontSize=13
+                "The topic over time", subtitle=wrap(thin + note, width), anchor="start", fontSize=13
             ),
         )
     )
 
 
-def covariate_chart(
-    prevalence: pd.DataFrame, *, covariate: str, captions: dict | None = None
-) -> alt.LayerChart:
+#: Shades of ink for the values of a covariate other than the source (colour means source).
+SHADES = ["#2b2d31", "#6b7078", "#a3a8b0", "#4f5d75"]
+SHAPES = ["circle", "square", "triangle-up", "diamond", "cross", "triangle-down"]
+
+
+def covariate_chart(prevalence: pd.DataFrame, *, covariate: str, captions: dict | None = None):
     """Estimated prevalence of each topic at each value of one covariate, with intervals.
 
     Parameters
@@ -421,12 +496,23 @@ def covariate_chart(
     data["name"] = [names.get(t, str(t)) for t in data["topic"]]
     values = list(dict.fromkeys(data["value"]))
     level = float(data["ci_level"].iloc[0]) if len(data) else 0.95
+    alt = _alt()
+    # Sources keep their colours; any other covariate's values are shades of ink and shapes.
+    palette = PALETTE if covariate == "source" else SHADES
     color = alt.Color(
         "value:N",
         title=covariate,
         sort=values,
         scale=alt.Scale(
-            domain=values, range=(PALETTE * (len(values) // len(PALETTE) + 1))[: len(values)]
+            domain=values, range=(palette * (len(values) // len(palette) + 1))[: len(values)]
+        ),
+    )
+    shape = alt.Shape(
+        "value:N",
+        title=covariate,
+        sort=values,
+        scale=alt.Scale(
+            domain=values, range=(SHAPES * (len(values) // len(SHAPES) + 1))[: len(values)]
         ),
     )
     y = alt.Y("name:N", sort=alt.EncodingSortField("topic", order="ascending"), title=None)
@@ -438,6 +524,7 @@ def covariate_chart(
     )
     dots = base.mark_point(filled=True, size=40).encode(
         x="estimate:Q",
+        shape=shape,
         tooltip=[
             alt.Tooltip("name:N", title="topic"),
             alt.Tooltip("value:N", title=covariate),

@@ -2,19 +2,19 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import ipywidgets as w
 import traitlets
 
 from .._deprecation import renamed_parameters
 from .._validation import param_error
-from ..models.quality import topic_badge, topic_quality
 from ..options import default
-from ..results import ModelResults
 from ._cards import esc
-from ._labels_panel import LabelsPanel
-from ._reading_panel import DocumentsPanel, TermsPanel
-from ._sources_panel import SourcesPanel
-from ._time_panel import TimePanel
+from ._downloads import file_stem
+
+#: Where downloads go when the view knows no project: this folder under the working directory.
+DOWNLOADS_FOLDER = "tm_compare_downloads"
 
 
 def _section(title: str, hint: str) -> w.HTML:
@@ -24,13 +24,24 @@ def _section(title: str, hint: str) -> w.HTML:
     )
 
 
+def _project_downloads(labels) -> Path | None:
+    """The project's report folder when the label store is a project's ``labels.sqlite``."""
+    url = getattr(labels, "_url", None)
+    database = getattr(url, "database", None)
+    if not database or getattr(url, "drivername", "").split("+")[0] != "sqlite":
+        return None
+    folder = Path(database).parent
+    return folder / "report" if (folder / "manifest.json").exists() else None
+
+
 class TopicView(w.VBox):
     """Read one model: sources side by side, the selected topic's terms and documents, labels.
 
-    One trait, ``topic``, is the selected topic; clicking a topic in any chart or table sets it,
-    and every panel follows it. Set it from Python (``view.topic = 3``) to the same effect.
-    Every number shown comes from :attr:`results` (a :class:`tm_compare.results.ModelResults`);
-    the controls switch its settings (``view.sources_panel.results`` holds the ones on show).
+    One trait, ``topic``, is the selected topic and its only owner: clicking a topic in any
+    chart or table sets it, and every panel of :attr:`panels` draws it, on first display as after
+    every change. Set it from Python (``view.topic = 3``) to the same effect. Every number shown
+    comes from :attr:`results` (a :class:`tm_compare.results.ModelResults`); the controls switch
+    its settings (``view.sources_panel.results`` holds the ones on show).
 
     Parameters
     ----------
@@ -39,14 +50,24 @@ class TopicView(w.VBox):
         The prepared corpus the fit was trained on.
     labels : LabelStore, optional
         Show the labelling form, writing to this store.
+    topic : int, optional
+        The topic shown first (default: the one whose difference between sources is largest).
     method : "probability", "lift", "frex" or "relevance"
         The term ranking shown first (``ranking=`` is its old, deprecated name).
     poll_seconds : float or None
         How often the labelling form looks for colleagues' labels.
+    downloads : path or Project, optional
+        Folder the download buttons write to (a Project: its ``report`` folder). Default: the
+        project of ``labels`` when it is a project's store, else ``./tm_compare_downloads``.
     **settings
         Settings of :class:`tm_compare.results.ModelResults`: ``weighting``, ``cluster``,
         ``n_boot``, ``random_state``, ``n_terms``, ``n_docs``, ... (defaults from
         :mod:`tm_compare.options`).
+
+    Adding a panel
+    --------------
+    A panel is any widget with a ``show_topic(topic: int)`` method; :meth:`add_panel` puts it
+    under a heading and draws the selected topic in it at once and after every change.
     """
 
     topic = traitlets.Int(0, help="The selected topic, shared by every panel.")
@@ -58,10 +79,20 @@ class TopicView(w.VBox):
         prepared,
         labels=None,
         *,
+        topic: int | None = None,
         method: str = default("method"),
         poll_seconds=3.0,
+        downloads=None,
         **settings,
     ):
+        from ..models.quality import topic_quality
+        from ..results import ModelResults
+        from ._documents_panel import DocumentsPanel
+        from ._find_panel import FindPanel
+        from ._sources_panel import SourcesPanel
+        from ._terms_panel import TermsPanel
+        from ._time_panel import TimePanel
+
         self.results = ModelResults(fit, prepared, **settings)
         if len(self.results.sources) < 2:
             raise param_error(
@@ -71,79 +102,137 @@ class TopicView(w.VBox):
                 "a prepared corpus with at least two sources to compare",
             )
         self.fit = fit
-        self.sources_panel = SourcesPanel(self.results, self._pick)
-        self.terms_panel = TermsPanel(self.sources_panel.results, self._pick, method=method)
-        self.documents_panel = DocumentsPanel(self.results)
-        self.time_panel = TimePanel(self.results, self._narrow)
-        self.labels_panel = (
-            None if labels is None else LabelsPanel(labels, fit, poll_seconds=poll_seconds)
+        if topic is not None:
+            self._check(topic)
+        self.panels: list = []
+        folder = downloads.folder("report") if hasattr(downloads, "folder") else downloads
+        self.downloads_folder = w.Text(
+            value=str(folder or _project_downloads(labels) or Path.cwd() / DOWNLOADS_FOLDER),
+            description="Downloads go to",
+            style={"description_width": "initial"},
+            layout=w.Layout(width="100%", max_width="640px"),
         )
+        self.downloads_folder.add_class("tmc-downloads-folder")
+        if topic is None:  # the most different topic of the first comparison
+            first = int(self.results.chart_frames()[1]["topic"].iloc[0])
+        else:
+            first = int(topic)
+        # Every panel is built on the first topic, so its first drawing is already right.
+        self.sources_panel = SourcesPanel(
+            self.results, self._pick, topic=first, downloads=self._namer
+        )
+        self.terms_panel = TermsPanel(
+            self.sources_panel.results,
+            self._pick,
+            method=method,
+            topic=first,
+            downloads=self._namer,
+        )
+        self.find_panel = FindPanel(self.results, self._pick, self._ranking, downloads=self._namer)
+        for control in (self.terms_panel.method, self.terms_panel.weight):
+            # a word's rank depends on the ranking: a search on show follows it
+            control.observe(lambda _change: self.find_panel.search(), names="value")
+        self.documents_panel = DocumentsPanel(self.results)
+        self.time_panel = TimePanel(self.results, self._narrow, topic=first)
+        self.quality = topic_quality(fit)  # near-empty and near-duplicate flags per topic
+        self.labels_panel = None
+        if labels is not None:
+            from ._labels_panel import LabelsPanel
+
+            self.labels_panel = LabelsPanel(labels, fit, poll_seconds=poll_seconds)
         self.sources_panel.observe(self._settings_changed, names="results")
         self.sources_panel.contrast.observe(self._settings_changed, names="value")
         self.reading_title = w.HTML()
-        self.quality = topic_quality(fit)  # near-empty and near-duplicate flags per topic
-        children = [
-            w.HTML(
-                f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
-                f"(seed {int(fit.random_state)})</h2>"
-            ),
-            _section("Sources side by side", "Click a topic (a dot or a row) to read it below."),
-            self.sources_panel,
-            self.reading_title,
-            _section(
-                "Over time",
-                "The topic's share of each source, period by period. Pick dates to narrow "
-                "every panel to the articles of those dates.",
-            ),
-            self.time_panel,
-            _section(
-                "Terms",
-                "The topic's top terms, and the terms each source uses more when it writes on this topic.",
-            ),
-            self.terms_panel,
-            _section("Documents", "Articles most devoted to the topic, per source."),
-            self.documents_panel,
-        ]
-        if self.labels_panel is not None:
-            children += [
-                _section("Label", "Name the topic; colleagues' labels appear as they save them."),
-                self.labels_panel,
-            ]
-        super().__init__(children, layout=w.Layout(width="100%"))
+        self.reading_title.add_class("tmc-reading-title")
+        self.badges = w.HBox()  # small marks beside the heading (added by other panels)
+        self.header = w.HBox(
+            [
+                w.HTML(
+                    f'<h2 style="margin:4px 0">Model with k = {int(fit.k)} topics '
+                    f"(seed {int(fit.random_state)})</h2>"
+                ),
+                self.badges,
+            ],
+            layout=w.Layout(align_items="center"),
+        )
+        super().__init__(
+            [self.header, self.find_panel, self.downloads_folder],
+            layout=w.Layout(width="100%"),
+        )
         self.add_class("tmc-topic-view")
-        first = int(self.sources_panel._diff["topic"].iloc[0])
+        self.add_panel(
+            self.sources_panel,
+            "Sources side by side",
+            "Click a topic (a dot or a row) to read it below.",
+        )
+        self.children = [*self.children, self.reading_title]
+        self.panels.append(self.find_panel)
+        self.add_panel(
+            self.time_panel,
+            "Over time",
+            "The topic's share of each source, period by period. Pick dates to narrow every "
+            "panel to the articles of those dates.",
+        )
+        self.add_panel(
+            self.terms_panel,
+            "Terms",
+            "Where the topic's leading terms sit, the ranking you choose, and the terms each "
+            "source uses more when it writes on this topic.",
+        )
+        self.add_panel(
+            self.documents_panel, "Documents", "Articles most devoted to the topic, per source."
+        )
+        if self.labels_panel is not None:
+            self.add_panel(
+                self.labels_panel,
+                "Label",
+                "Name the topic; colleagues' labels appear as they save them.",
+            )
         if first == self.topic:
             self._update_panels(first)
         self.topic = first
 
-    @traitlets.validate("topic")
-    def _check_topic(self, proposal):
-        value = proposal["value"]
-        if not 0 <= value < self.results.k:
+    # --- panels ------------------------------------------------------------------------------
+
+    def add_panel(self, panel, title: str | None = None, hint: str = "") -> None:
+        """Show ``panel`` (a widget with ``show_topic(topic)``) at the end of the view, under
+        ``title``; it draws the selected topic now and after every change."""
+        parts = [] if title is None else [_section(esc(title), esc(hint))]
+        self.panels.append(panel)
+        self.children = [*self.children, *parts, panel]
+        if hasattr(self, "_shown"):
+            panel.show_topic(self.topic)
+
+    def _check(self, value) -> int:
+        if isinstance(value, bool) or not 0 <= int(value) < self.results.k:
             raise param_error(
                 "TopicView", "topic", value, f"a topic number from 0 to {self.results.k - 1}"
             )
-        return value
+        return int(value)
+
+    @traitlets.validate("topic")
+    def _check_topic(self, proposal):
+        return self._check(proposal["value"])
 
     @traitlets.observe("topic")
     def _topic_changed(self, change):
         self._update_panels(change["new"])
 
     def _update_panels(self, topic: int) -> None:
+        self._shown = topic
         self.reading_title.value = (
             f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
             f"Reading topic <b>{esc(self.results.captions[topic])}</b>{self._badge(topic)}</div>"
         )
-        panels = [self.sources_panel, self.terms_panel, self.documents_panel, self.labels_panel]
-        panels.append(self.time_panel)
-        for panel in panels:
-            if panel is not None:
-                panel.show_topic(topic)
+        for panel in self.panels:
+            panel.show_topic(topic)
 
     def _badge(self, topic: int) -> str:
+        from ..models.quality import topic_badge
+
         flag = topic_badge(self.quality.iloc[topic])
         return (
-            f' <span class="tmc-junk" style="font-size:12px;color:#8a4b00">(junk topic? {esc(flag)})</span>'
+            f' <span class="tmc-junk" style="font-size:12px;color:#7a5c12">(junk topic? {esc(flag)})</span>'
             if flag
             else ""
         )
@@ -155,10 +244,28 @@ class TopicView(w.VBox):
         """Every panel reads ``results``: the same model on the dates picked over time."""
         self.results = results
         self.documents_panel.results = results
+        self.find_panel.results = results
         panel = self.sources_panel
         panel._base = results
         panel._settings_changed({"owner": panel.weighting, "new": panel.weighting.value})
         self._update_panels(self.topic)
+
+    def _ranking(self):
+        """The terms panel's ranking and its weight, for the word search."""
+        from ..results import METHOD_WEIGHT
+
+        method = self.terms_panel.method.value
+        setting = METHOD_WEIGHT.get(method)
+        return method, ({} if setting is None else {setting: float(self.terms_panel.weight.value)})
+
+    def _namer(self, what: str, parts):
+        """(folder(), stem()) for the downloads of one table or chart: the file name holds the
+        model, what is shown and ``parts()`` (the settings that shaped it)."""
+
+        def stem():
+            return file_stem(what, f"k{int(self.fit.k)}-seed{int(self.fit.random_state)}", *parts())
+
+        return (lambda: Path(self.downloads_folder.value)), stem
 
     def _settings_changed(self, change):
         self.time_panel.follow(self.sources_panel.results)

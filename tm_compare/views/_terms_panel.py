@@ -1,0 +1,263 @@
+"""The terms panel: the selected topic's term map, its ranked terms, and how each source words it.
+
+The term map places each of the topic's leading terms by how much of the topic it is
+(p(term | topic), up) and how much of the term's use falls in this topic (p(topic | term),
+across). The ranking, chosen from :data:`tm_compare.options.METHOD_NAMES`, decides which terms are
+named and numbered; the terms it passes over stay on the map as faint dots, so a reader sees
+what each ranking trades. A ranking's weight is a plain number under "more options".
+"""
+
+from __future__ import annotations
+
+import ipywidgets as w
+import pandas as pd
+
+from .._html import esc
+from ..options import METHOD_NAMES, choices, default
+from ..results import METHOD_WEIGHT
+from . import charts
+from ._downloads import Downloads, with_params
+from ._offline import chart_widget
+
+#: What the weight of each weighted ranking does, as the number field says it.
+WEIGHT_HELP = {
+    "frex_weight": "weight of exclusivity against frequency (0 to 1)",
+    "lam": "weight of p(term | topic) against lift (0 to 1)",
+}
+#: Terms per topic drawn faint behind the ranked ones (the most frequent).
+CONTEXT_TERMS = 20
+
+
+def wording_frame(wording: pd.DataFrame, pair: tuple[str, str]) -> pd.DataFrame:
+    """Terms ``pair[0]`` uses more (score = z > 0), then those ``pair[1]`` uses more (z < 0)."""
+    first = wording[(wording["source"] == pair[0]) & (wording["other"] == pair[1])]
+    second = wording[(wording["source"] == pair[1]) & (wording["other"] == pair[0])]
+    return pd.concat(
+        [
+            pd.DataFrame({"term": first["term"], "score": first["z"]}),
+            pd.DataFrame({"term": second["term"], "score": -second["z"]}),
+        ],
+        ignore_index=True,
+    )
+
+
+class TermsPanel(w.VBox):
+    """The term map and ranked terms of the selected topic, and the sources' wording of it.
+
+    ``results`` (a :class:`tm_compare.results.ModelResults`) and ``pair`` may be replaced (the
+    topic view does when the weighting or the sources compared change); the next
+    :meth:`show_topic` reads them.
+
+    Parameters
+    ----------
+    results : ModelResults
+    on_pick : callable(int)
+        Called with a topic clicked on the map.
+    method : str
+        The ranking shown first (one of option ``method``).
+    topic : int
+        The topic drawn first.
+    downloads : callable(str, **parts) -> (folder(), stem()) pair maker, optional
+        Given by the topic view: where files go and how they are named.
+    """
+
+    def __init__(self, results, on_pick, *, method=default("method"), topic=0, downloads=None):
+        self.results = results
+        self.pair = tuple(results.sources[:2])
+        self._topic = int(topic)
+        self._specs: dict = {}
+        self._syncing = False
+        self.method = w.Dropdown(
+            options=[(METHOD_NAMES[m], m) for m in choices("method")],
+            value=method,
+            description="Rank terms",
+            style={"description_width": "initial"},
+            layout=w.Layout(width="330px"),
+        )
+        self.more = w.ToggleButton(
+            value=False,
+            description="more options",
+            tooltip="Show the ranking's weight",
+            layout=w.Layout(width="120px"),
+        )
+        self.weight = w.BoundedFloatText(
+            min=0.0,
+            max=1.0,
+            step=0.05,
+            description="weight",
+            layout=w.Layout(width="150px"),
+        )
+        self.method.add_class("tmc-ranking")
+        self.more.add_class("tmc-more-options")
+        self.weight.add_class("tmc-weight")
+        self.weight_help = w.HTML()
+        self.options_box = w.HBox([self.weight, self.weight_help])
+        self._sync_weight_control()
+        self.map_chart = chart_widget(self._map_chart())
+        self.map_chart.add_class("tmc-terms")
+        self.map_chart.selections.observe(
+            lambda ch: ch["new"].value and on_pick(int(ch["new"].value[0]["topic"])),
+            names=[charts.TOPIC_PICK],
+        )
+        self.term_list = w.HTML(layout=w.Layout(width="250px", margin="28px 0 0 12px"))
+        self.term_list.add_class("tmc-term-list")
+        self.wording_chart = chart_widget(self._wording_chart(self._topic))
+        self.wording_chart.add_class("tmc-wording")
+        self.method.observe(self._method_changed, names="value")
+        self.weight.observe(self._method_changed, names="value")
+        self.more.observe(self._sync_weight_control, names="value")
+        children = [
+            w.HBox([self.method, self.more]),
+            self.options_box,
+            w.HBox(
+                [w.VBox([self.map_chart]), self.term_list],
+                layout=w.Layout(flex_flow="row wrap"),
+            ),
+        ]
+        if downloads is not None:
+            folder, stem = downloads("term-map", self._settings_parts)
+            self.map_downloads = Downloads(
+                folder, stem, table=self.ranked_terms, chart=self._map_spec, name="term-map"
+            )
+            folder, stem = downloads("wording", self._wording_parts)
+            self.wording_downloads = Downloads(
+                folder,
+                stem,
+                table=self._wording_table,
+                chart=self._wording_spec_now,
+                name="wording",
+            )
+            children.insert(3, self.map_downloads)
+            children += [self.wording_chart, self.wording_downloads]
+        else:
+            children.append(self.wording_chart)
+        super().__init__(children)
+        self._show_list()
+
+    # --- the ranking ------------------------------------------------------------------------
+
+    def _setting(self) -> str | None:
+        return METHOD_WEIGHT.get(self.method.value)
+
+    def _sync_weight_control(self, change=None):
+        setting = self._setting()
+        self.more.layout.display = None if setting else "none"
+        self.options_box.layout.display = None if (setting and self.more.value) else "none"
+        if setting is not None and (change is None or change["owner"] is self.method):
+            self._syncing = True
+            try:
+                self.weight.value = float(self.results.settings[setting])
+            finally:
+                self._syncing = False
+            self.weight_help.value = (
+                f'<span style="font-size:12px;color:#6b7078">{WEIGHT_HELP[setting]}</span>'
+            )
+
+    def _ranked_results(self):
+        setting = self._setting()
+        if setting is None:
+            return self.results
+        return self.results.with_settings(**{setting: float(self.weight.value)})
+
+    def _terms(self) -> pd.DataFrame:
+        return self._ranked_results().terms(self.method.value)
+
+    def _map_chart(self):
+        context = self.results.with_settings(n_terms=CONTEXT_TERMS).terms("probability")
+        return charts.term_map(
+            self._terms(),
+            focus=self._topic,
+            ranking=METHOD_NAMES[self.method.value],
+            context=context,
+        )
+
+    def _method_changed(self, change):
+        if self._syncing:
+            return
+        if change["owner"] is self.method:
+            self._sync_weight_control(change)
+        self.map_chart.chart = self._map_chart()
+        self.map_chart.hold_param(charts.FOCUS, self._topic)
+        self._show_list()
+
+    # --- the topic ---------------------------------------------------------------------------
+
+    def show_topic(self, topic: int) -> None:
+        self._topic = int(topic)
+        self.map_chart.hold_param(charts.FOCUS, self._topic)
+        # The wording chart has no parameters or selections, so its spec is swapped directly:
+        # Altair's schema validation of every new chart would cost more than the rest of a switch
+        # (the builder is validated once per view, and in the tests).
+        self.wording_chart.spec = self._wording_spec(self._topic)
+        self._show_list()
+
+    def ranked_terms(self) -> pd.DataFrame:
+        """The selected topic's ranked terms, as the list beside the map shows them."""
+        table = self._terms()
+        table = table[table["topic"] == self._topic]
+        return table[
+            [
+                "topic",
+                "rank",
+                "term",
+                "score",
+                "probability",
+                "share_of_term",
+                "method",
+                "parameter",
+            ]
+        ].reset_index(drop=True)
+
+    def _show_list(self) -> None:
+        rows = "".join(
+            f'<tr><td style="text-align:right;color:#6b7078;padding-right:6px">{r.rank}</td>'
+            f'<td class="tmc-term">{esc(r.term)}</td>'
+            f'<td style="text-align:right;padding-left:8px">{r.probability:.1%}</td>'
+            f'<td style="text-align:right;padding-left:8px">{r.share_of_term:.0%}</td></tr>'
+            for r in self.ranked_terms().itertuples(index=False)
+        )
+        self.term_list.value = (
+            f'<div style="font-size:12px"><div style="font-weight:600;margin-bottom:2px">'
+            f"Topic {self._topic}, ranked {esc(METHOD_NAMES[self.method.value])}</div>"
+            '<table style="border-collapse:collapse"><tr style="color:#6b7078">'
+            '<th></th><th style="text-align:left">term</th>'
+            '<th style="padding-left:8px">of topic</th>'
+            '<th style="padding-left:8px">of term\'s use</th></tr>'
+            f"{rows}</table></div>"
+        )
+
+    def _settings_parts(self) -> list[str]:
+        setting = self._setting()
+        weight = "" if setting is None else f"w{float(self.weight.value):g}"
+        return [f"topic{self._topic}", f"{self.method.value}{weight}"]
+
+    def _map_spec(self) -> dict:
+        return with_params(self.map_chart.spec, {charts.FOCUS: self._topic})
+
+    # --- the sources' wording ----------------------------------------------------------------
+
+    def _wording_parts(self) -> list[str]:
+        return [f"topic{self._topic}", f"{self.pair[0]}-vs-{self.pair[1]}"]
+
+    def _wording_table(self) -> pd.DataFrame:
+        return self.results.wording(self._topic, self.pair)
+
+    def _wording_spec_now(self) -> dict:
+        return self._wording_spec(self._topic)
+
+    def _wording_chart(self, topic):
+        frame = wording_frame(self.results.wording(topic, self.pair), self.pair)
+        return charts.wording_chart(frame, sources=self.pair)
+
+    def _wording_spec(self, topic) -> dict:
+        key = (
+            topic,
+            self.pair,
+            self.results.settings["weighting"],
+            self.results.settings["n_terms"],
+        )
+        if key not in self._specs:
+            frame = wording_frame(self.results.wording(topic, self.pair), self.pair)
+            chart = charts.wording_chart(frame, sources=self.pair)
+            self._specs[key] = chart.to_dict(validate=False)
+        return self._specs[key]
