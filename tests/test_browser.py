@@ -338,7 +338,9 @@ def test_views_right_on_first_draw_find_download_and_fit(lab):
     assert _selected_topic(reference) == 2 and _band_topics(reference) == [2, 2]
     assert set(_map_terms(reference)) <= {f"w2{i}" for i in range(10)}
     # the term panel: no slider, rankings by our names, the weight a number under more options
-    assert view.locator(".widget-slider").count() == 0
+    # (the time panel's date range is a slider of its own; the term panel must have none)
+    assert view.locator(".tmc-terms-panel").count() == 1
+    assert view.locator(".tmc-terms-panel .widget-slider").count() == 0
     assert "lambda" not in view.inner_text()
     _screenshot(page, view, "topic-view-planted.png")
 

@@ -313,13 +313,18 @@ def test_sweeps_per_language_side_by_side():
     # The README's caution, measured on the mixed demo: one model over both languages gives
     # topics that each belong almost wholly to one language (common practice: LDA sees words,
     # and the two languages share few). Measured: 7 of 9 topics hold over 97% of their
-    # weight in one language; we require 75% of topics above 90%.
+    # weight in one language with the old fixed fit settings. With today's defaults (chunk size
+    # tied to the corpus, stopping on convergence) measured here: 5 of 9 topics above 97%, mean
+    # purity 0.86; the place and outlet names both languages share pull a few topics across.
+    # A model blind to language would sit near 0.5 (the mix is 52/48). We require a mean purity
+    # above 0.8 and half the topics above 90%.
     from tm_compare.models.fits import fit_lda
 
     fit = fit_lda(prepared, 9, random_state=0)
     german = (prepared.meta["language"] == "de").to_numpy()
     mass = fit.doc_topic[german].sum(axis=0) / fit.doc_topic.sum(axis=0)
-    assert (np.maximum(mass, 1 - mass) > 0.9).mean() >= 0.75, mass.round(2)
+    purity = np.maximum(mass, 1 - mass)
+    assert purity.mean() > 0.8 and (purity > 0.9).mean() >= 0.5, mass.round(2)
 
 
 # --- non-Latin text in exported charts ----------------------------------------------------------

@@ -284,7 +284,9 @@ class ModelResults:
             lo = first if start is None else pd.Timestamp(start).normalize()
             hi = last if end is None else pd.Timestamp(end).normalize()
         except (TypeError, ValueError):
-            raise param_error(owner, "start/end", (start, end), "dates, e.g. '2024-04-01'") from None
+            raise param_error(
+                owner, "start/end", (start, end), "dates, e.g. '2024-04-01'"
+            ) from None
         inside = ((dates >= lo) & (dates < hi + pd.Timedelta(days=1))).to_numpy()
         rows = np.flatnonzero(inside)
         if not len(rows):

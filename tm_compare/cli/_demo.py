@@ -70,8 +70,11 @@ def register(subparsers) -> None:
         help="fits per k: a number of seeds or a list of seeds",
     )
     grid.add_argument(
-        "--passes", type=int, default=GRID["passes"], help="most passes over the corpus per fit (a fit stops once its topics settle) "
-        f"[{GRID['passes']}]"
+        "--passes",
+        type=int,
+        default=GRID["passes"],
+        help="most passes over the corpus per fit (a fit stops once its topics settle) "
+        f"[{GRID['passes']}]",
     )
     grid.add_argument(
         "--n-boot", type=int, default=N_BOOT, help="bootstrap replicates of the comparison"

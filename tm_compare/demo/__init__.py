@@ -15,4 +15,13 @@ from .quillhaven import (
     truth,
 )
 
-__all__ = ["DEMO_LANGUAGES", "SOURCES", "DemoTruth", "make_corpus", "make_frame", "sample_csv", "scenario", "truth"]
+__all__ = [
+    "DEMO_LANGUAGES",
+    "SOURCES",
+    "DemoTruth",
+    "make_corpus",
+    "make_frame",
+    "sample_csv",
+    "scenario",
+    "truth",
+]

@@ -132,6 +132,7 @@ class TermsPanel(w.VBox):
         else:
             children.append(self.wording_chart)
         super().__init__(children)
+        self.add_class("tmc-terms-panel")
         self._show_list()
 
     # --- the ranking ------------------------------------------------------------------------

@@ -122,9 +122,19 @@ def sweep_chart(
             .mark_rule(color=ACCENT, strokeWidth=2, strokeDash=[5, 3])
             .encode(x="k:Q")
         )
+        # The note sits on the side of the rule with room: right of it in the lower half of
+        # the grid, left of it in the upper half, so it never runs past the chart's edge.
+        low, high = data["k"].min(), data["k"].max()
+        upper = high > low and recommended_k > (low + high) / 2
         layers.append(
             alt.Chart(mark)
-            .mark_text(align="left", dx=5, dy=-4, color=INK, fontWeight="bold")
+            .mark_text(
+                align="right" if upper else "left",
+                dx=-5 if upper else 5,
+                dy=-4,
+                color=INK,
+                fontWeight="bold",
+            )
             .encode(x="k:Q", y=alt.value(8), text="note:N")
         )
     return alt.layer(*layers).properties(
@@ -467,7 +477,10 @@ def time_chart(
             width=width,
             height=height,
             title=alt.Title(
-                "The topic over time", subtitle=wrap(thin + note, width), anchor="start", fontSize=13
+                "The topic over time",
+                subtitle=wrap(thin + note, width),
+                anchor="start",
+                fontSize=13,
             ),
         )
     )
