@@ -22,6 +22,7 @@ the true perplexity; compare it between fits of one engine.
 from __future__ import annotations
 
 import dataclasses
+import inspect
 import json
 import os
 import time
@@ -163,6 +164,15 @@ class Fit:
             self.heldout,
             self.topic_term,
         )
+
+    def replace(self, **changes) -> Fit:
+        """A new Fit with ``changes`` applied to this one's constructor arguments (every other
+        argument, including any added later, is carried over)."""
+        names = [n for n in inspect.signature(Fit.__init__).parameters if n != "self"]
+        unknown = set(changes) - set(names)
+        if unknown:
+            raise TypeError(f"Fit.replace got unknown arguments {sorted(unknown)}")
+        return Fit(**{n: getattr(self, n) for n in names} | changes)
 
     def __repr__(self) -> str:
         return (

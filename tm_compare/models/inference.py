@@ -457,23 +457,11 @@ def with_new_documents(fit, prepared, new: NewDocuments, *, source: str | None =
     dirichlet = None
     if fit.doc_dirichlet is not None:
         dirichlet = np.vstack([np.asarray(fit.doc_dirichlet, float), new.doc_dirichlet])
-    joined = type(fit)(  # a Fit (fits.py imports this module: no import back)
-        k=fit.k,
-        random_state=fit.random_state,
-        engine=fit.engine,
-        engine_version=fit.engine_version,
-        settings=fit.settings,
-        fit_seconds=fit.fit_seconds,
-        vocab=fit.vocab,
+    joined = fit.replace(
         doc_ids=combined.doc_ids,
-        topic_term=fit.topic_term,
         doc_dirichlet=dirichlet,
         heldout=np.r_[np.asarray(fit.heldout, bool), np.ones(len(new), bool)],
-        perplexity=fit.perplexity,
         corpus_fingerprint=combined.fingerprint,
         doc_topic=doc_topic,
-        passes_used=fit.passes_used,
-        converged=fit.converged,
-        last_change=fit.last_change,
     )
     return joined, combined
