@@ -143,7 +143,12 @@ _TABLE = (
     # -- the sweep and its fits
     Option("k", tuple(range(5, 41, 5)), None, "numbers of topics to fit"),
     Option("seeds", 3, None, "fits per k: a count (3 means 0, 1, 2) or a list of seeds"),
-    Option("engine", "gensim", ("gensim", "sklearn"), "LDA implementation"),
+    Option(
+        "engine",
+        "gensim",
+        ("compiled", "gensim", "sklearn"),
+        "LDA implementation: 'compiled' is gensim's online variational Bayes compiled with numba",
+    ),
     Option("measure", "npmi", ("npmi", "c_v", "uci", "umass"), "coherence measure"),
     Option("holdout", 0.1, None, "share of documents held out for perplexity"),
     Option(

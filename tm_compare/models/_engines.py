@@ -129,7 +129,8 @@ class Stopper:
 
 
 def engine_version(engine: str) -> str:
-    return metadata.version("scikit-learn" if engine == "sklearn" else "gensim")
+    """The version of the code that ran the fit: the library, or tm_compare for "compiled"."""
+    return metadata.version({"sklearn": "scikit-learn", "compiled": "tm_compare"}.get(engine, engine))
 
 
 def prior(value, k: int) -> float:
@@ -167,7 +168,7 @@ def run(
     vocab: list[str],
 ) -> EngineResult:
     """Fit one LDA model on the rows of ``matrix`` not marked ``heldout``."""
-    fitter = _gensim if engine == "gensim" else _sklearn
+    fitter = {"compiled": _compiled, "gensim": _gensim, "sklearn": _sklearn}[engine]
     train = np.flatnonzero(~heldout)
     held = np.flatnonzero(heldout)
     s = {**DEFAULT_SETTINGS, **settings}
@@ -185,6 +186,13 @@ def run(
         stopper.converged,
         stopper.change,
     )
+
+
+def _compiled(matrix, train, held, k, random_state, s, vocab, stopper):
+    from . import _vb
+
+    alpha, eta = prior(s["alpha"], k), prior(s["eta"], k)
+    return _vb.fit(matrix, train, held, k, random_state, s, alpha, eta, stopper)
 
 
 def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
