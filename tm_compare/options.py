@@ -145,7 +145,7 @@ _TABLE = (
     Option("seeds", 3, None, "fits per k: a count (3 means 0, 1, 2) or a list of seeds"),
     Option(
         "engine",
-        "gensim",
+        "compiled",
         ("compiled", "gensim", "sklearn"),
         "LDA implementation: 'compiled' is gensim's online variational Bayes compiled with numba",
     ),
