@@ -5,6 +5,7 @@ from __future__ import annotations
 import errno
 import json
 import os
+from importlib import metadata
 
 import gensim
 import numpy as np
@@ -173,7 +174,8 @@ def test_outputs_are_normalised_and_cover_every_document(lee):
     np.testing.assert_allclose(fit.doc_topic.sum(1), 1, rtol=1e-12)
     assert fit.doc_ids == lee.doc_ids and fit.heldout.sum() == 12  # 10% of 120
     assert fit.vocab == [lee.dictionary[i] for i in range(len(lee.dictionary))]
-    assert fit.engine == "gensim" and fit.engine_version == gensim.__version__
+    # The default engine is the compiled one; its code is tm_compare's, so is its version.
+    assert fit.engine == "compiled" and fit.engine_version == metadata.version("tm_compare")
     top = fit.top_words(5)
     best = [[fit.vocab[j] for j in np.argsort(-row)[:5]] for row in fit.topic_term]
     assert top == best
@@ -251,7 +253,7 @@ def test_saved_names_and_fingerprint_are_those_of_the_first_release(small_fit, t
     settings["holdout_seed"] = settings.pop("holdout_random_state")
     fit = small_fit
     parts = (fit.corpus_fingerprint, fit.heldout, fit.topic_term)
-    assert fit.fingerprint == fingerprint("fit", "gensim", 3, 1, settings, *parts)
+    assert fit.fingerprint == fingerprint("fit", fit.engine, 3, 1, settings, *parts)
 
 
 def test_old_names_work_with_a_future_warning_naming_the_new_one(lee, small_fit):
@@ -300,7 +302,7 @@ def test_empty_vocabulary_is_refused():
 @pytest.mark.parametrize(
     ("option", "value", "match"),
     [
-        ("engine", "gibbs", "'engine' parameter of fit_lda must be one of 'gensim', 'sklearn'"),
+        ("engine", "gibbs", "'engine' parameter of fit_lda must be one of 'compiled', 'gensim', 'sklearn'"),
         ("passes", 0, "'passes' parameter of fit_lda must be an integer >= 1. Got 0"),
         ("alpha", -1, "'alpha' parameter"),
         ("decay", 2.0, "'decay' parameter"),

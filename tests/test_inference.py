@@ -42,7 +42,7 @@ def prepared(corpus):
     return prepare(corpus)
 
 
-@pytest.fixture(scope="module", params=["gensim", "sklearn"])
+@pytest.fixture(scope="module", params=["compiled", "gensim", "sklearn"])
 def fit(request, prepared):
     return fit_lda(prepared, K, engine=request.param, random_state=3)
 

@@ -230,7 +230,7 @@ def test_progress_bar_counts_fits_done_of_total(small, capsys):
         ({"k": [3], "seeds": [0, -1]}, r"'seeds' parameter .* >= 0. Got -1"),
         (
             {"k": [3], "engine": "other"},
-            r"'engine' parameter of sweep must be one of 'gensim', 'sklearn'",
+            r"'engine' parameter of sweep must be one of 'compiled', 'gensim', 'sklearn'",
         ),
         ({"k": [3], "measures": ["c_w2v"]}, r"'measures' parameter of sweep must be one of 'npmi'"),
     ],

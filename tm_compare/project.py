@@ -44,7 +44,7 @@ _SECTIONS = {
     "created": str,
     "updated": str,
 }
-_VERSIONED = ("tm_compare", "numpy", "scipy", "pandas", "gensim", "scikit-learn", "altair")
+_VERSIONED = ("tm_compare", "numpy", "scipy", "pandas", "gensim", "numba", "scikit-learn", "altair")
 
 
 def package_versions() -> dict[str, str]:

@@ -523,7 +523,7 @@ def fit_lda(
         Number of topics, from 2 to the number of training documents.
     random_state : int
         Seed of the engine (formerly ``seed``). A sweep's fit of seed s is ``random_state=s``.
-    engine : {"gensim", "sklearn"}
+    engine : {"compiled", "gensim", "sklearn"}
     holdout, holdout_random_state
         Share of documents held out for perplexity, and the seed of the draw that picks them
         (formerly ``holdout_seed``). It is separate from ``random_state`` so that fits with

@@ -57,7 +57,7 @@ class Sweep:
     seeds : int or iterable of int
         ``3`` means seeds 0, 1, 2; a list gives the seeds themselves. The fit of seed s has
         ``random_state=s``.
-    engine : {"gensim", "sklearn"}
+    engine : {"compiled", "gensim", "sklearn"}
     project : Project or path, optional
         Where fits (``fits/``) and score tables (``scores/``) are saved. With a
         project, finished fits are kept and a rerun skips them.

@@ -339,7 +339,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
         {
             "k": "number of topics",
             "seed": "random seed of the fit",
-            "engine": "LDA implementation ('gensim' or 'sklearn')",
+            "engine": "LDA implementation ('compiled', 'gensim' or 'sklearn')",
             "fit_seconds": "seconds spent fitting",
             "passes": "passes made over the training documents",
             "converged": "whether the topics settled before the cap of passes (empty: not recorded)",
