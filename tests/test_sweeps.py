@@ -209,7 +209,7 @@ def test_sklearn_engine_sweeps_like_gensim(small, tmp_path):
 def test_progress_bar_counts_fits_done_of_total(small, capsys):
     sweep(small, k=[3], seeds=2, **{**FAST, "progress": True})
     err = capsys.readouterr().err
-    assert "2/2" in err and "LDA fits (gensim)" in err
+    assert "2/2" in err and "LDA fits (compiled)" in err
 
 
 # -- bad input -----------------------------------------------------------------------------------
@@ -336,7 +336,7 @@ def test_cli_sweeps_the_projects_prepared_corpus(tmp_path, capsys):
     )
     out = capsys.readouterr().out
     assert code == 0
-    assert "Scores of 4 fits (gensim)" in out and "Proposed: k = " in out
+    assert "Scores of 4 fits (compiled)" in out and "Proposed: k = " in out
     reopened = Sweep.load(tmp_path)
     assert reopened.scores_[["k", "seed"]].values.tolist() == [[3, 0], [3, 1], [4, 0], [4, 1]]
     assert reopened.corpus_fingerprint_ == prepared.fingerprint
