@@ -377,7 +377,7 @@ CLI = [
     ("compare fit edited", ["compare", "{D}", "--k", "4"],
      fit_files(lambda fs: fs[0].write_bytes(_flip_middle_byte(fs[0].read_bytes()))), "fit"),
     ("compare fit deleted", ["compare", "{D}", "--k", "4"],
-     fit_files(lambda fs: fs[0].unlink()), "gensim-k4-seed0"),
+     fit_files(lambda fs: fs[0].unlink()), "compiled-k4-seed0"),
     ("compare no sweep", ["compare", "{D}", "--k", "4"],
      damaged(lambda p: shutil.rmtree(p / "scores")), "has no saved sweep"),
     ("compare prepared corpus gone", ["compare", "{D}", "--k", "4"],
