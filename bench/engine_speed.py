@@ -27,12 +27,11 @@ def main(argv=None) -> None:
     parser.add_argument("--seed", type=int, default=0)
     args = parser.parse_args(argv)
 
+    from sweep_speed import demo_corpus
     from threadpoolctl import threadpool_limits
 
     from tm_compare.models import _engines
     from tm_compare.models.fits import TrainingData
-
-    from sweep_speed import demo_corpus
 
     prepared, _ = demo_corpus(args.docs)
     data = TrainingData.from_prepared(prepared)

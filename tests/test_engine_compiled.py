@@ -53,8 +53,17 @@ CASES = {
     "fixed passes, k=7": dict(k=7, random_state=3, passes=4, chunksize=25, tol=0),
     "stops on convergence, k=4": dict(k=4, random_state=11),
     "own priors and schedule, k=6": dict(
-        k=6, random_state=5, alpha=0.3, eta=0.05, decay=0.7, offset=8.0, iterations=20,
-        gamma_threshold=0.01, chunksize=40, passes=6, tol=0.02,
+        k=6,
+        random_state=5,
+        alpha=0.3,
+        eta=0.05,
+        decay=0.7,
+        offset=8.0,
+        iterations=20,
+        gamma_threshold=0.01,
+        chunksize=40,
+        passes=6,
+        tol=0.02,
     ),
 }
 
@@ -76,10 +85,19 @@ def test_equals_the_gensim_engine(lee, case):
 
 def test_equals_plain_ldamodel(lee):
     # Reference: gensim's LdaModel called directly (gensim 4.x API), fixed passes.
-    fit = fit_lda(lee, 6, random_state=2, engine="compiled", holdout=0, passes=3, chunksize=50,
-                  tol=0)
-    model = LdaModel(lee.bow, id2word=dict(lee.dictionary.items()), num_topics=6, chunksize=50,
-                     passes=3, eval_every=None, random_state=2, dtype=np.float64)
+    fit = fit_lda(
+        lee, 6, random_state=2, engine="compiled", holdout=0, passes=3, chunksize=50, tol=0
+    )
+    model = LdaModel(
+        lee.bow,
+        id2word=dict(lee.dictionary.items()),
+        num_topics=6,
+        chunksize=50,
+        passes=3,
+        eval_every=None,
+        random_state=2,
+        dtype=np.float64,
+    )
     np.testing.assert_allclose(fit.topic_term, model.get_topics(), rtol=RTOL)
 
 

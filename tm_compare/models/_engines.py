@@ -134,7 +134,9 @@ class Stopper:
 
 def engine_version(engine: str) -> str:
     """The version of the code that ran the fit: the library, or tm_compare for "compiled"."""
-    return metadata.version({"sklearn": "scikit-learn", "compiled": "tm_compare"}.get(engine, engine))
+    return metadata.version(
+        {"sklearn": "scikit-learn", "compiled": "tm_compare"}.get(engine, engine)
+    )
 
 
 def prior(value, k: int) -> float:
