@@ -210,6 +210,18 @@ def doc_bound(indptr, indices, data, rows, gamma, elog_beta_t, alpha):
     return score
 
 
+def csr_arrays(matrix):
+    """``indptr, indices, data`` as read-only views (no copy): numba compiles one version of a
+    kernel for read-only and one for writable arrays, and memory-mapped matrices are read-only,
+    so in-memory ones are passed the same way to need one compiled version, not two."""
+    views = []
+    for array in (matrix.indptr, matrix.indices, matrix.data):
+        view = array.view()
+        view.flags.writeable = False
+        views.append(view)
+    return views
+
+
 def _expectations(lam):
     elog = dirichlet_expectation(lam)
     return elog, np.exp(elog)
@@ -234,9 +246,7 @@ class OnlineLDA:
     def infer(self, matrix, rows, sstats):
         gamma = self.rng.gamma(100.0, 1.0 / 100.0, (len(rows), self.k))
         e_step(
-            matrix.indptr,
-            matrix.indices,
-            matrix.data,
+            *csr_arrays(matrix),
             np.asarray(rows, dtype=np.int64),
             self.exp_beta,
             gamma,
@@ -272,9 +282,7 @@ class OnlineLDA:
         lam = self.lam
         elog_beta, _ = _expectations(lam)
         docs = doc_bound(
-            matrix.indptr,
-            matrix.indices,
-            matrix.data,
+            *csr_arrays(matrix),
             np.asarray(rows, dtype=np.int64),
             np.ascontiguousarray(gamma),
             np.ascontiguousarray(elog_beta.T),
