@@ -166,10 +166,10 @@ def main(argv=None) -> None:
             f"{runs[0]['fitting']:.0f} s (summed over fits, first run); NMI {runs[0]['nmi']:.3f}",
             flush=True,
         )
-    print(f"\n{'configuration':<24}{'min s':>9}{'median s':>10}{'converged':>11}{'NMI k=9':>9}")
+    print(f"\n{'configuration':<24}{'min s':>9}{'median s':>10}{'converged':>13}{'NMI k=9':>9}")
     for name, r in results.items():
         conv = f"{r['converged']:.0%}" if "converged" in r else "not checked"
-        print(f"{name:<24}{r['min']:>9.0f}{r['median']:>10.0f}{conv:>11}{r['nmi']:>9.3f}")
+        print(f"{name:<24}{r['min']:>9.0f}{r['median']:>10.0f}{conv:>13}{r['nmi']:>9.3f}")
     new = results["ours, new defaults"]
     print(
         f"\nOurs, new defaults: {new['passes']:.1f} passes per fit on average; suggested "
