@@ -17,7 +17,7 @@ pass at a time, step for step:
   bound is gensim's ``bound`` with those gamma.
 
 Consuming the same random numbers in the same order, it gives gensim's results up to
-floating-point rounding (tests/test_engine_compiled.py). The kernels read the CSR arrays
+floating-point rounding (tests/test_vb.py). The kernels read the CSR arrays
 (``indptr``, ``indices``, ``data``) directly, so a memory-mapped matrix is never copied
 and no per-document Python objects are made. The digamma function is gensim's own series
 (AS 103 with de Moivre's expansion from 8.5 on) carried two terms further, so it agrees
