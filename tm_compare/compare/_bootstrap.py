@@ -91,15 +91,11 @@ def unit_sums(shares, weights, strata, units, n_strata) -> Units:
     n_units = int(units.max()) + 1
     k = shares.shape[1]
     if n_units == len(units):  # every document is its own unit: no sums to take
+        from ._kernels import weighted_rows  # numba: imported at the first bootstrap
+
         keep = np.argsort(strata, kind="stable")
         keep = keep[weights[keep] > 0]
-        sums = np.empty((len(keep), k + 1))
-        if len(keep) == len(units) and (keep[1:] > keep[:-1]).all():  # no reordering needed
-            np.multiply(shares, weights[:, None], out=sums[:, :k])
-        else:
-            np.multiply(shares[keep], weights[keep, None], out=sums[:, :k])
-        sums[:, k] = weights[keep]
-        return Units(strata[keep], sums, n_strata)
+        return Units(strata[keep], weighted_rows(shares, weights, keep), n_strata)
     # A sparse (units x documents) matrix of weights sums rows far faster than np.add.at.
     members = sp.csr_matrix((weights, (units, np.arange(len(units)))), shape=(n_units, len(units)))
     sums = np.empty((n_units, k + 1))
@@ -124,11 +120,11 @@ def draw_counts(n: int, size: int, rng: np.random.Generator, method: str) -> np.
 
     ``"multinomial"`` draws n units with replacement (the classical bootstrap), the very
     integers ``rng.integers(0, n, (size, n))`` gives, as ``scipy.stats.bootstrap`` draws its
-    indices (see :mod:`._draws`); ``"poisson"`` draws independent Poisson(1) counts.
+    indices (see :mod:`._kernels`); ``"poisson"`` draws independent Poisson(1) counts.
     """
     if method == "poisson":
         return _POISSON_TABLE[rng.integers(0, 65536, (size, n), dtype=np.uint16)]
-    from ._draws import multinomial_counts  # numba: imported at the first bootstrap
+    from ._kernels import multinomial_counts  # numba: imported at the first bootstrap
 
     return multinomial_counts(rng, n, size)
 

@@ -1,5 +1,6 @@
-"""Multinomial bootstrap counts: the integers numpy draws, counted as they are drawn.
+"""Compiled inner loops of the bootstrap (:mod:`._bootstrap`).
 
+Multinomial counts: the integers numpy draws, counted as they are drawn.
 ``scipy.stats.bootstrap`` draws its resamples as ``rng.integers(0, n, (B, n))``. For
 numpy's default bit generator (PCG64) :func:`multinomial_counts` draws the very same
 integers in compiled code and adds each one to its replicate's count at once, so no
@@ -11,7 +12,10 @@ values (low half first), and Lemire's bounded rejection (Lemire 2019, "Fast rand
 generation in an interval", ACM TOMACS 29(1)). Other bit generators draw through numpy
 and are counted here.
 
-numba is imported when this module is, so import it where the counts are needed.
+Weighted rows: a document-level unit's sums (its weighted shares and its weight) in one
+pass over the shares, in stratum order.
+
+numba is imported when this module is, so import it where a bootstrap runs.
 """
 
 from __future__ import annotations
@@ -83,6 +87,24 @@ def _count_rows(indices, n, out):  # pragma: no cover - compiled
         row[:] = 0.0
         for i in indices[r]:
             row[i] += 1.0
+
+
+@njit(nogil=True, cache=True)
+def _weighted_rows(shares, weights, order, out):  # pragma: no cover - compiled
+    k = shares.shape[1]
+    for j in range(order.size):
+        row, weight = order[j], weights[order[j]]
+        for t in range(k):
+            out[j, t] = shares[row, t] * weight
+        out[j, k] = weight
+
+
+def weighted_rows(shares: np.ndarray, weights: np.ndarray, order: np.ndarray) -> np.ndarray:
+    """``(shares[order] * weights[order, None], weights[order])`` as one (len(order), k + 1)
+    array, without a temporary copy of the gathered shares."""
+    out = np.empty((len(order), shares.shape[1] + 1))
+    _weighted_rows(shares, weights, order, out)
+    return out
 
 
 def multinomial_counts(rng: np.random.Generator, n: int, size: int) -> np.ndarray:
