@@ -212,7 +212,8 @@ def test_exposure_weighted_documents_equal_scipy_paired_ratio(method):
     units = _units(x, w)
     num, den = bs.replicate(units, 600, np.random.default_rng(13))
     theta_b = _mean_stat(num, den)
-    accel = bs.jackknife_acceleration(units, _mean_stat) if method == "bca" else None
+    # The closed form prevalence() uses (scipy's own jackknife is the reference below).
+    accel = bs.stratum_acceleration(units) if method == "bca" else None
     lo, hi = bs.interval(_mean_stat(*units.totals()), theta_b, 0.9, method, accel)
 
     def ratio(a, b, axis=-1):
@@ -230,6 +231,23 @@ def test_exposure_weighted_documents_equal_scipy_paired_ratio(method):
         )
         np.testing.assert_allclose(theta_b[:, topic], ref.bootstrap_distribution, rtol=1e-12)
         np.testing.assert_allclose([lo[topic], hi[topic]], ref.confidence_interval, rtol=1e-10)
+
+
+def test_closed_form_acceleration_equals_the_generic_jackknife():
+    rng = np.random.default_rng(10)
+    strata = np.repeat([0, 1, 2], [30, 55, 41])
+    clusters = rng.integers(0, 12, len(strata))
+    x, w = rng.dirichlet(np.full(4, 0.3), len(strata)), rng.integers(1, 9, len(strata))
+    for grouped in (None, clusters):
+        units = _units(x, w, strata, grouped)
+        # Reference: the leave-one-unit-out jackknife over every unit of every stratum
+        # (Efron & Tibshirani 1993, sec. 14.3), as scipy.stats.bootstrap sums it over samples.
+        np.testing.assert_allclose(
+            bs.stratum_acceleration(units),
+            bs.jackknife_acceleration(units, _mean_stat),
+            rtol=1e-9,
+            atol=1e-15,
+        )
 
 
 def test_strata_keep_their_number_of_units():

@@ -201,6 +201,27 @@ def jackknife_acceleration(units: Units, statistic: Statistic) -> np.ndarray:
         return nums / (6 * dens**1.5)
 
 
+def stratum_acceleration(units: Units) -> np.ndarray:
+    """BCa acceleration of each stratum's weighted means (S * k,), in closed form.
+
+    The value :func:`jackknife_acceleration` gives for ``num / den`` per stratum: leaving
+    out unit i moves only its own stratum's means, to ``(T_s - num_i) / (W_s - den_i)``, so
+    each column's sums run over its stratum's units (the other strata add zeros), at the
+    cost of one pass over the unit sums instead of one statistic per unit.
+    """
+    k = units.sums.shape[1] - 1
+    accel = np.empty((units.n_strata, k))
+    for s, (a, b) in enumerate(units.bounds()):
+        n = b - a
+        total = units.sums[a:b].sum(axis=0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            theta = (total[:k] - units.num[a:b]) / (total[k] - units.den[a:b])[:, None]
+            u = (n - 1) * (theta.mean(axis=0) - theta)
+            squares = (u**2).sum(axis=0) / n**2
+            accel[s] = (u**3).sum(axis=0) / n**3 / (6 * squares**1.5)
+    return accel.ravel()
+
+
 def _leave_one_out(units, statistic, full_num, full_den, s, a, b) -> Iterator[np.ndarray]:
     for start in range(a, b, _JACKKNIFE_CHUNK):
         stop = min(b, start + _JACKKNIFE_CHUNK)

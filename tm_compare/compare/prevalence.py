@@ -341,10 +341,14 @@ def _replicates(design, boot: Bootstrap, owner):
     return units, bs.replicate(units, boot.n_boot, rng, boot.resampling, redraw, draws)
 
 
-def _summary(units, reps, statistic, ci, interval):
+def _summary(units, reps, statistic, ci, interval, acceleration=None):
+    """Estimate, replicates and interval; ``acceleration(units)`` replaces the generic
+    jackknife where the statistic has a closed form."""
     theta_hat = statistic(*units.totals())
     theta_b = statistic(*reps)
-    accel = bs.jackknife_acceleration(units, statistic) if interval == "bca" else None
+    accel = None
+    if interval == "bca":
+        accel = acceleration(units) if acceleration else bs.jackknife_acceleration(units, statistic)
     lo, hi = bs.interval(theta_hat, theta_b, ci, interval, accel)
     return theta_hat, theta_b, lo, hi
 
@@ -397,7 +401,9 @@ def prevalence(
     boot, design, units, reps = _run(
         "prevalence", fit, prepared, weighting, cluster, sources, bootstrap
     )
-    theta_hat, theta_b, lo, hi = _summary(units, reps, _prevalence_stat, boot.ci, boot.interval)
+    theta_hat, theta_b, lo, hi = _summary(
+        units, reps, _prevalence_stat, boot.ci, boot.interval, bs.stratum_acceleration
+    )
     n_src, k = len(design.sources), design.shares.shape[1]
     frame = pd.DataFrame(
         {
