@@ -143,6 +143,54 @@ def compare(args, pool, ours_kwargs, peer, peer_replicates, peer_scale):
     return summary(ours), summary(theirs, peer_scale / 2)
 
 
+def stages(fit, prepared, n_boot, runs):
+    """CPU seconds (min over runs) of each stage of the default path, one stage at a time."""
+    from threadpoolctl import threadpool_limits
+
+    from tm_compare.compare import _bootstrap as bs
+    from tm_compare.compare import prevalence as pv
+
+    def best(func):
+        return min(timed(func)[1] for _ in range(runs))
+
+    design = pv._design(fit, prepared, "prevalence", "exposure", None, None)
+    units = design.units()
+    blocks = []  # (n, rows) of every block, as replicate() draws them
+
+    for a, b in units.bounds():
+        step = max(1, bs._BLOCK // (b - a))
+        blocks += [(a, b, min(step, n_boot - start)) for start in range(0, n_boot, step)]
+
+    def draws():
+        rng = np.random.default_rng(0)
+        for a, b, rows in blocks:
+            bs.draw_counts(b - a, rows, rng, "multinomial")
+
+    one = {}
+    for a, b, rows in blocks:  # one block of counts per shape, drawn off the clock
+        one.setdefault(
+            (b - a, rows), bs.draw_counts(b - a, rows, np.random.default_rng(0), "multinomial")
+        )
+
+    def products():
+        with threadpool_limits(limits=1, user_api="blas"):
+            for a, b, rows in blocks:
+                one[(b - a, rows)] @ units.sums[a:b]
+
+    reps = bs.replicate(units, n_boot, np.random.default_rng(0))
+    return {
+        "checks and design": best(
+            lambda: pv._design(fit, prepared, "prevalence", "exposure", None, None)
+        ),
+        "unit sums (D x (k+1))": best(design.units),
+        "draws + counts (serial)": best(draws),
+        "count x sums products (BLAS)": best(products),
+        "estimates and intervals": best(
+            lambda: pv._summary(units, reps, pv._prevalence_stat, 0.95, "percentile")
+        ),
+    }
+
+
 def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--docs", type=int, default=200_000)
@@ -194,6 +242,13 @@ def main():
             f"x{scale / 2:,.0f}",
         )
         ratio(peer, ours, "; goal: ours under 1 s wall (median)")
+        parts = stages(fit, prepared, args.replicates, args.runs)
+        for name, seconds in parts.items():
+            print(f"    {name:<32}{'':17}{seconds:9.2f}   cpu, one thread, min of {args.runs}")
+        print(
+            f"    {'sum of stages':<32}{'':17}{sum(parts.values()):9.2f}   "
+            "(draws run beside the products, which run two at a time)"
+        )
         scale = args.replicates / args.naive_replicates
         ours, peer = compare(
             args, pool, {**base, "cluster": "group"}, "naive", args.naive_replicates, scale
