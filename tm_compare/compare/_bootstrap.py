@@ -25,12 +25,13 @@ from collections import deque
 from collections.abc import Callable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
+from functools import cache
 
 import numpy as np
 import scipy.sparse as sp
 from scipy.special import ndtr, ndtri
 from scipy.stats import false_discovery_control, poisson
-from threadpoolctl import threadpool_limits
+from threadpoolctl import ThreadpoolController
 
 # Elements of one (replicates x units) count block: about 32 MB of float64, small enough to
 # stay near the caches; while one block is drawn, up to _PRODUCT_THREADS are multiplied.
@@ -159,7 +160,7 @@ def replicate(
     # One BLAS thread per product: the blocks already run side by side, and a
     # multi-threaded product of these thin blocks spends more CPU than it saves.
     with (
-        threadpool_limits(limits=1, user_api="blas"),
+        _threadpools().limit(limits=1, user_api="blas"),
         ThreadPoolExecutor(max_workers=_PRODUCT_THREADS) as pool,
     ):
         pending: deque[Future] = deque()
@@ -177,6 +178,12 @@ def replicate(
         for job in pending:
             job.result()
     return num, den
+
+
+@cache
+def _threadpools() -> ThreadpoolController:
+    """The loaded thread pools, found once (each search walks every loaded library)."""
+    return ThreadpoolController()
 
 
 Statistic = Callable[[np.ndarray, np.ndarray], np.ndarray]
