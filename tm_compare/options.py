@@ -67,7 +67,7 @@ _TABLE = (
         "resampling",
         "multinomial",
         ("multinomial", "poisson"),
-        "how replicates draw units (Poisson is faster on many units)",
+        "how replicates draw units (Poisson: independent Poisson(1) counts; as fast)",
     ),
     Option("fdr", 0.05, None, "false discovery rate of the Benjamini-Hochberg adjustment"),
     Option(

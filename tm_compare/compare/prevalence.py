@@ -375,8 +375,9 @@ def prevalence(
     n_boot, ci : replicates and interval level.
     interval : "percentile" or "bca" (Efron & Tibshirani 1993, ch. 14; acceleration from a
         jackknife over clusters within each source, on the point estimates of the shares).
-    resampling : "multinomial" (classical) or "poisson" (Poisson(1) counts; faster on
-        hundreds of thousands of unclustered documents).
+    resampling : "multinomial" (classical; the resamples ``scipy.stats.bootstrap`` draws
+        from the same generator) or "poisson" (independent Poisson(1) counts per unit; about
+        as fast: both are drawn in compiled code).
     model_uncertainty : also draw shares from each document's Dirichlet(``doc_dirichlet``);
         replicates run in ``n_model_draws`` batches, one fresh draw per batch (each draw
         costs D x k gamma variates, so this is much slower on large corpora).
