@@ -202,8 +202,9 @@ def jackknife_acceleration(units: Units, statistic: Statistic) -> np.ndarray:
         n = b - a
         values = np.concatenate(list(_leave_one_out(units, statistic, full_num, full_den, s, a, b)))
         u = (n - 1) * (values.mean(axis=0) - values)
-        nums = nums + (u**3).sum(axis=0) / n**3
-        dens = dens + (u**2).sum(axis=0) / n**2
+        squared = u * u
+        nums = nums + (squared * u).sum(axis=0) / n**3
+        dens = dens + squared.sum(axis=0) / n**2
     with np.errstate(invalid="ignore", divide="ignore"):
         return nums / (6 * dens**1.5)
 
