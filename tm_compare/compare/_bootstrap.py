@@ -94,7 +94,7 @@ def unit_sums(shares, weights, strata, units, n_strata) -> Units:
     if n_units == len(units):  # every document is its own unit: no sums to take
         from ._kernels import weighted_rows  # numba: imported at the first bootstrap
 
-        keep = np.argsort(strata, kind="stable")
+        keep = np.lexsort((units, strata))
         keep = keep[weights[keep] > 0]
         return Units(strata[keep], weighted_rows(shares, weights, keep), n_strata)
     # A sparse (units x documents) matrix of weights sums rows far faster than np.add.at.

@@ -165,7 +165,8 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
         )
         raise ComparisonError(msg)
     # The column itself: factorizing it is many times faster than its numpy string array.
-    codes, uniques = pd.factorize(prepared.meta["source"].astype(str), sort=True)
+    source = prepared.meta["source"].astype(str)  # a no-op for a string column
+    codes, uniques = pd.factorize(source, sort=True, use_na_sentinel=False)
     present = [str(s) for s in uniques]
     wanted = present if sources is None else [str(s) for s in sources]
     missing = [s for s in wanted if s not in present]
