@@ -19,8 +19,8 @@ import pandas as pd
 import pytest
 
 from tm_compare.compare import documents, terms
-from tm_compare.errors import SettingsError
 from tm_compare.compare import prevalence as comparison
+from tm_compare.errors import SettingsError
 from tm_compare.labels.store import LabelStore
 from tm_compare.models.fits import Fit
 from tm_compare.models.sweeps import sweep

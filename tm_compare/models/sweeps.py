@@ -252,9 +252,7 @@ class Sweep:
         measures = [check_choice("sweep", "measures", m, choices("measure")) for m in self.measures]
         if not _is_int(self.n_terms) or self.n_terms < 2:
             raise param_error("sweep", "n_terms", self.n_terms, "an integer >= 2")
-        settings = check_settings(
-            "sweep", {name: getattr(self, name) for name in FIT_SETTINGS}
-        )
+        settings = check_settings("sweep", {name: getattr(self, name) for name in FIT_SETTINGS})
         settings.update(holdout=self.holdout, holdout_random_state=self.holdout_random_state)
         return ks, seeds, measures, settings
 

@@ -133,9 +133,7 @@ class SweepView(w.VBox):
             seed = int(s.seed) if k == s.k else (seeds[0] if seeds else 0)
         if (k, seed) not in self.sweep.fits_:
             listed = ", ".join(f"(k={a}, seed={b})" for a, b in self.sweep.fits_)
-            raise param_error(
-                "SweepView", "k and seed", (k, seed), f"a fit of the sweep: {listed}"
-            )
+            raise param_error("SweepView", "k and seed", (k, seed), f"a fit of the sweep: {listed}")
         return int(k), int(seed)
 
     def _advice_html(self) -> str:
