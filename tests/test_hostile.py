@@ -317,6 +317,7 @@ CLI = [
     ("sweep passes 0", [*S, "--passes", "0"], None, "'passes'"),
     ("sweep iterations 0", [*S, "--iterations", "0"], None, "'iterations'"),
     ("sweep chunksize 0", [*S, "--chunksize", "0"], None, "'chunksize'"),
+    ("sweep starts 0", [*S, "--starts", "0"], None, "'starts'"),
     ("sweep alpha negative", [*S, "--alpha", "-1"], None, "'alpha'"),
     ("sweep alpha text", [*S, "--alpha", "auto-ish"], None, "give 'symmetric'"),
     ("sweep eta 0", [*S, "--eta", "0"], None, "'eta'"),
