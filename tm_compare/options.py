@@ -173,6 +173,12 @@ _TABLE = (
     ),
     Option("iterations", 50, None, "inference iterations per document"),
     Option(
+        "starts",
+        8,
+        None,
+        "random starts probed per fit (three online updates each); the best is fitted in full",
+    ),
+    Option(
         "chunksize",
         "auto",
         None,
