@@ -84,9 +84,17 @@ def test_equals_the_gensim_engine(lee, case):
 
 
 def test_equals_plain_ldamodel(lee):
-    # Reference: gensim's LdaModel called directly (gensim 4.x API), fixed passes.
+    # Reference: gensim's LdaModel called directly (gensim 4.x API), fixed passes, one start.
     fit = fit_lda(
-        lee, 6, random_state=2, engine="compiled", holdout=0, passes=3, chunksize=50, tol=0
+        lee,
+        6,
+        random_state=2,
+        engine="compiled",
+        holdout=0,
+        passes=3,
+        chunksize=50,
+        tol=0,
+        starts=1,
     )
     model = LdaModel(
         lee.bow,
