@@ -38,16 +38,43 @@ def cache_dir() -> Path:
     return platformdirs.user_cache_path("tm_compare", appauthor=False)
 
 
+# The end of altair's ``reembed`` (index.js): the rows Python replaced are applied after every
+# drawing, when the listeners of that drawing are in place.
+_REEMBED_END = "\n    }\n\n    model.on('change:spec', reembed);"
+_APPLY_ROWS = """
+async function applyHeldRows(model, api) {
+    // tm_compare: rows that replaced a dataset after the spec was sent (see _offline.py).
+    for (const update of model.get("_py_to_js_updates") ?? []) {
+        if (update.namespace === "data" && dataRef(api.view, update.name, update.scope)) {
+            setDataValue(api.view, update.name, update.scope, update.value);
+        }
+    }
+    await api.view.runAsync();
+}
+"""
+
+
 def _widget_source() -> str:
     # altair's own front-end code, minus the CDN imports that the bundle replaces
-    # (the same trimming altair's JupyterChart.enable_offline does).
+    # (the same trimming altair's JupyterChart.enable_offline does), plus applyHeldRows.
     import altair as alt
+
+    from ..errors import MissingDependencyError
 
     src = (Path(alt.__file__).parent / "jupyter" / "js" / "index.js").read_text(encoding="utf-8")
     lines = src.split("\n")
     while lines and (not lines[0].strip() or lines[0].startswith(("import", "//"))):
         lines.pop(0)
-    return "\n".join(lines)
+    src = "\n".join(lines)
+    if src.count(_REEMBED_END) != 1:
+        msg = (
+            f"altair {alt.__version__}'s chart front end (altair/jupyter/js/index.js) is not the "
+            "one tm_compare extends: its reembed function no longer ends where expected. "
+            "Install an altair version tm_compare supports (see pyproject.toml)."
+        )
+        raise MissingDependencyError(msg)
+    end = "\n        await applyHeldRows(model, api);" + _REEMBED_END
+    return src.replace(_REEMBED_END, end) + _APPLY_ROWS
 
 
 def bundle_path() -> Path:
@@ -79,6 +106,25 @@ def _reassert(self, change) -> None:
             setattr(self.params, name, value)
 
 
+def _show_rows(self, rows: list[dict]) -> None:
+    """Replace the rows of the chart's top-level dataset in the browser (the spec stays)."""
+    name = self.spec["data"]["name"]
+    self._py_to_js_updates = [{"namespace": "data", "name": name, "scope": [], "value": rows}]
+
+
+def _rows(self) -> list[dict]:
+    """The rows of the chart's top-level dataset as drawn now."""
+    for update in self._py_to_js_updates or []:
+        if update["namespace"] == "data":
+            return update["value"]
+    return self.spec["datasets"][self.spec["data"]["name"]]
+
+
+def _forget_rows(self, change) -> None:
+    # A new chart carries its own rows.
+    self._py_to_js_updates = None
+
+
 @functools.cache
 def chart_class() -> type:
     """The ``JupyterChart`` subclass whose front end is the cached bundle (made once per kernel)."""
@@ -93,14 +139,22 @@ def chart_class() -> type:
         {
             "_esm": bundle_path(),
             "__module__": __name__,
-            "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's.",
+            "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's, "
+            "show_rows replaces the data in place.",
             "hold_param": _hold_param,
             "_reassert_held": traitlets.observe("_params")(_reassert),
+            "show_rows": _show_rows,
+            "rows": property(_rows),
+            "_forget_rows": traitlets.observe("chart")(_forget_rows),
         },
     )
 
 
 def chart_widget(chart, **kwargs):
-    """Wrap an Altair chart in an offline widget (SVG renderer, no action menu)."""
+    """Wrap an Altair chart in an offline widget (SVG renderer, no action menu).
+
+    A click reaches Python at once (``debounce_wait=0``; altair waits 10 ms by default, which
+    only pays for selections dragged across a chart, and the views have none)."""
     kwargs.setdefault("embed_options", EMBED_OPTIONS)
+    kwargs.setdefault("debounce_wait", 0)
     return chart_class()(chart, **kwargs)
