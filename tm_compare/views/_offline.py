@@ -8,7 +8,14 @@ and a ``JupyterChart`` subclass points its ``_esm`` at that file, so a kernel re
 A chart's front end, when it draws (or draws again, e.g. when a cell is re-shown), takes its
 parameters from the spec and reports them back to Python, overwriting any value Python set before
 the drawing existed. :meth:`hold_param` makes Python the owner: the held value is set now, and set
-again whenever the front end reports another one (the "wrong topic on first draw" defect).
+again whenever the front end reports another one (the "wrong topic on first draw" defect). A
+parameter value the front end merely echoes back (Python has just set it) is not reported again.
+
+:meth:`show_rows` replaces the rows of a chart's dataset in the browser without sending the spec
+again, so the chart redraws its marks but is not rebuilt (the wording chart on a topic switch).
+The rows live in the synced trait ``_py_to_js_updates`` that altair's front end already reads
+(made for VegaFusion); the bundle also applies them whenever the chart is drawn anew, so a
+re-shown cell, or a chart first drawn after the change, shows them too.
 
 Altair itself is imported only when the first chart widget is made.
 """
@@ -38,9 +45,6 @@ def cache_dir() -> Path:
     return platformdirs.user_cache_path("tm_compare", appauthor=False)
 
 
-# The end of altair's ``reembed`` (index.js): the rows Python replaced are applied after every
-# drawing, when the listeners of that drawing are in place.
-_REEMBED_END = "\n    }\n\n    model.on('change:spec', reembed);"
 _APPLY_ROWS = """
 async function applyHeldRows(model, api) {
     // tm_compare: rows that replaced a dataset after the spec was sent (see _offline.py).
@@ -52,11 +56,26 @@ async function applyHeldRows(model, api) {
     await api.view.runAsync();
 }
 """
+_REEMBED_END = "\n    }\n\n    model.on('change:spec', reembed);"
+_PARAM_HANDLER = "const paramHandler = (_, value) => {"
+#: Our additions to altair's front end (index.js), each at a place that must occur once:
+#: rows Python replaced are applied after every drawing, once its listeners are in place; a
+#: parameter the front end only echoes (Python just set it to that value) is not sent back, which
+#: saves two messages per chart and topic switch.
+_EDITS = (
+    (_REEMBED_END, "\n        await applyHeldRows(model, api);" + _REEMBED_END),
+    (
+        _PARAM_HANDLER,
+        _PARAM_HANDLER
+        + "\n                if (JSON.stringify((model.get('_params') ?? {})[paramName]) === "
+        + "JSON.stringify(value)) return;",
+    ),
+)
 
 
 def _widget_source() -> str:
     # altair's own front-end code, minus the CDN imports that the bundle replaces
-    # (the same trimming altair's JupyterChart.enable_offline does), plus applyHeldRows.
+    # (the same trimming altair's JupyterChart.enable_offline does), plus our _EDITS.
     import altair as alt
 
     from ..errors import MissingDependencyError
@@ -66,15 +85,16 @@ def _widget_source() -> str:
     while lines and (not lines[0].strip() or lines[0].startswith(("import", "//"))):
         lines.pop(0)
     src = "\n".join(lines)
-    if src.count(_REEMBED_END) != 1:
-        msg = (
-            f"altair {alt.__version__}'s chart front end (altair/jupyter/js/index.js) is not the "
-            "one tm_compare extends: its reembed function no longer ends where expected. "
-            "Install an altair version tm_compare supports (see pyproject.toml)."
-        )
-        raise MissingDependencyError(msg)
-    end = "\n        await applyHeldRows(model, api);" + _REEMBED_END
-    return src.replace(_REEMBED_END, end) + _APPLY_ROWS
+    for anchor, replacement in _EDITS:
+        if src.count(anchor) != 1:
+            msg = (
+                f"altair {alt.__version__}'s chart front end (altair/jupyter/js/index.js) is not "
+                f"the one tm_compare extends: {anchor.strip()!r} is no longer found once. "
+                "Install an altair version tm_compare supports (see pyproject.toml)."
+            )
+            raise MissingDependencyError(msg)
+        src = src.replace(anchor, replacement)
+    return src + _APPLY_ROWS
 
 
 def bundle_path() -> Path:
