@@ -201,7 +201,8 @@ def main() -> None:
     now, old = results["current"], results["baseline"]
     print(
         f"model: {args.docs:,} documents x {args.topics} topics (synthetic, as bench/view_speed.py); "
-        f"baseline: the views of commit {args.baseline}, same page, clicks and checks"
+        f"baseline: the views of commit {args.baseline}, same JupyterLab, browser and checks, "
+        "clicks alternating"
     )
     for label, side in (("this tree", now), ("baseline ", old)):
         ms = side["ms"]
