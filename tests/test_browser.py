@@ -273,12 +273,28 @@ fit = Fit.from_arrays(prepared, topic_term, doc_topic, doc_dirichlet=doc_topic *
 """
 
 
+# A view moved before it is drawn: counting each article once, then topic 5. Its wording chart
+# was built on topic 2 and swapped its rows; the page must draw topic 5's. The expected bars come
+# from the plain function: a term leans to its row's source when z > 0, else to the other.
+MOVED = """
+from tm_compare.compare.terms import source_wording
+moved = TopicView(fit, prepared, topic=2, n_boot=50, n_docs=1)
+moved.sources_panel.weighting.value = "unique"
+moved.topic = 5
+w = source_wording(fit, prepared, 5, against="each", weighting="unique")
+print("WORDING=" + ",".join(
+    sorted(f"{t}|{s if z > 0 else o}" for t, s, o, z in zip(w.term, w.source, w.other, w.z))))
+moved
+"""
+
+
 def _planted_notebook(path: Path) -> None:
     cells = [
         PLANTED,
         'view = TopicView(fit, prepared, topic=7, n_boot=50, n_docs=3, downloads="downloads")\n'
         "view",
         "reference = TopicView(fit, prepared, topic=2, n_boot=50, n_docs=1)\nreference",
+        MOVED,
     ]
     notebook = {
         "cells": [
@@ -337,6 +353,16 @@ def test_views_right_on_first_draw_find_download_and_fit(lab):
     # the reference view keeps its own topic
     assert _selected_topic(reference) == 2 and _band_topics(reference) == [2, 2]
     assert set(_map_terms(reference)) <= {f"w2{i}" for i in range(10)}
+    # the moved view draws what Python moved it to, rows swapped in place included
+    moved = page.locator(".tmc-topic-view").nth(2)
+    moved.locator(".tmc-wording [aria-label*='; term: ']").first.wait_for(timeout=60_000)
+    assert _selected_topic(moved) == 5 and _band_topics(moved) == [5, 5]
+    bars = _labels(moved.locator(".tmc-wording [aria-label*='; term: ']"))
+    term, leans = re.compile(r"term: ([^;]+);"), re.compile(r"more in: (\w+)")
+    drawn = sorted(f"{term.search(b).group(1)}|{leans.search(b).group(1)}" for b in bars)
+    printed = "\n".join(page.locator(".jp-OutputArea-output").all_inner_texts())
+    assert drawn == re.search(r"WORDING=(\S+)", printed).group(1).split(",")
+    assert "Counting each article once" in moved.locator(".tmc-sources").inner_text()
     # the term panel: no slider, rankings by our names, the weight a number under more options
     # (the time panel's date range is a slider of its own; the term panel must have none)
     assert view.locator(".tmc-terms-panel").count() == 1

@@ -122,7 +122,7 @@ def test_one_topic_trait_moves_every_panel(view, planted):
             assert html.escape(title) in box.value
     wording = terms.source_wording(fit, prepared, 2, against="each", n_terms=8)
     first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
-    rows = next(iter(view.terms_panel.wording_chart.spec["datasets"].values()))
+    rows = view.terms_panel.wording_chart.rows  # the rows drawn now (swapped in place)
     assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
     assert "Current labels of topic 2" in view.labels_panel.labels.value
 

@@ -453,7 +453,12 @@ class ModelResults:
         )
 
     def _candidates(self, topic: int, n: int) -> np.ndarray:
-        shares = np.asarray(self.fit.doc_topic[:, topic], dtype=float)
+        # One topic-major copy of the shares per model (D x k floats): reading a topic's column
+        # from the document-major matrix cost more than the rest of a view's topic switch.
+        by_topic = self._cached(
+            ("shares by topic",), lambda: np.asarray(self.fit.doc_topic, dtype=float).T.copy()
+        )
+        shares = by_topic[topic]
         keep = []
         for idx in self._source_rows.values():
             if len(idx) > n:

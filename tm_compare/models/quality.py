@@ -36,7 +36,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy.spatial.distance import jensenshannon
+from scipy.special import xlogy
 
 EMPTY_SHARE = 0.1  # near-empty: prevalence below EMPTY_SHARE / k
 DOMINANT_SHARE = 0.2  # rarely dominant: most probable topic of fewer than DOMINANT_SHARE / k
@@ -80,12 +80,15 @@ def divergences(topic_term) -> np.ndarray:
     topics = np.asarray(topic_term, dtype=float)
     topics = topics / topics.sum(axis=1, keepdims=True)
     k = len(topics)
+    # JSD(p, q) = H((p + q) / 2) - (H(p) + H(q)) / 2: one logarithm per term and pair, each
+    # pair once (a TopicView opens on it: 50 topics x 5,000 terms took ~1 s through scipy).
+    neg_entropy = xlogy(topics, topics).sum(axis=1)
     out = np.zeros((k, k))
-    for i in range(k):
-        # scipy returns the distance (square root of the divergence).
-        out[i] = jensenshannon(topics[i][None, :], topics, axis=1, base=2) ** 2
-    np.fill_diagonal(out, 0.0)
-    return np.clip((out + out.T) / 2, 0.0, 1.0)
+    for i in range(k - 1):
+        m = (topics[i] + topics[i + 1 :]) / 2
+        out[i, i + 1 :] = (neg_entropy[i] + neg_entropy[i + 1 :]) / 2 - xlogy(m, m).sum(axis=1)
+    out = (out + out.T) / np.log(2)
+    return np.clip(out, 0.0, 1.0)
 
 
 def topic_quality(fit) -> pd.DataFrame:

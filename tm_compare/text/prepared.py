@@ -275,8 +275,9 @@ class PreparedCorpus:
 
     @property
     def groups(self) -> np.ndarray:
-        g = self.meta["group"]
-        return np.array([None if pd.isna(v) else v for v in g], dtype=object)
+        values = self.meta["group"].to_numpy(dtype=object, copy=True)
+        values[pd.isna(values)] = None  # one vectorised pass: a loop took 0.4 s at 200k documents
+        return values
 
     def __len__(self) -> int:
         return len(self.texts)

@@ -7,6 +7,7 @@ matches. No string from a corpus or a label store reaches the page unescaped.
 
 from __future__ import annotations
 
+import functools
 import re
 from collections.abc import Iterable
 
@@ -22,10 +23,15 @@ _MARK = "background:#fbe7c2;padding:0 1px;border-radius:2px"
 
 
 def _term_pattern(terms: Iterable[str]) -> re.Pattern | None:
+    return _pattern(tuple(sorted({t for t in terms if t}, key=len, reverse=True)))
+
+
+@functools.lru_cache(maxsize=256)  # a topic's terms, met again on every card and revisit
+def _pattern(terms: tuple[str, ...]) -> re.Pattern | None:
     # A term matches as a whole word or as a word's start (stemmed vocabularies keep stems);
     # a phrase token such as "city_council" also matches "city council" and "city-council".
     parts = []
-    for term in sorted({t for t in terms if t}, key=len, reverse=True):
+    for term in terms:
         words = [re.escape(w) for w in re.split(r"[_\s]+", term) if w]
         if words:
             parts.append(r"[\s_-]+".join(words))
@@ -36,8 +42,11 @@ def _term_pattern(terms: Iterable[str]) -> re.Pattern | None:
 
 def emphasise(text, terms: Iterable[str]) -> str:
     """HTML of ``text`` with the given terms wrapped in ``<mark>``; the text itself is escaped."""
+    return _emphasise(text, _term_pattern(terms))
+
+
+def _emphasise(text, pattern: re.Pattern | None) -> str:
     raw = "" if text is None else str(text)
-    pattern = _term_pattern(terms)
     if pattern is None:
         return esc(raw)
     out, last = [], 0
@@ -49,19 +58,21 @@ def emphasise(text, terms: Iterable[str]) -> str:
     return "".join(out)
 
 
-def document_cards(docs: pd.DataFrame, terms: Iterable[str], *, heading: str) -> str:
+def document_cards(docs: Iterable[dict], terms: Iterable[str], *, heading: str) -> str:
     """One column of representative documents as HTML.
 
-    ``docs`` has columns ``title``, ``outlet``, ``date``, ``exposure``, ``share`` and ``snippet``
-    (missing ones are left out of the card).
+    ``docs``: one dict per document (a DataFrame's ``to_dict("records")``) with ``title``,
+    ``outlet``, ``date``, ``exposure``, ``share`` and ``snippet`` (missing ones are left out of
+    the card).
     """
-    terms = list(terms)
+    docs = list(docs)
+    pattern = _term_pattern(terms)
     cards = [f'<div style="font-weight:600;margin:0 0 6px 0">{esc(heading)}</div>']
-    if docs.empty:
+    if not docs:
         cards.append(
             '<div style="color:#6b7078">No document of this source leans on this topic.</div>'
         )
-    for row in docs.to_dict("records"):
+    for row in docs:
         facts = []
         if row.get("outlet") is not None:
             facts.append(esc(row.get("outlet")))
@@ -74,8 +85,8 @@ def document_cards(docs: pd.DataFrame, terms: Iterable[str], *, heading: str) ->
             facts.append(f"topic share {float(row['share']):.0%}")
         cards.append(
             f'<div class="tmc-doc" style="{_BOX}">'
-            f'<div style="font-weight:600">{emphasise(row.get("title") or "(no title)", terms)}</div>'
+            f'<div style="font-weight:600">{_emphasise(row.get("title") or "(no title)", pattern)}</div>'
             f'<div style="color:#5b6068;margin:1px 0 3px 0">{" · ".join(facts)}</div>'
-            f'<div class="tmc-snippet">{emphasise(row.get("snippet"), terms)}</div></div>'
+            f'<div class="tmc-snippet">{_emphasise(row.get("snippet"), pattern)}</div></div>'
         )
     return "".join(cards)

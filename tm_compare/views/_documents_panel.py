@@ -16,15 +16,20 @@ class DocumentsPanel(w.HBox):
             s: w.HTML(layout=w.Layout(flex="1 1 0", min_width="220px", margin="0 8px 0 0"))
             for s in results.sources
         }
-        self._cards: dict[int, dict[str, str]] = {}  # topic -> source -> HTML, for revisits
+        # (results, topic) -> source -> HTML, for revisits (narrowed dates are other results)
+        self._cards: dict[tuple, dict[str, str]] = {}
         super().__init__(list(self.columns.values()), layout=w.Layout(width="100%"))
 
     def show_topic(self, topic: int) -> None:
-        if topic not in self._cards:
+        key = (self.results, topic)
+        if key not in self._cards:
             docs = self.results.documents(topic).rename(columns={"topic_share": "share"})
             words = self.results.top_words(topic)
-            self._cards[topic] = {
-                s: document_cards(docs[docs["source"] == s], words, heading=s) for s in self.columns
+            by_source: dict[str, list[dict]] = {s: [] for s in self.columns}
+            for row in docs.to_dict("records"):  # one pass: small frames cost more than rows
+                by_source.get(row["source"], []).append(row)
+            self._cards[key] = {
+                s: document_cards(rows, words, heading=s) for s, rows in by_source.items()
             }
         for source, box in self.columns.items():
-            box.value = self._cards[topic][source]
+            box.value = self._cards[key][source]

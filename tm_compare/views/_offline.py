@@ -8,7 +8,14 @@ and a ``JupyterChart`` subclass points its ``_esm`` at that file, so a kernel re
 A chart's front end, when it draws (or draws again, e.g. when a cell is re-shown), takes its
 parameters from the spec and reports them back to Python, overwriting any value Python set before
 the drawing existed. :meth:`hold_param` makes Python the owner: the held value is set now, and set
-again whenever the front end reports another one (the "wrong topic on first draw" defect).
+again whenever the front end reports another one (the "wrong topic on first draw" defect). A
+parameter value the front end merely echoes back (Python has just set it) is not reported again.
+
+:meth:`show_rows` replaces the rows of a chart's dataset in the browser without sending the spec
+again, so the chart redraws its marks but is not rebuilt (the wording chart on a topic switch).
+The rows live in the synced trait ``_py_to_js_updates`` that altair's front end already reads
+(made for VegaFusion); the bundle also applies them whenever the chart is drawn anew, so a
+re-shown cell, or a chart first drawn after the change, shows them too.
 
 Altair itself is imported only when the first chart widget is made.
 """
@@ -38,16 +45,56 @@ def cache_dir() -> Path:
     return platformdirs.user_cache_path("tm_compare", appauthor=False)
 
 
+_APPLY_ROWS = """
+async function applyHeldRows(model, api) {
+    // tm_compare: rows that replaced a dataset after the spec was sent (see _offline.py).
+    for (const update of model.get("_py_to_js_updates") ?? []) {
+        if (update.namespace === "data" && dataRef(api.view, update.name, update.scope)) {
+            setDataValue(api.view, update.name, update.scope, update.value);
+        }
+    }
+    await api.view.runAsync();
+}
+"""
+_REEMBED_END = "\n    }\n\n    model.on('change:spec', reembed);"
+_PARAM_HANDLER = "const paramHandler = (_, value) => {"
+#: Our additions to altair's front end (index.js), each at a place that must occur once:
+#: rows Python replaced are applied after every drawing, once its listeners are in place; a
+#: parameter the front end only echoes (Python just set it to that value) is not sent back, which
+#: saves two messages per chart and topic switch.
+_EDITS = (
+    (_REEMBED_END, "\n        await applyHeldRows(model, api);" + _REEMBED_END),
+    (
+        _PARAM_HANDLER,
+        _PARAM_HANDLER
+        + "\n                if (JSON.stringify((model.get('_params') ?? {})[paramName]) === "
+        + "JSON.stringify(value)) return;",
+    ),
+)
+
+
 def _widget_source() -> str:
     # altair's own front-end code, minus the CDN imports that the bundle replaces
-    # (the same trimming altair's JupyterChart.enable_offline does).
+    # (the same trimming altair's JupyterChart.enable_offline does), plus our _EDITS.
     import altair as alt
+
+    from ..errors import MissingDependencyError
 
     src = (Path(alt.__file__).parent / "jupyter" / "js" / "index.js").read_text(encoding="utf-8")
     lines = src.split("\n")
     while lines and (not lines[0].strip() or lines[0].startswith(("import", "//"))):
         lines.pop(0)
-    return "\n".join(lines)
+    src = "\n".join(lines)
+    for anchor, replacement in _EDITS:
+        if src.count(anchor) != 1:
+            msg = (
+                f"altair {alt.__version__}'s chart front end (altair/jupyter/js/index.js) is not "
+                f"the one tm_compare extends: {anchor.strip()!r} is no longer found once. "
+                "Install an altair version tm_compare supports (see pyproject.toml)."
+            )
+            raise MissingDependencyError(msg)
+        src = src.replace(anchor, replacement)
+    return src + _APPLY_ROWS
 
 
 def bundle_path() -> Path:
@@ -79,6 +126,25 @@ def _reassert(self, change) -> None:
             setattr(self.params, name, value)
 
 
+def _show_rows(self, rows: list[dict]) -> None:
+    """Replace the rows of the chart's top-level dataset in the browser (the spec stays)."""
+    name = self.spec["data"]["name"]
+    self._py_to_js_updates = [{"namespace": "data", "name": name, "scope": [], "value": rows}]
+
+
+def _rows(self) -> list[dict]:
+    """The rows of the chart's top-level dataset as drawn now."""
+    for update in self._py_to_js_updates or []:
+        if update["namespace"] == "data":
+            return update["value"]
+    return self.spec["datasets"][self.spec["data"]["name"]]
+
+
+def _forget_rows(self, change) -> None:
+    # A new chart carries its own rows.
+    self._py_to_js_updates = None
+
+
 @functools.cache
 def chart_class() -> type:
     """The ``JupyterChart`` subclass whose front end is the cached bundle (made once per kernel)."""
@@ -93,14 +159,22 @@ def chart_class() -> type:
         {
             "_esm": bundle_path(),
             "__module__": __name__,
-            "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's.",
+            "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's, "
+            "show_rows replaces the data in place.",
             "hold_param": _hold_param,
             "_reassert_held": traitlets.observe("_params")(_reassert),
+            "show_rows": _show_rows,
+            "rows": property(_rows),
+            "_forget_rows": traitlets.observe("chart")(_forget_rows),
         },
     )
 
 
 def chart_widget(chart, **kwargs):
-    """Wrap an Altair chart in an offline widget (SVG renderer, no action menu)."""
+    """Wrap an Altair chart in an offline widget (SVG renderer, no action menu).
+
+    A click reaches Python at once (``debounce_wait=0``; altair waits 10 ms by default, which
+    only pays for selections dragged across a chart, and the views have none)."""
     kwargs.setdefault("embed_options", EMBED_OPTIONS)
+    kwargs.setdefault("debounce_wait", 0)
     return chart_class()(chart, **kwargs)

@@ -58,10 +58,20 @@ def term_map(
         ]
         layers_data.append(extra.assign(kind="context", rank=0))
     data = pd.concat(layers_data, ignore_index=True)
-    data = pd.concat(
-        [_place_names(part, width, height, n_labels) for _, part in data.groupby("topic")],
-        ignore_index=True,
-    )
+    data = data.sort_values("topic", kind="stable", ignore_index=True)
+    # Names are placed topic by topic on plain arrays; the frame gets its four columns once.
+    placed = {"label": [""] * len(data), "dx": [6] * len(data), "dy": [0] * len(data)}
+    placed["align"] = ["left"] * len(data)
+    columns = {c: data[c].to_numpy() for c in ("probability", "share_of_term", "rank", "term")}
+    ranked_rows = data["kind"].to_numpy() == "ranked"
+    for rows in data.groupby("topic", sort=False).indices.values():
+        names = _place_names(
+            *(columns[c][rows] for c in columns), ranked_rows[rows], width, height, n_labels
+        )
+        for column, values in zip(placed, names, strict=True):
+            for row, value in zip(rows, values, strict=True):
+                placed[column][row] = value
+    data = data.assign(**placed)
     pick = alt.selection_point(name=TOPIC_PICK, fields=["topic"], on="click")
     x = alt.X(
         "share_of_term:Q",
@@ -138,40 +148,44 @@ _PLACES = (
 )
 
 
-def _place_names(part: pd.DataFrame, width: int, height: int, n_labels: int) -> pd.DataFrame:
-    """One topic's rows of the term map with ``label``, ``dx``, ``dy`` and ``align``: each ranked
-    term (rank order) takes the first place around its dot where its name overlaps no other name
-    or dot and stays inside the chart; with none free it shows only its rank.
+def _place_names(
+    probability, share_of_term, ranks, terms, ranked_rows, width: int, height: int, n_labels: int
+) -> tuple[list, list, list, list]:
+    """One topic's names on the term map: ``label``, ``dx``, ``dy`` and ``align`` per row. Each
+    ranked term (``ranked_rows``, in rank order) takes the first place around its dot where its
+    name overlaps no other name or dot and stays inside the chart; with none free it shows only
+    its rank.
 
     Pixels are computed as the chart draws them: ``share_of_term`` on [0, 1] across ``width``;
     ``probability`` on a log scale over the topic's values, ``MAP_PAD`` pixels in from each end.
     """
     import numpy as np
 
-    part = part.reset_index(drop=True)
-    n = len(part)
-    logs = np.log(part["probability"].clip(lower=1e-12).to_numpy(float))
+    n = len(probability)
+    logs = np.log(np.clip(np.asarray(probability, dtype=float), 1e-12, None))
     lo, hi = logs.min(), logs.max()
     span = hi - lo if hi > lo else 1.0
-    px = part["share_of_term"].to_numpy(float) * width
+    px = np.asarray(share_of_term, dtype=float) * width
     py = MAP_PAD + (hi - logs) / span * (height - 2 * MAP_PAD)
     dots = np.column_stack([px - 4, py - 4, px + 4, py + 4])
-    taken = np.empty((0, 4))
+    taken: list[tuple] = []
     labels, dxs, dys, aligns = [""] * n, [6] * n, [0] * n, ["left"] * n
-    ranks = part["rank"].to_numpy()
-    terms = part["term"].to_numpy()
-    ranked = np.flatnonzero(part["kind"].to_numpy() == "ranked")
+    ranked = np.flatnonzero(ranked_rows)
 
-    def free(box, own) -> bool:
+    def free(box, others) -> bool:
         x0, y0, x1, y1 = box
         if x0 < 0 or x1 > width or y0 < 0 or y1 > height:
             return False
-        others = np.vstack([taken, np.delete(dots, own, axis=0)])
+        if any(x1 > a and c > x0 and y1 > b and d > y0 for a, b, c, d in taken):
+            return False
         hit = (x1 > others[:, 0]) & (others[:, 2] > x0) & (y1 > others[:, 1]) & (others[:, 3] > y0)
         return not hit.any()
 
+    # Every topic of the map is placed when a view opens: boxes are plain tuples and each
+    # term's other dots are cut out once, not per place tried.
     for i in ranked[np.argsort(ranks[ranked], kind="stable")]:
         rank = int(ranks[i])
+        others = np.delete(dots, i, axis=0)
         texts = [f"{rank} {terms[i]}"] if rank <= n_labels else []
         texts.append(str(rank))
         for text in texts:
@@ -179,10 +193,10 @@ def _place_names(part: pd.DataFrame, width: int, height: int, n_labels: int) -> 
             for dx, dy, align in _PLACES:
                 left = px[i] + dx - (w if align == "right" else w / 2 if align == "center" else 0)
                 box = (left, py[i] + dy - _LABEL_H / 2, left + w, py[i] + dy + _LABEL_H / 2)
-                if free(box, i):
-                    taken = np.vstack([taken, box])
+                if free(box, others):
+                    taken.append(box)
                     labels[i], dxs[i], dys[i], aligns[i] = text, dx, dy, align
                     break
             if labels[i]:
                 break
-    return part.assign(label=labels, dx=dxs, dy=dys, align=aligns)
+    return labels, dxs, dys, aligns

@@ -10,6 +10,7 @@ what each ranking trades. A ranking's weight is a plain number under "more optio
 from __future__ import annotations
 
 import ipywidgets as w
+import numpy as np
 import pandas as pd
 
 from .._html import esc
@@ -30,14 +31,16 @@ CONTEXT_TERMS = 20
 
 def wording_frame(wording: pd.DataFrame, pair: tuple[str, str]) -> pd.DataFrame:
     """Terms ``pair[0]`` uses more (score = z > 0), then those ``pair[1]`` uses more (z < 0)."""
-    first = wording[(wording["source"] == pair[0]) & (wording["other"] == pair[1])]
-    second = wording[(wording["source"] == pair[1]) & (wording["other"] == pair[0])]
-    return pd.concat(
-        [
-            pd.DataFrame({"term": first["term"], "score": first["z"]}),
-            pd.DataFrame({"term": second["term"], "score": -second["z"]}),
-        ],
-        ignore_index=True,
+    # Plain arrays: boolean indexing of a small frame costs more than the rest of a topic switch.
+    source, other = wording["source"].to_numpy(), wording["other"].to_numpy()
+    first = (source == pair[0]) & (other == pair[1])
+    second = (source == pair[1]) & (other == pair[0])
+    term, z = wording["term"].to_numpy(), wording["z"].to_numpy(float)
+    return pd.DataFrame(
+        {
+            "term": np.concatenate([term[first], term[second]]),
+            "score": np.concatenate([z[first], -z[second]]),
+        }
     )
 
 
@@ -65,7 +68,6 @@ class TermsPanel(w.VBox):
         self.results = results
         self.pair = tuple(results.sources[:2])
         self._topic = int(topic)
-        self._specs: dict = {}
         self._syncing = False
         self.method = w.Dropdown(
             options=[(METHOD_NAMES[m], m) for m in choices("method")],
@@ -101,6 +103,7 @@ class TermsPanel(w.VBox):
         )
         self.term_list = w.HTML(layout=w.Layout(width="250px", margin="28px 0 0 12px"))
         self.term_list.add_class("tmc-term-list")
+        self._wording_pair = self.pair
         self.wording_chart = chart_widget(self._wording_chart(self._topic))
         self.wording_chart.add_class("tmc-wording")
         self.method.observe(self._method_changed, names="value")
@@ -186,11 +189,14 @@ class TermsPanel(w.VBox):
     def show_topic(self, topic: int) -> None:
         self._topic = int(topic)
         self.map_chart.hold_param(charts.FOCUS, self._topic)
-        # The wording chart has no parameters or selections, so its spec is swapped directly:
-        # Altair's schema validation of every new chart would cost more than the rest of a switch
-        # (the builder is validated once per view, and in the tests).
-        self.wording_chart.spec = self._wording_spec(self._topic)
         self._show_list()
+        if self.pair != self._wording_pair:  # other sources: other colours and axis title
+            self._wording_pair = self.pair
+            self.wording_chart.chart = self._wording_chart(self._topic)
+        else:
+            # Same design, new rows: the browser redraws the bars without rebuilding the chart.
+            frame = charts.wording_rows(self._wording_frame(self._topic), self.pair)
+            self.wording_chart.show_rows(frame.to_dict("records"))
 
     def ranked_terms(self) -> pd.DataFrame:
         """The selected topic's ranked terms, as the list beside the map shows them."""
@@ -244,21 +250,10 @@ class TermsPanel(w.VBox):
         return self.results.wording(self._topic, self.pair)
 
     def _wording_spec_now(self) -> dict:
-        return self._wording_spec(self._topic)
+        return self._wording_chart(self._topic).to_dict()
+
+    def _wording_frame(self, topic) -> pd.DataFrame:
+        return wording_frame(self.results.wording(topic, self.pair), self.pair)
 
     def _wording_chart(self, topic):
-        frame = wording_frame(self.results.wording(topic, self.pair), self.pair)
-        return charts.wording_chart(frame, sources=self.pair)
-
-    def _wording_spec(self, topic) -> dict:
-        key = (
-            topic,
-            self.pair,
-            self.results.settings["weighting"],
-            self.results.settings["n_terms"],
-        )
-        if key not in self._specs:
-            frame = wording_frame(self.results.wording(topic, self.pair), self.pair)
-            chart = charts.wording_chart(frame, sources=self.pair)
-            self._specs[key] = chart.to_dict(validate=False)
-        return self._specs[key]
+        return charts.wording_chart(self._wording_frame(topic), sources=self.pair)

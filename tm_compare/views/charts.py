@@ -360,10 +360,8 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
         The two sources compared, for the colours and the axis title.
     """
     alt = _alt()
-    data = wording[["term", "score"]].copy()
-    data["leans"] = [sources[0] if s > 0 else sources[1] for s in data["score"]]
     return (
-        alt.Chart(data)
+        alt.Chart(wording_rows(wording, sources))
         .mark_bar()
         .encode(
             x=alt.X(
@@ -388,6 +386,14 @@ def wording_chart(wording: pd.DataFrame, *, sources: tuple[str, str], width: int
             title=alt.Title(wrap("How each source words it", width), anchor="start"),
         )
     )
+
+
+def wording_rows(wording: pd.DataFrame, sources: tuple[str, str]) -> pd.DataFrame:
+    """The data of :func:`wording_chart`: ``term``, ``score`` and ``leans`` (the source the term
+    leans to), so a view can swap one topic's rows for another's in the drawn chart."""
+    data = wording[["term", "score"]].copy()
+    data["leans"] = [sources[0] if s > 0 else sources[1] for s in data["score"]]
+    return data
 
 
 def time_chart(

@@ -4,6 +4,11 @@ function render({ model, el }) {
   const wrap = document.createElement("div");
   wrap.className = "tmc-rows";
   el.appendChild(wrap);
+  let drawn = []; // [row element, its key as JSON], for marking the picked row
+  function mark() {
+    const picked = JSON.stringify(model.get("selected"));
+    for (const [tr, key] of drawn) tr.classList.toggle("tmc-picked", key === picked);
+  }
   function draw() {
     const table = document.createElement("table");
     const caption = model.get("caption");
@@ -19,12 +24,12 @@ function render({ model, el }) {
     }
     const body = table.createTBody();
     const keys = model.get("row_keys");
-    const picked = JSON.stringify(model.get("selected"));
+    drawn = [];
     model.get("rows").forEach((row, i) => {
       const tr = body.insertRow();
       const key = keys[i];
       tr.dataset.key = String(key);
-      if (JSON.stringify(key) === picked) tr.className = "tmc-picked";
+      drawn.push([tr, JSON.stringify(key)]);
       for (const cell of row) {
         tr.insertCell().textContent = cell === null ? "" : String(cell);
       }
@@ -33,11 +38,14 @@ function render({ model, el }) {
         model.save_changes();
       });
     });
+    mark();
     wrap.replaceChildren(table);
   }
-  for (const name of ["rows", "row_keys", "columns", "selected", "caption"]) {
+  for (const name of ["rows", "row_keys", "columns", "caption"]) {
     model.on(`change:${name}`, draw);
   }
+  // A new pick only moves the highlight: the rows stay as drawn.
+  model.on("change:selected", mark);
   draw();
 }
 export default { render };
