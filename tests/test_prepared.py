@@ -134,7 +134,7 @@ def test_cache_hit_does_not_recompute(tmp_path, lee_corpus, monkeypatch):
     def fail(*args, **kwargs):
         raise AssertionError("prepare recomputed although the cache holds this result")
 
-    monkeypatch.setattr(prepared_module, "_build", fail)
+    monkeypatch.setattr(prepared_module, "build", fail)
     second = prepare(lee_corpus, project=tmp_path / "study", min_doc_tokens=5)
     assert second.from_cache
     assert second.fingerprint == first.fingerprint
