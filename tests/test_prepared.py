@@ -217,7 +217,8 @@ def test_cli_prepare_reads_saves_and_caches(tmp_path, capsys):
             "--max-doc-fraction", "1.0"]  # fmt: skip
     assert main(args) == 0
     out = capsys.readouterr().out
-    assert "computed and cached" in out and "80 input rows" in out
+    assert re.search(r"computed in [\d.]+ s, [\d,]+ documents/s, and cached", out)
+    assert "80 input rows" in out
     assert "Share this story with your Quillhaven neighbours." in out
     assert main(args) == 0
     assert "read from the project cache" in capsys.readouterr().out

@@ -94,7 +94,9 @@ class BoilerplateStripper:
         self.found = found
         self._tally: dict[tuple[str, int], list] = {}
 
-    def __call__(self, text: str, group: str) -> str:
+    def __call__(self, text: str, group: str, tally: bool = True) -> str:
+        """``text`` without the boilerplate lines of ``group``; ``tally`` counts them in
+        :meth:`table`."""
         hashes = self.found.get(group)
         if not hashes or "\n" not in text:
             return text
@@ -108,6 +110,8 @@ class BoilerplateStripper:
             if h in hashes:
                 if h not in seen:
                     seen.add(h)
+                    if not tally:
+                        continue
                     entry = self._tally.setdefault((group, h), [line.strip(), 0])
                     entry[1] += 1
             else:

@@ -69,14 +69,14 @@ class Ragged(Sequence):
         for a, b in zip(off[:-1].tolist(), off[1:].tolist(), strict=True):
             yield values[a:b]
 
-    def chunks(self, size: int = 50_000):
+    def chunks(self, size: int = 20_000):
         """``(values, lengths)`` of consecutive blocks of at most ``size`` rows."""
         off = self.offsets
         for lo in range(0, len(self), size):
             hi = min(len(self), lo + size)
             yield self._values[off[lo] : off[hi]], np.diff(off[lo : hi + 1])
 
-    def take(self, rows: np.ndarray, chunk: int = 50_000) -> Ragged:
+    def take(self, rows: np.ndarray, chunk: int = 20_000) -> Ragged:
         """The rows numbered ``rows``, in that order."""
         rows = np.asarray(rows, dtype=np.int64)
         off, out = self.offsets, Ragged()

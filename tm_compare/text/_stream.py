@@ -4,9 +4,9 @@ Texts are read from the corpus a chunk (:data:`CHUNK_ROWS` rows) at a time, so o
 chunk of Python strings exists at once; every pass after tokenizing reads the token ids,
 held flat (:class:`._ragged.Ragged`, 4 bytes a token). What is kept between passes is what
 the later passes need: line-hash counts (boilerplate), MinHash signatures (near-duplicates),
-gensim's phrase counts, document frequencies; never the texts themselves, except the cleaned
-text of each document that the prepared corpus hands on in ``meta["text"]`` (compact
-Arrow-backed strings). Results do not depend on the chunk size.
+gensim's phrase counts, document frequencies; never the texts themselves. The cleaned text
+of each kept document (``meta["text"]``, compact Arrow-backed strings) is made in a last pass,
+boilerplate stripped again. Results do not depend on the chunk size.
 """
 
 from __future__ import annotations
@@ -70,14 +70,13 @@ def build(corpus, s: dict, progress: bool) -> dict:
     bp_groups = labels(frame[by])
 
     strip = _boilerplate(frame, bp_groups, s, bar) if s["boilerplate"] else None
-    index, docs, clean, langs = _tokenize(frame, bp_groups, strip, s, bar)
+    index, docs, langs = _tokenize(frame, bp_groups, strip, s, bar)
     boilerplate = (
         strip.table(pd.Series(bp_groups).value_counts().to_dict())
         if strip is not None
         else BoilerplateStripper({}).table({})
     )
     boilerplate.insert(0, "by", by)
-    del bp_groups
 
     report = RemovalLog.from_dict(corpus.report.to_dict())
     ids = frame["id"].astype(str).to_numpy()
@@ -142,6 +141,8 @@ def build(corpus, s: dict, progress: bool) -> dict:
     docs = docs.map_values(_new_ids(present, len(strings)))
     strings = strings[present]
 
+    clean = _clean_texts(frame, keep, bp_groups, strip)
+    del bp_groups
     meta = _meta(frame, keep, clean, weights, dup_ids, cross, copies)
     if "language" in meta.columns:  # the corpus's own column keeps its values under a new name
         meta = meta.rename(columns={"language": "corpus_language"})
@@ -176,18 +177,16 @@ def _tokenize(frame, groups, strip, s, bar):
     """Second pass: boilerplate stripped, language told, raw tokens encoded per language.
 
     Returns the raw tokens (``TokensByLanguage``), each document's raw token ids (one id space
-    for all languages), the cleaned texts (a list of one Series per chunk) and each
-    document's language ("und": undetected).
+    for all languages) and each document's language ("und": undetected).
     """
-    index, docs, clean, langs = TokensByLanguage(), Ragged(), [], []
+    index, docs, langs = TokensByLanguage(), Ragged(), []
     detect = detector(s["language"]) if is_detected(s["language"]) else None
     drop_undetected = s["undetected"] == "remove"
     with bar(total=len(frame), desc="tokenizing") as shown:
         for lo, hi in _chunks(len(frame)):
-            rows, cleaned = [], []
+            rows = []
             for text, group in zip(_texts(frame, lo, hi), groups[lo:hi], strict=True):
                 text = strip(text, group) if strip is not None else text
-                cleaned.append(text)
                 code = s["language"] if detect is None else detect(text)
                 langs.append(code)
                 if code == UNDETECTED and drop_undetected:
@@ -196,11 +195,10 @@ def _tokenize(frame, groups, strip, s, bar):
                     lang = s["undetected"] if code == UNDETECTED else code
                     rows.append(index.encode(tokenize(text), lang))
             docs.extend(rows)
-            clean.append(pd.Series(cleaned))  # Arrow-backed strings, not Python objects
             shown.update(hi - lo)
     langs = np.array(langs, dtype=object)
     index.shift(docs, np.where(langs == UNDETECTED, s["undetected"], langs))
-    return index, docs, clean, langs
+    return index, docs, langs
 
 
 def _phrase_passes(index: TokensByLanguage, docs: Ragged, keep: np.ndarray, s: dict, bar):
@@ -274,7 +272,7 @@ def _meta(frame, keep, clean, weights, dup_ids, cross, copies) -> pd.DataFrame:
     cols += [c for c in frame.columns if c not in cols]
     # The corpus's text column is left behind before rows are taken: the cleaned one replaces it.
     meta = frame[[c for c in cols if c != "text"]].iloc[keep].reset_index(drop=True)
-    meta.insert(cols.index("text"), "text", _kept_texts(clean, keep))
+    meta.insert(cols.index("text"), "text", clean)
     meta["id"] = meta["id"].astype(str)
     meta["weight"] = weights[keep]
     meta["duplicate_ids"] = [dup_ids[i] for i in keep.tolist()]
@@ -283,14 +281,15 @@ def _meta(frame, keep, clean, weights, dup_ids, cross, copies) -> pd.DataFrame:
     return meta
 
 
-def _kept_texts(parts: list[pd.Series], keep: np.ndarray) -> pd.Series:
-    """The cleaned texts of the rows ``keep`` (sorted), each chunk of ``parts`` dropped once
-    its kept rows are copied, so the texts are never held twice."""
-    out, lo = [], 0
-    for i, part in enumerate(parts):
-        hi = lo + len(part)
-        rows = keep[(keep >= lo) & (keep < hi)] - lo
-        out.append(part.take(rows).reset_index(drop=True))
-        parts[i] = None
-        lo = hi
-    return pd.concat(out, ignore_index=True)
+def _clean_texts(frame, keep: np.ndarray, groups, strip) -> pd.Series:
+    """The texts of the rows ``keep`` (sorted), boilerplate stripped, as Arrow-backed strings."""
+    parts = []
+    for lo, hi in _chunks(len(frame)):
+        rows = keep[(keep >= lo) & (keep < hi)]
+        texts = _texts(frame, lo, hi)
+        if strip is None:
+            cleaned = [texts[i - lo] for i in rows.tolist()]
+        else:
+            cleaned = [strip(texts[i - lo], groups[i], tally=False) for i in rows.tolist()]
+        parts.append(pd.Series(cleaned, dtype=frame["text"].dtype if not cleaned else None))
+    return pd.concat(parts, ignore_index=True)
