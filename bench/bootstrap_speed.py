@@ -1,18 +1,24 @@
-"""Time the bootstrap of topic prevalence against its peers, in one process.
+"""Time the bootstrap of topic prevalence against its peers, in one run.
 
-Clustered (readers): the peer is the loop one writes first: for every replicate, draw
-clusters with replacement within each source, gather their documents, and take the
-weighted mean of their topic shares. It runs ``--naive-replicates`` replicates and is
-scaled to the full count (the output says so).
+Ours runs in one process with up to three threads on this machine's cores: the caller
+draws the replicates' counts (compiled) while two threads multiply drawn blocks with
+the unit sums (one BLAS thread each). Each peer therefore runs in two processes at once,
+each process timed on a sample of the work, and is scaled to the full count (the output
+states the sample and the factor); the pair's wall time covers two samples.
 
 Documents (the default unclustered path, multinomial): the peer is
 ``scipy.stats.bootstrap`` itself, the reference our replicates equal exactly: per
 source and topic, the paired bootstrap of ``sum(w * theta) / sum(w)`` with the
-vectorised statistic. It is timed on one source and one topic with
-``--scipy-replicates`` replicates and scaled to all sources, topics and replicates.
+vectorised statistic, timed on one source and one topic with ``--scipy-replicates``
+replicates per process.
 
-Ours runs ``--runs`` times (interleaved with the peers where they run more than once);
-min and median of wall and CPU seconds are printed.
+Clustered (readers): the peer is the loop one writes first: for every replicate, draw
+clusters with replacement within each source, gather their documents, and take the
+weighted mean of their topic shares; ``--naive-replicates`` replicates per process.
+
+Every case runs ``--runs`` times, ours and its peer alternating; min and median of wall
+and CPU seconds are printed (CPU summed over threads or processes). The first call of
+ours, which compiles the counting code or loads it from numba's cache, is printed apart.
 
     python bench/bootstrap_speed.py --docs 200000 --topics 50 --replicates 1000
 """
@@ -20,7 +26,10 @@ min and median of wall and CPU seconds are printed.
 from __future__ import annotations
 
 import argparse
+import multiprocessing
+import os
 import time
+from concurrent.futures import ProcessPoolExecutor
 
 import numpy as np
 import pandas as pd
@@ -46,36 +55,46 @@ def synthetic(n_docs, k, n_sources, n_clusters, seed=0):
     return Fit.from_arrays(prepared, np.ones((k, 1)), shares), prepared
 
 
-def naive(fit, prepared, n_boot, seed=0):
-    rng = np.random.default_rng(seed)
-    sources, groups, weights = prepared.sources, prepared.groups, prepared.weights
-    members = {}  # source -> list of document index arrays, one per cluster (built once)
+def naive_setup(fit, prepared):
+    """What the loop builds once: each source's clusters as document index arrays."""
+    sources, groups = prepared.sources, prepared.groups
+    members = []
     for source in np.unique(sources):
         in_source = np.flatnonzero(sources == source)
         frame = pd.Series(in_source).groupby(groups[in_source])
-        members[source] = [idx.to_numpy() for _, idx in frame]
+        members.append([idx.to_numpy() for _, idx in frame])
+    return fit.doc_topic, prepared.weights, members
+
+
+def naive(data, n_boot, seed=0):
+    shares, weights, members = data
+    rng = np.random.default_rng(seed)
     out = []
     for _ in range(n_boot):
         rows = []
-        for clusters in members.values():
+        for clusters in members:
             drawn = rng.integers(0, len(clusters), len(clusters))
             docs = np.concatenate([clusters[i] for i in drawn])
-            rows.append(np.average(fit.doc_topic[docs], axis=0, weights=weights[docs]))
+            rows.append(np.average(shares[docs], axis=0, weights=weights[docs]))
         out.append(rows)
     return np.array(out)
 
 
-def scipy_peer(fit, prepared, n_boot, seed=0):
-    """scipy.stats.bootstrap of one topic's weighted mean in the first source."""
+def scipy_setup(fit, prepared):
+    """One topic's weighted shares and the weights of the first source's documents."""
     in_source = np.flatnonzero(prepared.sources == np.unique(prepared.sources)[0])
     w = prepared.weights[in_source]
-    x = fit.doc_topic[in_source, 0] * w
+    return fit.doc_topic[in_source, 0] * w, w
+
+
+def scipy_peer(data, n_boot, seed=0):
+    """scipy.stats.bootstrap of one topic's weighted mean in the first source."""
 
     def ratio(a, b, axis=-1):
         return a.sum(axis=axis) / b.sum(axis=axis)
 
     stats.bootstrap(
-        (x, w),
+        data,
         ratio,
         paired=True,
         vectorized=True,
@@ -86,6 +105,22 @@ def scipy_peer(fit, prepared, n_boot, seed=0):
     )
 
 
+_DATA: dict = {}  # corpus, fit and the peers' inputs, set before the peer processes fork
+_PEERS = {"scipy": scipy_peer, "naive": naive}
+
+
+def _peer_in_worker(name, n_boot, seed):
+    return timed(_PEERS[name], _DATA[name], n_boot, seed)
+
+
+def peer_pair(pool, name, n_boot):
+    """Wall seconds of two peer samples run at once, and their CPU seconds summed."""
+    wall = time.perf_counter()
+    jobs = [pool.submit(_peer_in_worker, name, n_boot, seed) for seed in (0, 1)]
+    cpu = sum(job.result()[1] for job in jobs)
+    return time.perf_counter() - wall, cpu
+
+
 def timed(func, *args, **kwargs):
     """Wall-clock and CPU seconds of one call (CPU time shows the cost on a busy machine)."""
     wall, cpu = time.perf_counter(), time.process_time()
@@ -93,10 +128,67 @@ def timed(func, *args, **kwargs):
     return time.perf_counter() - wall, time.process_time() - cpu
 
 
-def repeated(runs, func, *args, **kwargs):
-    """(min, median) of wall and of CPU seconds over ``runs`` calls."""
-    walls, cpus = zip(*(timed(func, *args, **kwargs) for _ in range(runs)), strict=True)
-    return (min(walls), float(np.median(walls))), (min(cpus), float(np.median(cpus)))
+def summary(times, scale=1.0):
+    """(min, median) of wall and of CPU seconds, each multiplied by ``scale``."""
+    walls, cpus = zip(*times, strict=True)
+    return tuple((min(t) * scale, float(np.median(t)) * scale) for t in (walls, cpus))
+
+
+def compare(args, pool, ours_kwargs, peer, peer_replicates, peer_scale):
+    """Ours and two peer samples alternating ``args.runs`` times: both summaries."""
+    ours, theirs = [], []
+    for _ in range(args.runs):
+        ours.append(timed(prevalence, _DATA["fit"], _DATA["prepared"], **ours_kwargs))
+        theirs.append(peer_pair(pool, peer, peer_replicates))
+    return summary(ours), summary(theirs, peer_scale / 2)
+
+
+def stages(fit, prepared, n_boot, runs):
+    """CPU seconds (min over runs) of each stage of the default path, one stage at a time."""
+    from threadpoolctl import threadpool_limits
+
+    from tm_compare.compare import _bootstrap as bs
+    from tm_compare.compare import prevalence as pv
+
+    def best(func):
+        return min(timed(func)[1] for _ in range(runs))
+
+    design = pv._design(fit, prepared, "prevalence", "exposure", None, None)
+    units = design.units()
+    blocks = []  # (n, rows) of every block, as replicate() draws them
+
+    for a, b in units.bounds():
+        step = max(1, bs._BLOCK // (b - a))
+        blocks += [(a, b, min(step, n_boot - start)) for start in range(0, n_boot, step)]
+
+    def draws():
+        rng = np.random.default_rng(0)
+        for a, b, rows in blocks:
+            bs.draw_counts(b - a, rows, rng, "multinomial")
+
+    one = {}
+    for a, b, rows in blocks:  # one block of counts per shape, drawn off the clock
+        one.setdefault(
+            (b - a, rows), bs.draw_counts(b - a, rows, np.random.default_rng(0), "multinomial")
+        )
+
+    def products():
+        with threadpool_limits(limits=1, user_api="blas"):
+            for a, b, rows in blocks:
+                one[(b - a, rows)] @ units.sums[a:b]
+
+    reps = bs.replicate(units, n_boot, np.random.default_rng(0))
+    return {
+        "checks and design": best(
+            lambda: pv._design(fit, prepared, "prevalence", "exposure", None, None)
+        ),
+        "unit sums (D x (k+1))": best(design.units),
+        "draws + counts (serial)": best(draws),
+        "count x sums products (BLAS)": best(products),
+        "estimates and intervals": best(
+            lambda: pv._summary(units, reps, pv._prevalence_stat, 0.95, "percentile")
+        ),
+    }
 
 
 def main():
@@ -106,55 +198,76 @@ def main():
     parser.add_argument("--sources", type=int, default=3)
     parser.add_argument("--clusters", type=int, default=2_000, help="readers (clusters) in all")
     parser.add_argument("--replicates", type=int, default=1000)
-    parser.add_argument("--naive-replicates", type=int, default=20, help="run, then scaled up")
-    parser.add_argument("--scipy-replicates", type=int, default=50, help="run, then scaled up")
-    parser.add_argument("--runs", type=int, default=5, help="runs of ours per case")
+    parser.add_argument("--naive-replicates", type=int, default=20, help="per process, scaled")
+    parser.add_argument("--scipy-replicates", type=int, default=50, help="per process, scaled")
+    parser.add_argument("--runs", type=int, default=5, help="runs of each side per case")
     args = parser.parse_args()
     fit, prepared = synthetic(args.docs, args.topics, args.sources, args.clusters)
+    _DATA.update(
+        fit=fit,
+        prepared=prepared,
+        scipy=scipy_setup(fit, prepared),
+        naive=naive_setup(fit, prepared),
+    )
     print(
         f"{args.docs:,} documents x {args.topics} topics, {args.sources} sources, "
-        f"{args.clusters:,} clusters, {args.replicates:,} replicates; ours {args.runs} runs"
+        f"{args.clusters:,} clusters, {args.replicates:,} replicates; {args.runs} runs a side; "
+        f"ours: 1 process, 3 threads; peers: 2 processes; {os.cpu_count()} cores"
     )
-    print(f"{'case':<30}{'wall min':>9}{'median':>8}{'cpu min':>9}{'median':>8}")
+    print(f"{'case':<34}{'wall min':>9}{'median':>8}{'cpu min':>9}{'median':>8}")
 
-    def row(name, wall, cpu):
-        print(f"{name:<30}{wall[0]:9.2f}{wall[1]:8.2f}{cpu[0]:9.2f}{cpu[1]:8.2f}")
+    def row(name, wall, cpu, note=""):
+        print(f"{name:<34}{wall[0]:9.2f}{wall[1]:8.2f}{cpu[0]:9.2f}{cpu[1]:8.2f}{note}")
 
-    docs = repeated(args.runs, prevalence, fit, prepared, n_boot=args.replicates, cluster=None)
-    row("documents, multinomial (default)", *docs)
-    scale = args.replicates / args.scipy_replicates * args.topics * args.sources
-    peer = [t * scale for t in timed(scipy_peer, fit, prepared, args.scipy_replicates)]
-    print(
-        f"{'scipy.stats.bootstrap (scaled)':<30}{peer[0]:9.1f}{'':8}{peer[1]:9.1f}"
-        f"   timed on 1 source x 1 topic x {args.scipy_replicates} replicates, "
-        f"scaled x{scale:,.0f}"
-    )
-    print(
-        f"ratio scipy / ours (median): wall {peer[0] / docs[0][1]:.0f}x, "
-        f"cpu {peer[1] / docs[1][1]:.0f}x; goal: ours under 1 s wall (median)"
-    )
-    clustered = repeated(
-        args.runs, prevalence, fit, prepared, n_boot=args.replicates, cluster="group"
-    )
-    row("clustered, percentile", *clustered)
-    base = [
-        t * args.replicates / args.naive_replicates
-        for t in timed(naive, fit, prepared, args.naive_replicates)
-    ]
-    print(
-        f"{'naive loop (scaled)':<30}{base[0]:9.1f}{'':8}{base[1]:9.1f}"
-        f"   timed on {args.naive_replicates} replicates, scaled to {args.replicates:,}"
-    )
-    print(
-        f"ratio naive / ours (median): wall {base[0] / clustered[0][1]:.0f}x, "
-        f"cpu {base[1] / clustered[1][1]:.0f}x"
-    )
+    def ratio(peer, ours, goal=""):
+        print(
+            f"{'':<4}ratio peer / ours (median): wall {peer[0][1] / ours[0][1]:.0f}x, "
+            f"cpu {peer[1][1] / ours[1][1]:.0f}x{goal}"
+        )
+
+    base = {"n_boot": args.replicates}
+    first = timed(prevalence, fit, prepared, cluster=None, **base)
+    print(f"{'first call (numba compile/cache)':<34}{first[0]:9.2f}{'':8}{first[1]:9.2f}")
+    with ProcessPoolExecutor(2, mp_context=multiprocessing.get_context("fork")) as pool:
+        list(pool.map(_peer_in_worker, ["scipy"] * 2, [10] * 2, [0, 1]))  # start both
+        scale = args.replicates / args.scipy_replicates * args.topics * args.sources
+        ours, peer = compare(
+            args, pool, {**base, "cluster": None}, "scipy", args.scipy_replicates, scale
+        )
+        row("documents, multinomial (default)", *ours)
+        row(
+            "scipy.stats.bootstrap (scaled)",
+            *peer,
+            f"  {args.scipy_replicates} replicates of 1 source x 1 topic a process, "
+            f"x{scale / 2:,.0f}",
+        )
+        ratio(peer, ours, "; goal: ours under 1 s wall (median)")
+        parts = stages(fit, prepared, args.replicates, args.runs)
+        for name, seconds in parts.items():
+            print(f"    {name:<32}{'':17}{seconds:9.2f}   cpu, one thread, min of {args.runs}")
+        print(
+            f"    {'sum of stages':<32}{'':17}{sum(parts.values()):9.2f}   "
+            "(draws run beside the products, which run two at a time)"
+        )
+        scale = args.replicates / args.naive_replicates
+        ours, peer = compare(
+            args, pool, {**base, "cluster": "group"}, "naive", args.naive_replicates, scale
+        )
+        row("clustered, percentile", *ours)
+        row(
+            "naive loop (scaled)",
+            *peer,
+            f"  {args.naive_replicates} replicates a process, x{scale / 2:,.0f}",
+        )
+        ratio(peer, ours)
     cases = [
         ("clustered, BCa", {"cluster": "group", "interval": "bca"}),
+        ("documents, BCa", {"cluster": None, "interval": "bca"}),
         ("documents, poisson", {"cluster": None, "resampling": "poisson"}),
     ]
     for name, kwargs in cases:
-        row(name, *repeated(args.runs, prevalence, fit, prepared, n_boot=args.replicates, **kwargs))
+        times = [timed(prevalence, fit, prepared, **base, **kwargs) for _ in range(args.runs)]
+        row(name, *summary(times))
 
 
 if __name__ == "__main__":

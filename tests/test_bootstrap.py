@@ -160,6 +160,96 @@ def test_cluster_bootstrap_equals_scipy_paired_on_cluster_totals():
     np.testing.assert_allclose([lo[0], hi[0]], ref.confidence_interval, rtol=1e-10)
 
 
+def _numpy_counts(rng, n, size, dtype=np.int64):
+    # Reference: numpy's Generator.integers, the call scipy.stats.bootstrap draws its
+    # resample indices with (rng.integers(0, n, (n_resamples, n))), counted per row.
+    drawn = rng.integers(0, n, (size, n), dtype=dtype)
+    return np.stack([np.bincount(row, minlength=n) for row in drawn]).astype(float)
+
+
+@pytest.mark.parametrize(
+    ("n", "size"),
+    [
+        (2, 50),
+        (3, 7),
+        (1000, 20),
+        (66_667, 3),
+        # 2**32 + 1 = 641 x 6,700,417, so numpy's Lemire threshold (2**32 - n) % n is n - 1:
+        # about 10,450 rejected 32-bit values in these 6.7 million draws (arithmetic).
+        (6_700_417, 1),
+    ],
+)
+@pytest.mark.parametrize("skip", [0, 1])
+def test_compiled_counts_equal_numpy_draws_and_leave_the_same_state(n, size, skip):
+    ours_rng, ref_rng = np.random.default_rng(n), np.random.default_rng(n)
+    for rng in (ours_rng, ref_rng):  # skip=1 leaves half of a 64-bit output buffered
+        rng.integers(0, 10, skip, dtype=np.int32)
+    counts = bs.draw_counts(n, size, ours_rng, "multinomial")
+    np.testing.assert_array_equal(counts, _numpy_counts(ref_rng, n, size))
+    # The generator continues as numpy's would (both buffered halves and 64-bit draws).
+    assert ours_rng.integers(0, 2**40, 5).tolist() == ref_rng.integers(0, 2**40, 5).tolist()
+    assert ours_rng.bit_generator.state == ref_rng.bit_generator.state
+
+
+def test_counts_from_other_bit_generators_and_one_unit_equal_numpy():
+    ours_rng = np.random.Generator(np.random.MT19937(4))
+    ref_rng = np.random.Generator(np.random.MT19937(4))
+    counts = bs.draw_counts(500, 6, ours_rng, "multinomial")
+    np.testing.assert_array_equal(counts, _numpy_counts(ref_rng, 500, 6))
+    ours_rng, ref_rng = np.random.default_rng(9), np.random.default_rng(9)
+    assert (bs.draw_counts(1, 4, ours_rng, "multinomial") == 1).all()
+    ref_rng.integers(0, 1, (4, 1))  # numpy draws nothing for a one-value range
+    assert ours_rng.bit_generator.state == ref_rng.bit_generator.state
+
+
+@pytest.mark.parametrize("method", ["percentile", "bca"])
+def test_exposure_weighted_documents_equal_scipy_paired_ratio(method):
+    # A weighted mean over resampled documents is the ratio sum(w x) / sum(w) of the drawn
+    # (x, w) pairs: scipy's paired bootstrap of that ratio, with the same generator, is the
+    # reference (its BCa jackknife leaves out one document at a time).
+    rng = np.random.default_rng(6)
+    x, w = rng.beta(0.5, 3, (400, 3)), rng.integers(1, 20, 400).astype(float)
+    units = _units(x, w)
+    num, den = bs.replicate(units, 600, np.random.default_rng(13))
+    theta_b = _mean_stat(num, den)
+    # The closed form prevalence() uses (scipy's own jackknife is the reference below).
+    accel = bs.stratum_acceleration(units) if method == "bca" else None
+    lo, hi = bs.interval(_mean_stat(*units.totals()), theta_b, 0.9, method, accel)
+
+    def ratio(a, b, axis=-1):
+        return a.sum(axis=axis) / b.sum(axis=axis)
+
+    for topic in range(3):
+        ref = stats.bootstrap(
+            (w * x[:, topic], w),
+            ratio,
+            paired=True,
+            n_resamples=600,
+            confidence_level=0.9,
+            method="BCa" if method == "bca" else "percentile",
+            rng=np.random.default_rng(13),
+        )
+        np.testing.assert_allclose(theta_b[:, topic], ref.bootstrap_distribution, rtol=1e-12)
+        np.testing.assert_allclose([lo[topic], hi[topic]], ref.confidence_interval, rtol=1e-10)
+
+
+def test_closed_form_acceleration_equals_the_generic_jackknife():
+    rng = np.random.default_rng(10)
+    strata = np.repeat([0, 1, 2], [30, 55, 41])
+    clusters = rng.integers(0, 12, len(strata))
+    x, w = rng.dirichlet(np.full(4, 0.3), len(strata)), rng.integers(1, 9, len(strata))
+    for grouped in (None, clusters):
+        units = _units(x, w, strata, grouped)
+        # Reference: the leave-one-unit-out jackknife over every unit of every stratum
+        # (Efron & Tibshirani 1993, sec. 14.3), as scipy.stats.bootstrap sums it over samples.
+        np.testing.assert_allclose(
+            bs.stratum_acceleration(units),
+            bs.jackknife_acceleration(units, _mean_stat),
+            rtol=1e-9,
+            atol=1e-15,
+        )
+
+
 def test_strata_keep_their_number_of_units():
     strata = np.repeat([0, 1, 2], [5, 40, 12])
     units = _units(np.ones(len(strata)), strata=strata)

@@ -290,6 +290,14 @@ def test_report_section_and_cli(project, capsys):
     assert main([*args, "--model", "~ source + outlet_type"]) == 1
     last = capsys.readouterr().err.splitlines()[-1]  # after any Note lines
     assert last.startswith("Error: The formula '~ source + outlet_type'")
+    # The report and the exports take the same flag and show the same numbers.
+    out = project.path / "out"
+    flags = ["--k", "3", "--n-boot", "20", "--n-draws", "2", "--model", "~ source + period"]
+    assert main(["report", str(project.path), *flags, "--out", str(out / "r.html")]) == 0
+    assert "<code>~ source + period</code>" in (out / "r.html").read_text(encoding="utf-8")
+    assert main(["export", str(project.path), *flags, "--charts", "none", "--out", str(out)]) == 0
+    exported = pd.read_csv(out / "model_effects-1.csv")
+    pd.testing.assert_frame_equal(exported, written, check_exact=True)
 
 
 def test_many_valued_covariate_gets_coefficients_only(planted):

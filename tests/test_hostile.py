@@ -317,6 +317,7 @@ CLI = [
     ("sweep passes 0", [*S, "--passes", "0"], None, "'passes'"),
     ("sweep iterations 0", [*S, "--iterations", "0"], None, "'iterations'"),
     ("sweep chunksize 0", [*S, "--chunksize", "0"], None, "'chunksize'"),
+    ("sweep starts 0", [*S, "--starts", "0"], None, "'starts'"),
     ("sweep alpha negative", [*S, "--alpha", "-1"], None, "'alpha'"),
     ("sweep alpha text", [*S, "--alpha", "auto-ish"], None, "give 'symmetric'"),
     ("sweep eta 0", [*S, "--eta", "0"], None, "'eta'"),
@@ -356,6 +357,13 @@ CLI = [
     ("compare against unknown source", [*C, "--against", "archive"], None, "archive"),
     ("compare n-terms 0", [*C, "--n-terms", "0"], None, "'n_terms'"),
     ("compare n-docs 0", [*C, "--n-docs", "0"], None, "'n_docs'"),
+    ("compare model unknown column", [*C, "--model", "~ street"], None, "'street'"),
+    ("compare model not a formula", [*C, "--model", "~ source +"], None, "'~ source +'"),
+    ("compare model empty", [*C, "--model", ""], None, "formula"),
+    ("compare n-draws negative", [*C, "--model", "~ source", "--n-draws", "-1"], None, "'n_draws'"),
+    ("report model unknown column", ["report", "{P}", "--model", "~ street"], None, "'street'"),
+    ("export model not a formula", ["export", "{P}", "--model", "~ (source"], None, "'~ (source'"),
+    ("report n-draws text", ["report", "{P}", "--n-draws", "many"], None, "invalid int value"),
     ("compare sweep.json empty", ["compare", "{D}", "--k", "4"], sweep_state(dict.clear),
      "sweep.json' is damaged"),
     ("compare sweep.json not JSON", ["compare", "{D}", "--k", "4"],
@@ -802,6 +810,17 @@ API = [
      "got int 5"),
     ("top_words negative", lambda c: _fit(c).top_words(-1), SettingsError, "Got -1"),
     ("get_fit missing", lambda c: api("tm_compare.models.sweeps", "load_sweep")(c.project).get_fit(99), SweepError, "k=99"),
+    # recommend's measure names a score column; an unknown one is refused with the accepted
+    # names, not skipped (the rule would otherwise decide on stability alone).
+    ("recommend measure unknown", lambda c: api("tm_compare.models.sweeps", "load_sweep")(c.project).recommend(measure="x"), SettingsError,
+     "must be a score column: 'npmi'"),
+    ("recommend stability unknown", lambda c: api("tm_compare.models.choice", "recommend")(api("tm_compare.models.sweeps", "load_sweep")(c.project).scores_, stability="stab"), SettingsError,
+     "Got 'stab'"),
+    # topic alignment takes fits, not a number of topics
+    ("align_topics a number", lambda c: api("tm_compare.models.alignment", "align_topics")(_fit(c), 5), SettingsError,
+     "'fit_b' parameter of align_topics must be a fitted model"),
+    ("lineage numbers", lambda c: api("tm_compare.models.alignment", "lineage")([4, 6]), SettingsError,
+     "'fits_by_k' parameter of lineage"),
 ]
 # fmt: on
 

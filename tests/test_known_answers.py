@@ -41,7 +41,7 @@ def test_bars_of_griffiths_and_steyvers_give_k_10_recovered():
     # 0.95 is the bar of the issue (about 0.88 with the former fixed settings, see NOTES.md).
     assert best_match_cosine(fit.topic_term, fit.vocab, truth, vocab) > 0.95
     assert fit.converged and fit.passes_used < result.settings_["passes"]
-    assert fit_quality(fit) == {"near_empty": 0, "near_duplicate": 0}
+    assert fit_quality(fit) == {"near_empty": 0, "rarely_dominant": 0, "near_duplicate": 0}
 
 
 def test_planted_themes_of_the_demo_give_their_number():
@@ -49,23 +49,22 @@ def test_planted_themes_of_the_demo_give_their_number():
     # (tm_compare.demo.quillhaven); the suggested k should be 9 and its topics should find
     # the dominant themes: NMI (scikit-learn) between each document's most probable topic and
     # its planted theme.
-    # The demo's own size and grid (tm_compare.demo.run: 3,000 rows, k = 6, 9, 12). At 1,500
-    # rows the rule proposes 7 and names 9 as the runner-up: two of its three seeds leave a
-    # topic near-empty (measured).
+    # The demo's own size and grid (tm_compare.demo.run: 3,000 rows, k = 6, 9, 12).
     frame, truth = demo.scenario(3000, 0)
     corpus = Corpus.from_frame(frame, **demo.CORPUS_COLUMNS)
     prepared = prepare(corpus, progress=False)
     result, rec, fit = _suggested(prepared, list(GRID["k"]))
     assert rec.k == len(truth.themes) == 9, (rec.rule, rec.details)
-    assert fit_quality(fit) == {"near_empty": 0, "near_duplicate": 0}  # all used, distinct
+    # all used and distinct: no near-empty, rarely dominant or near-duplicate topic
+    assert fit_quality(fit) == {"near_empty": 0, "rarely_dominant": 0, "near_duplicate": 0}
     themes = truth.docs.set_index("id").loc[prepared.doc_ids, "theme"].to_numpy()
     nmi = normalized_mutual_info_score(themes, fit.doc_topic.argmax(axis=1))
-    # Threshold chosen here: 0.8. Measured on the demo with its rising festival theme: the three
-    # k = 9 seeds give 0.88, 0.82 and 0.83; each merges two planted themes and leaves a topic
-    # dominant in almost no article, which the near-empty rule (mean share < 0.1/k) does not
-    # flag. A fit that finds all nine themes gives about 0.92; k = 6 gives about 0.8. Raising
-    # this back to 0.9 needs fits that escape such merges (open in issue 11's note).
-    assert nmi > 0.8, nmi
+    # Threshold chosen here: 0.9. Measured on the demo with its rising festival theme: with one
+    # start per fit the three k = 9 seeds gave 0.88, 0.82 and 0.83 (each merged two planted
+    # themes and left a topic near-empty or rarely dominant); with the default eight starts
+    # (models/_starts.py) they give 0.88, 0.92 and 0.92, and the rule reads seed 2 (0.92,
+    # no junk). k = 6 gives about 0.8.
+    assert nmi > 0.9, nmi
 
 
 def test_lda_generated_corpus_with_unequal_prevalences_gives_its_k():
@@ -74,9 +73,9 @@ def test_lda_generated_corpus_with_unequal_prevalences_gives_its_k():
     alpha = np.array([0.3, 0.25, 0.2, 0.1, 0.08, 0.05])
     corpus, truth, vocab = lda_corpus(k=6, n_docs=1500, alpha=alpha, random_state=3)
     prepared = prepare(corpus, progress=False)
-    # Five seeds: online LDA leaves a topic empty at k = 6 in about a third of the seeds here
-    # (seeds 1 and 2 of 0-5, measured), so with three seeds the junk step drops k = 6 and the
-    # rule proposes 4, naming 6 as the runner-up with its near-empty topics.
+    # Five seeds: with one start per fit, online LDA left a topic empty at k = 6 in about a
+    # third of the seeds here (seeds 1 and 2 of 0-5, measured), so with three seeds the junk
+    # step dropped k = 6 and the rule proposed 4; kept at five with today's eight starts.
     result, rec, fit = _suggested(prepared, [4, 6, 8], seeds=5)
     assert rec.k == 6, (rec.rule, rec.details)
     # Recovery floor chosen here: 0.8 (0.83 measured; the rarest topic, alpha 0.05, is the one

@@ -23,6 +23,9 @@ from tm_compare.results import SHAPED_BY, ModelResults
 
 SETTINGS = {"n_boot": 50, "random_state": 3}  # not the defaults, so each path must pass them on
 FLAGS = ["--n-boot", "50", "--random-state", "3"]
+FORMULA = ["--model", "~ source"]
+#: Tables compared across the command line, the exports and the report (the view: the first two).
+CLI_TABLES = ("prevalence", "differences", "over_time", "over_time_differences")
 BOOT_COLUMNS = {"weighting", "cluster", "n_boot", "ci_level", "interval", "resampling"}
 
 
@@ -49,16 +52,29 @@ def four_paths(tmp_path_factory):
     k, seed = 6, 1  # not the recommended model: --k and --seed must reach every path
     out = tmp_path_factory.mktemp("paths")
     model = ["--k", str(k), "--seed", str(seed)]
-    assert main(["compare", str(project), *model, *FLAGS]) == 0
+    assert main(["compare", str(project), *model, *FLAGS, "--over-time", *FORMULA]) == 0
     folder = project / "comparison" / f"k{k}_seed{seed}"
-    cli = {
-        n: pd.read_csv(folder / f"{n}-exposure-group.csv") for n in ("prevalence", "differences")
-    }
+    cli = {n: pd.read_csv(folder / f"{n}-exposure-group.csv") for n in CLI_TABLES}
+    cli["model_effects-1"] = pd.read_csv(folder / "model_effects-1-exposure-group.csv")
     assert (
-        main(["export", str(project), *model, *FLAGS, "--charts", "none", "--out", str(out)]) == 0
+        main(
+            [
+                "export",
+                str(project),
+                *model,
+                *FLAGS,
+                *FORMULA,
+                "--charts",
+                "none",
+                "--out",
+                str(out),
+            ]
+        )
+        == 0
     )
-    exported = {n: pd.read_csv(out / f"{n}.csv") for n in ("prevalence", "differences")}
-    report = collect(project, k, seed, **SETTINGS)  # the tables the report renders
+    exported = {n: pd.read_csv(out / f"{n}.csv") for n in (*CLI_TABLES, "model_effects-1")}
+    # the tables the report renders
+    report = collect(project, k, seed, formulas=FORMULA[1:], **SETTINGS)
     fit = load_fit(project, k, seed)
     view = TopicView(
         fit, load_prepared(project, fit.corpus_fingerprint), poll_seconds=None, **SETTINGS
@@ -69,7 +85,7 @@ def four_paths(tmp_path_factory):
         paths = {
             "compare": cli,
             "export": exported,
-            "report": {n: report.tables[n] for n in ("prevalence", "differences")},
+            "report": {n: report.tables[n] for n in (*CLI_TABLES, "model_effects-1")},
             "view": {"prevalence": shown.prevalence(), "differences": shown.differences()},
         }
         yield paths, report, frames, out
@@ -80,15 +96,18 @@ def four_paths(tmp_path_factory):
 @pytest.mark.slow
 def test_every_path_gives_identical_prevalence_differences_and_intervals(four_paths):
     paths, _, _, _ = four_paths
-    for name in ("prevalence", "differences"):
+    for name in (*CLI_TABLES, "model_effects-1"):
         reference = _as_written(paths["compare"][name])
         for path, tables in paths.items():
+            if name not in tables:  # the view charts prevalence and differences only
+                continue
             # Bit for bit: the same model, settings and random_state give the same draws.
             pd.testing.assert_frame_equal(
                 _as_written(tables[name]), reference, check_exact=True, obj=f"{path} {name}"
             )
-        for column in ("ci_low", "ci_high") if name == "prevalence" else ("diff_ci_low",):
-            assert reference[column].notna().all()
+        if name in ("prevalence", "differences"):
+            for column in ("ci_low", "ci_high") if name == "prevalence" else ("diff_ci_low",):
+                assert reference[column].notna().all()
 
 
 @pytest.mark.slow
@@ -96,9 +115,12 @@ def test_the_settings_used_stand_beside_every_table(four_paths):
     paths, report, _, out = four_paths
     for path, tables in paths.items():
         for name, table in tables.items():
+            assert set(table["cluster"]) == {"group"} and set(table["weighting"]) == {"exposure"}
+            if name.startswith("model_"):  # a regression: no bootstrap settings
+                assert {"formula", "n_draws", "ci_level"} <= set(table.columns), (path, name)
+                continue
             assert BOOT_COLUMNS | {"random_state"} <= set(table.columns), (path, name)
             assert set(table["n_boot"]) == {50} and set(table["random_state"]) == {3}
-            assert set(table["cluster"]) == {"group"} and set(table["weighting"]) == {"exposure"}
     assert set(paths["export"]["differences"]["against"]) == {"each"}
     assert report.settings == report.results.settings and report.settings["n_boot"] == 50
     for name, shaped_by in SHAPED_BY.items():

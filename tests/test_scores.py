@@ -342,6 +342,25 @@ def test_recommend_drops_junk_then_takes_the_best_held_out_fit(crafted):
     assert "every k has junk topics in most fits" in recommend(everywhere).details[0]
 
 
+def test_rarely_dominant_topics_are_junk_for_the_k_and_the_seed(crafted):
+    # Rule (recommend's docstring, models/quality.py): a rarely dominant topic is junk like a
+    # near-empty one. By hand: k = 10 has some in 2 of its 3 fits, so step 1 drops it; of k = 5
+    # and 15, stability keeps 5 (0.8 vs 0.6, s.e. 0.0115), and 15, which got further than 10,
+    # is the runner-up.
+    table = crafted.assign(
+        near_empty=0, near_duplicate=0, rarely_dominant=[0, 0, 0, 1, 2, 0, 0, 0, 0]
+    )
+    rec = recommend(table)
+    assert (rec.k, rec.runner_up) == (5, 15)
+    assert rec.table["step"].tolist() == [4, 0, 1]
+    assert rec.table["rarely_dominant_mean"].tolist() == pytest.approx([0, 1, 0])
+    assert "k = 10: 0, 1, 0" in rec.details[0]
+    # One fit in three with a rarely dominant topic keeps k = 10, and the seed read is clean:
+    # seed 1 has the best NPMI (0.08) but the junk topic, so seed 2 (0.075) is read.
+    once = crafted.assign(near_empty=0, near_duplicate=0, rarely_dominant=[0] * 4 + [1] + [0] * 4)
+    assert (recommend(once).k, recommend(once).seed) == (10, 2)
+
+
 def test_recommend_says_what_is_missing(crafted):
     no_stability = recommend(crafted.drop(columns="stability"))
     assert (no_stability.k, no_stability.seed) == (15, 2)

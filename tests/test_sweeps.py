@@ -57,6 +57,8 @@ def test_tables_have_one_row_per_fit_and_per_topic(saved):
         "umass",
         "prevalence",
         "near_empty",
+        "dominant_share",
+        "rarely_dominant",
         "duplicate_of",
         "stability",
     ]
@@ -65,6 +67,7 @@ def test_tables_have_one_row_per_fit_and_per_topic(saved):
         fit = result.get_fit(row.k, row.seed)
         assert (row.passes, row.converged) == (fit.passes_used, fit.converged)
         assert row.near_empty == fit_quality(fit)["near_empty"]
+        assert row.rarely_dominant == fit_quality(fit)["rarely_dominant"]
         assert row.near_duplicate == fit_quality(fit)["near_duplicate"]
     prevalence = result.topic_scores_.query("k == 4 and seed == 1")["prevalence"]
     np.testing.assert_allclose(prevalence, result.get_fit(4, 1).doc_topic.mean(axis=0))
@@ -355,9 +358,9 @@ def test_unconverged_fits_and_junk_topics_are_named_on_every_surface(saved):
     assert not result.scores_["converged"].any() and (result.scores_["passes"] == 1).all()
     text = summary(result)
     assert "NOT CONVERGED: 4 of 4 fits still moved after 1 passes" in text
-    junk = result.scores_.groupby("k")[["near_empty", "near_duplicate"]].sum()
+    junk = result.scores_.groupby("k")[["near_empty", "rarely_dominant", "near_duplicate"]].sum()
     for k, row in junk.iterrows():
-        assert describe(k, row.near_empty, row.near_duplicate) in text
+        assert describe(k, row.near_empty, row.near_duplicate, row.rarely_dominant) in text
     rec = result.recommend()
     assert f"Proposed: {rec.rule}" in text and rec.details[0] in text
     # Two seeds: the rule says stability cannot be judged (no zero spread is computed).
@@ -368,5 +371,11 @@ def test_unconverged_fits_and_junk_topics_are_named_on_every_surface(saved):
     assert view.numbers.selected_index is None  # the numbers are one click away
     assert all(line.split(":")[0] in view.numbers.children[0].value for line in rec.details)
     frame = view._table_frame()
-    assert {"near_empty", "near_duplicate", "passes", "converged"} <= set(frame.columns)
+    assert {"near_empty", "rarely_dominant", "near_duplicate", "passes", "converged"} <= set(
+        frame.columns
+    )
+    for row in result.scores_.itertuples():  # each fit with junk is named in the view
+        counts = (row.near_empty, row.near_duplicate, row.rarely_dominant)
+        if any(counts):
+            assert describe(row.k, *counts) + f" (seed {row.seed})" in view.health.value
     assert set(frame["converged"]) == {"NO"}

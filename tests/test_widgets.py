@@ -20,6 +20,7 @@ import pytest
 
 from tm_compare.compare import documents, terms
 from tm_compare.compare import prevalence as comparison
+from tm_compare.errors import SettingsError
 from tm_compare.labels.store import LabelStore
 from tm_compare.models.fits import Fit
 from tm_compare.models.sweeps import sweep
@@ -402,6 +403,36 @@ def test_sweep_view_picks_fits_by_click_and_row(planted, monkeypatch):
     ]
 
 
+@pytest.mark.slow
+def test_sweep_view_opened_on_another_fit_keeps_it_from_the_first_draw(planted):
+    _, prepared = planted
+    result = sweep(
+        prepared, k=[2, 3], seeds=2, passes=2, iterations=20, measures=("npmi",), progress=False
+    )
+    rec = result.recommend()
+    other = 5 - rec.k  # the k of the grid [2, 3] that was not suggested
+    view = SweepView(result, k=other, seed=1)
+    key = f"{other}:1"
+    try:
+        assert (view.k, view.seed) == (other, 1) and view.fits_table.selected == key
+        spec_value = [p for p in view.chart.spec["params"] if p["name"] == charts.PICKED]
+        assert spec_value[0]["value"] == key  # the first drawing already shows the pick
+        # A drawing reports the spec's or an earlier value back (altair's front end does so on
+        # every (re)draw); the view stays the owner and sets its pick again.
+        view.chart._params = {**view.chart._params, charts.PICKED: f"{rec.k}:{rec.seed}"}
+        assert view.chart.params.picked == key and view.chart._params[charts.PICKED] == key
+        view.measure_choice.value = "stability"  # a new chart for another score keeps it too
+        view.chart._params = {**view.chart._params, charts.PICKED: ""}
+        assert view.chart.params.picked == key
+        assert view.picked_fit() is result.get_fit(other, 1)
+        # k alone opens on that k's first seed
+        assert (SweepView(result, k=other).k, SweepView(result, k=other).seed) == (other, 0)
+        with pytest.raises(SettingsError, match="'k and seed' parameter of SweepView"):
+            SweepView(result, k=7)
+    finally:
+        view.close()
+
+
 def test_offline_bundle_is_built_once_and_loads_nothing_remote(tmp_path, monkeypatch):
     path = bundle_path()
     a = chart_widget(
@@ -423,7 +454,6 @@ def test_ipython_extension_registers_magic_and_summaries(planted):
     from IPython.core.interactiveshell import InteractiveShell
 
     from tm_compare import load_ipython_extension
-    from tm_compare.errors import SettingsError
 
     fit, _ = planted
     shell = InteractiveShell.instance()

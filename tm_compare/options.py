@@ -67,7 +67,7 @@ _TABLE = (
         "resampling",
         "multinomial",
         ("multinomial", "poisson"),
-        "how replicates draw units (Poisson is faster on many units)",
+        "how replicates draw units (Poisson: independent Poisson(1) counts; as fast)",
     ),
     Option("fdr", 0.05, None, "false discovery rate of the Benjamini-Hochberg adjustment"),
     Option(
@@ -172,6 +172,12 @@ _TABLE = (
         "distance) twice in a row; 0 runs every pass",
     ),
     Option("iterations", 50, None, "inference iterations per document"),
+    Option(
+        "starts",
+        8,
+        None,
+        "random starts probed per fit (three online updates each); the best is fitted in full",
+    ),
     Option(
         "chunksize",
         "auto",

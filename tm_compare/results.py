@@ -545,13 +545,25 @@ class ModelResults:
 
     # --- everything ---------------------------------------------------------------------------
 
-    def tables(self) -> dict[str, pd.DataFrame]:
+    @property
+    def has_dates(self) -> bool:
+        """Whether any document of the prepared corpus has a date (over-time tables possible)."""
+        try:
+            over_time.document_dates(self.prepared, "ModelResults.has_dates")
+        except ComparisonError:
+            return False
+        return True
+
+    def tables(self, over_time: bool | None = None) -> dict[str, pd.DataFrame]:
         """Every table by name, as the exports write them.
 
         ``prevalence``; ``differences`` (two sources or more); ``influence`` when clusters are
         resampled, and ``cap_effect`` when a cluster is flagged; ``terms`` (every method);
-        ``documents`` (every topic); ``document_topics``; and ``labels``, ``consensus``,
-        ``agreement`` once :meth:`read_labels` was called.
+        ``documents`` (every topic); ``document_topics``; ``over_time`` and
+        ``over_time_differences`` (two sources or more) when ``over_time`` is True, or when it
+        is None and documents have dates; ``model_coefficients-N``, ``model_prevalence-N`` and
+        ``model_effects-N`` for each prevalence model computed so far (N counts from 1); and
+        ``labels``, ``consensus``, ``agreement`` once :meth:`read_labels` was called.
         """
         out = {"prevalence": self.prevalence()}
         if len(self.sources) > 1:
@@ -565,5 +577,11 @@ class ModelResults:
         out["terms"] = self.terms()
         out["documents"] = self.documents()
         out["document_topics"] = self.document_topics()
+        if over_time or (over_time is None and self.has_dates):
+            out["over_time"] = self.over_time()
+            if len(self.sources) > 1:
+                out["over_time_differences"] = self.over_time_differences()
+        for number, model in enumerate(self.prevalence_models(), start=1):
+            out.update({f"{name}-{number}": t for name, t in model.tables().items()})
         out.update(self._cache.get("labels", {}))
         return out

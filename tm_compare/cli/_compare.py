@@ -82,6 +82,19 @@ def notes():
         print(f"Note: {note.message}", file=sys.stderr)
 
 
+def add_formulas(parser) -> None:
+    """``--model FORMULA`` (repeatable) and ``--n-draws``, shared by compare, report, export."""
+    parser.add_argument(
+        "--model",
+        metavar="FORMULA",
+        action="append",
+        default=[],
+        help='also regress prevalence on covariates, e.g. "~ source * period + outlet" '
+        "(columns of the corpus; repeatable)",
+    )
+    add_option(parser, "n_draws")
+
+
 def register(subparsers) -> None:
     parser = subparsers.add_parser(
         "compare",
@@ -106,15 +119,7 @@ def register(subparsers) -> None:
         help="also write prevalence per source and period, and differences per period "
         "(over_time-*.csv, over_time_differences-*.csv); needs document dates",
     )
-    parser.add_argument(
-        "--model",
-        metavar="FORMULA",
-        action="append",
-        default=[],
-        help='also regress prevalence on covariates, e.g. "~ source * period + outlet" '
-        "(columns of the corpus; repeatable); writes model_*.csv",
-    )
-    add_option(parser, "n_draws")
+    add_formulas(parser)
     parser.add_argument(
         "--by-group",
         action="store_true",
@@ -192,11 +197,11 @@ def run(args) -> int:
         results = ModelResults(fit, prepared, **settings(args))
         # Prevalence models first: a bad formula stops before any table is written.
         models = [results.prevalence_model(f, n_draws=args.n_draws) for f in args.model]
-        made = {n: t for n, t in results.tables().items() if n in WRITTEN}
-        if args.over_time:
-            made["over_time"] = results.over_time()
-            if len(results.sources) > 1:
-                made["over_time_differences"] = results.over_time_differences()
+        made = {
+            n: t
+            for n, t in results.tables(over_time=args.over_time).items()
+            if n in WRITTEN or n.startswith("over_time")
+        }
     s = results.settings
     suffix = f"{s['weighting']}-{s['cluster'] or NO_CLUSTER}"
     folder = Path(project.folder("comparison")) / f"k{args.k}_seed{args.seed}"
@@ -221,7 +226,7 @@ def run(args) -> int:
     for number, model in enumerate(models, start=1):
         for name, table in model.tables().items():
             with atomic_path(folder / f"{name}-{number}-{suffix}.csv") as tmp:
-                table.to_csv(tmp, index=False)
+                to_csv(table, tmp)
         clear = model.effects[model.effects["p_adjusted"] <= s["fdr"]]
         print(
             f"Model {number} {model.formula!r}: {len(clear)} of {len(model.effects)} effects "

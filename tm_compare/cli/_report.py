@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ._compare import add_settings, described, notes, settings
+from ._compare import add_formulas, add_settings, described, notes, settings
 
 
 def add_model_options(parser) -> None:
@@ -22,6 +22,7 @@ def add_model_options(parser) -> None:
         help="seed of the model (default: the recommended seed, or 0 with --k)",
     )
     add_settings(parser)
+    add_formulas(parser)
 
 
 def collect_results(args):
@@ -29,7 +30,14 @@ def collect_results(args):
     from ..report.exports import collect
 
     with notes():
-        return collect(args.project, args.k, args.seed, **settings(args))
+        return collect(
+            args.project,
+            args.k,
+            args.seed,
+            formulas=args.model,
+            n_draws=args.n_draws,
+            **settings(args),
+        )
 
 
 def register(subparsers) -> None:

@@ -6,7 +6,7 @@ import argparse
 
 from .._validation import check_limit
 from ..errors import SettingsError
-from ..models._engines import SETTINGS
+from ..models.fits import SETTINGS
 from ..options import default
 from . import add_option
 

@@ -21,30 +21,44 @@ Hochberg (1995), JRSS B 57 (false discovery rate).
 
 from __future__ import annotations
 
+from collections import deque
 from collections.abc import Callable, Iterator
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
+from functools import cache
 
 import numpy as np
 import scipy.sparse as sp
 from scipy.special import ndtr, ndtri
 from scipy.stats import false_discovery_control, poisson
-from threadpoolctl import threadpool_limits
+from threadpoolctl import ThreadpoolController
 
 # Elements of one (replicates x units) count block: about 32 MB of float64, small enough to
-# stay near the caches; two blocks are in flight at a time.
+# stay near the caches; while one block is drawn, up to _PRODUCT_THREADS are multiplied.
 _BLOCK = 1 << 22
+_PRODUCT_THREADS = 2
 _JACKKNIFE_CHUNK = 4096
 
 
 @dataclass(frozen=True)
 class Units:
-    """Per-unit sums: ``num[u] = sum_d w_d theta_d``, ``den[u] = sum_d w_d`` over unit u."""
+    """Per-unit sums, ``sums[u] = (sum_d w_d theta_d, sum_d w_d)`` over the documents of unit u.
+
+    The weighted shares and the weight share one (U, k + 1) array, so a batch of replicates
+    multiplies its counts with both in one product.
+    """
 
     stratum: np.ndarray  # (U,) stratum code of each unit, units sorted by stratum
-    num: np.ndarray  # (U, k)
-    den: np.ndarray  # (U,)
+    sums: np.ndarray  # (U, k + 1): num (U, k), then den
     n_strata: int
+
+    @property
+    def num(self) -> np.ndarray:
+        return self.sums[:, :-1]
+
+    @property
+    def den(self) -> np.ndarray:
+        return self.sums[:, -1]
 
     def bounds(self) -> list[tuple[int, int]]:
         """Start and stop index of each stratum's units."""
@@ -53,8 +67,8 @@ class Units:
 
     def totals(self) -> tuple[np.ndarray, np.ndarray]:
         """Full-sample sums per stratum: num (S, k), den (S,)."""
-        num = np.stack([self.num[a:b].sum(axis=0) for a, b in self.bounds()])
-        return num, np.array([self.den[a:b].sum() for a, b in self.bounds()])
+        both = np.stack([self.sums[a:b].sum(axis=0) for a, b in self.bounds()])
+        return both[:, :-1], both[:, -1]
 
 
 def unit_codes(strata: np.ndarray, clusters: np.ndarray | None) -> np.ndarray:
@@ -76,20 +90,23 @@ def unit_codes(strata: np.ndarray, clusters: np.ndarray | None) -> np.ndarray:
 def unit_sums(shares, weights, strata, units, n_strata) -> Units:
     """Sum weights and weighted shares per unit, dropping zero-weight units (they never count)."""
     n_units = int(units.max()) + 1
+    k = shares.shape[1]
     if n_units == len(units):  # every document is its own unit: no sums to take
-        order = np.lexsort((units, strata))
-        keep = order[weights[order] > 0]
-        num = shares[keep] * weights[keep, None]
-        return Units(strata[keep], num, weights[keep], n_strata)
+        from ._kernels import weighted_rows  # numba: imported at the first bootstrap
+
+        keep = np.lexsort((units, strata))
+        keep = keep[weights[keep] > 0]
+        return Units(strata[keep], weighted_rows(shares, weights, keep), n_strata)
     # A sparse (units x documents) matrix of weights sums rows far faster than np.add.at.
     members = sp.csr_matrix((weights, (units, np.arange(len(units)))), shape=(n_units, len(units)))
-    num = np.asarray(members @ shares)
-    den = np.bincount(units, weights=weights, minlength=n_units)
+    sums = np.empty((n_units, k + 1))
+    sums[:, :k] = members @ shares
+    sums[:, k] = np.bincount(units, weights=weights, minlength=n_units)
     stratum = np.zeros(n_units, dtype=np.int64)
     stratum[units] = strata
     order = np.lexsort((np.arange(n_units), stratum))
-    keep = order[den[order] > 0]
-    return Units(stratum[keep], num[keep], den[keep], n_strata)
+    keep = order[sums[order, k] > 0]
+    return Units(stratum[keep], sums[keep], n_strata)
 
 
 # Poisson(1) frequencies by table look-up of 16-bit uniforms: a 65,536-entry inverse CDF,
@@ -100,33 +117,17 @@ _POISSON_TABLE = np.searchsorted(
 
 
 def draw_counts(n: int, size: int, rng: np.random.Generator, method: str) -> np.ndarray:
-    """Draw counts (size x n): how often each of n units enters each replicate.
+    """Draw counts (size x n, float64): how often each of n units enters each replicate.
 
-    ``"multinomial"`` draws n units with replacement (the classical bootstrap, drawn as
-    ``rng.integers(0, n, (size, n))`` exactly as ``scipy.stats.bootstrap`` draws its
-    indices); ``"poisson"`` draws independent Poisson(1) counts, much faster for large n.
+    ``"multinomial"`` draws n units with replacement (the classical bootstrap), the very
+    integers ``rng.integers(0, n, (size, n))`` gives, as ``scipy.stats.bootstrap`` draws its
+    indices (see :mod:`._kernels`); ``"poisson"`` draws independent Poisson(1) counts.
     """
-    return _to_counts(_draw(n, size, rng, method), n, method)
+    from ._kernels import multinomial_counts, table_counts  # numba: at the first bootstrap
 
-
-def _draw(n: int, size: int, rng: np.random.Generator, method: str) -> np.ndarray:
-    """The random part of :func:`draw_counts`: indices (multinomial) or 16-bit uniforms."""
     if method == "poisson":
-        return rng.integers(0, 65536, (size, n), dtype=np.uint16)
-    # 32-bit indices are the same numbers as scipy's 64-bit ones (numpy draws both with
-    # the same 32-bit bounded generator when n < 2**32), drawn about 1.5x faster.
-    return rng.integers(0, n, (size, n), dtype=np.int32 if n < 2**31 else np.int64)
-
-
-def _to_counts(drawn: np.ndarray, n: int, method: str) -> np.ndarray:
-    if method == "poisson":
-        return _POISSON_TABLE[drawn]
-    # One replicate at a time: its counts stay in the caches (3-4x faster than one
-    # bincount over the whole block with offsets).
-    counts = np.empty((len(drawn), n))
-    for row, indices in zip(counts, drawn, strict=True):
-        row[:] = np.bincount(indices, minlength=n)
-    return counts
+        return table_counts(rng.integers(0, 65536, (size, n), dtype=np.uint16), _POISSON_TABLE)
+    return multinomial_counts(rng, n, size)
 
 
 def replicate(
@@ -142,40 +143,47 @@ def replicate(
     With ``redraw`` (model uncertainty), replicates run in ``n_redraws`` batches and each
     batch uses the unit sums of one fresh call ``redraw(rng)``.
 
-    Blocks of replicates are drawn in order from ``rng`` (so the draws are those of one
-    call per stratum and batch); while the next block is drawn, a second thread turns
-    the previous one into counts and multiplies them with the unit sums (numpy's
-    generator and the matrix product release the GIL).
+    Blocks of replicates are drawn in order from ``rng`` by the calling thread (so the
+    draws are those of one call per stratum and batch); :data:`_PRODUCT_THREADS` threads
+    multiply the blocks already drawn with the unit sums meanwhile (the compiled drawing
+    and the matrix product release the GIL).
     """
-    k = units.num.shape[1]
+    k = units.sums.shape[1] - 1
     num = np.empty((n_boot, units.n_strata, k))
     den = np.empty((n_boot, units.n_strata))
 
-    def product(drawn, rows, s, sums, n):
-        both = _to_counts(drawn, n, method) @ sums
+    def product(counts, rows, s, sums):
+        both = counts @ sums  # topic sums and weight together: the counts are read once
         num[rows, s], den[rows, s] = both[:, :k], both[:, k]
 
     batches = np.array_split(np.arange(n_boot), n_redraws if redraw else 1)
-    # One BLAS thread: drawing already keeps the other core busy, and a multi-threaded
-    # product of these thin blocks spends more CPU than it saves (measured here).
-    with threadpool_limits(limits=1, user_api="blas"), ThreadPoolExecutor(max_workers=1) as pool:
-        pending: list[Future] = []
+    # One BLAS thread per product: the blocks already run side by side, and a
+    # multi-threaded product of these thin blocks spends more CPU than it saves.
+    with (
+        _threadpools().limit(limits=1, user_api="blas"),
+        ThreadPoolExecutor(max_workers=_PRODUCT_THREADS) as pool,
+    ):
+        pending: deque[Future] = deque()
         for batch in batches:
             current = redraw(rng) if redraw else units
             for s, (a, b) in enumerate(current.bounds()):
                 n = b - a
                 step = max(1, _BLOCK // max(n, 1))
-                # One product for topic sums and weight together: the counts are read once.
-                sums = np.column_stack([current.num[a:b], current.den[a:b]])
                 for start in range(0, len(batch), step):
                     rows = batch[start : start + step]
-                    drawn = _draw(n, len(rows), rng, method)
-                    while len(pending) > 1:  # at most two blocks in memory
-                        pending.pop(0).result()
-                    pending.append(pool.submit(product, drawn, rows, s, sums, n))
+                    counts = draw_counts(n, len(rows), rng, method)
+                    while len(pending) >= _PRODUCT_THREADS:  # bounded memory
+                        pending.popleft().result()
+                    pending.append(pool.submit(product, counts, rows, s, current.sums[a:b]))
         for job in pending:
             job.result()
     return num, den
+
+
+@cache
+def _threadpools() -> ThreadpoolController:
+    """The loaded thread pools, found once (each search walks every loaded library)."""
+    return ThreadpoolController()
 
 
 Statistic = Callable[[np.ndarray, np.ndarray], np.ndarray]
@@ -194,10 +202,33 @@ def jackknife_acceleration(units: Units, statistic: Statistic) -> np.ndarray:
         n = b - a
         values = np.concatenate(list(_leave_one_out(units, statistic, full_num, full_den, s, a, b)))
         u = (n - 1) * (values.mean(axis=0) - values)
-        nums = nums + (u**3).sum(axis=0) / n**3
-        dens = dens + (u**2).sum(axis=0) / n**2
+        squared = u * u
+        nums = nums + (squared * u).sum(axis=0) / n**3
+        dens = dens + squared.sum(axis=0) / n**2
     with np.errstate(invalid="ignore", divide="ignore"):
         return nums / (6 * dens**1.5)
+
+
+def stratum_acceleration(units: Units) -> np.ndarray:
+    """BCa acceleration of each stratum's weighted means (S * k,), in closed form.
+
+    The value :func:`jackknife_acceleration` gives for ``num / den`` per stratum: leaving
+    out unit i moves only its own stratum's means, to ``(T_s - num_i) / (W_s - den_i)``, so
+    each column's sums run over its stratum's units (the other strata add zeros), at the
+    cost of one pass over the unit sums instead of one statistic per unit.
+    """
+    k = units.sums.shape[1] - 1
+    accel = np.empty((units.n_strata, k))
+    for s, (a, b) in enumerate(units.bounds()):
+        n = b - a
+        total = units.sums[a:b].sum(axis=0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            theta = (total[:k] - units.num[a:b]) / (total[k] - units.den[a:b])[:, None]
+            u = (n - 1) * (theta.mean(axis=0) - theta)
+            squared = u * u  # products, not u**3: numpy's power is far slower for cubes
+            squares = squared.sum(axis=0) / n**2
+            accel[s] = (squared * u).sum(axis=0) / n**3 / (6 * squares**1.5)
+    return accel.ravel()
 
 
 def _leave_one_out(units, statistic, full_num, full_den, s, a, b) -> Iterator[np.ndarray]:

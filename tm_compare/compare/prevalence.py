@@ -135,8 +135,7 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
     check(owner, "weighting", weighting)
     check_pair(owner, fit, prepared)
     shares = np.asarray(fit.doc_topic, dtype=float)
-    doc_sources = np.asarray(prepared.sources)
-    n_docs = len(doc_sources)
+    n_docs = len(prepared.meta)
     k = int(fit.k)
     if shares.ndim != 2 or shares.shape != (n_docs, k):
         msg = (
@@ -153,8 +152,11 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
             "or use the matching fit."
         )
         raise ComparisonError(msg)
-    bad = ~np.isfinite(shares).all(axis=1)
-    if bad.any():
+    # Rows summing to finite numbers hold only finite shares (one cheap pass first).
+    with np.errstate(over="ignore"):
+        finite = np.isfinite(shares.sum(axis=1)).all()
+    bad = None if finite else ~np.isfinite(shares).all(axis=1)
+    if bad is not None and bad.any():
         first = corpus_ids[np.flatnonzero(bad)[0]]
         msg = (
             f"The model's doc_topic has NaN or infinite shares in {int(bad.sum())} document(s) "
@@ -162,7 +164,9 @@ def _design(fit, prepared, owner, weighting, cluster, sources, cap_group_share=N
             "those documents from the corpus before preparing it."
         )
         raise ComparisonError(msg)
-    codes, uniques = pd.factorize(doc_sources, sort=True)
+    # The column itself: factorizing it is many times faster than its numpy string array.
+    source = prepared.meta["source"].astype(str)  # a no-op for a string column
+    codes, uniques = pd.factorize(source, sort=True, use_na_sentinel=False)
     present = [str(s) for s in uniques]
     wanted = present if sources is None else [str(s) for s in sources]
     missing = [s for s in wanted if s not in present]
@@ -338,10 +342,14 @@ def _replicates(design, boot: Bootstrap, owner):
     return units, bs.replicate(units, boot.n_boot, rng, boot.resampling, redraw, draws)
 
 
-def _summary(units, reps, statistic, ci, interval):
+def _summary(units, reps, statistic, ci, interval, acceleration=None):
+    """Estimate, replicates and interval; ``acceleration(units)`` replaces the generic
+    jackknife where the statistic has a closed form."""
     theta_hat = statistic(*units.totals())
     theta_b = statistic(*reps)
-    accel = bs.jackknife_acceleration(units, statistic) if interval == "bca" else None
+    accel = None
+    if interval == "bca":
+        accel = acceleration(units) if acceleration else bs.jackknife_acceleration(units, statistic)
     lo, hi = bs.interval(theta_hat, theta_b, ci, interval, accel)
     return theta_hat, theta_b, lo, hi
 
@@ -368,8 +376,9 @@ def prevalence(
     n_boot, ci : replicates and interval level.
     interval : "percentile" or "bca" (Efron & Tibshirani 1993, ch. 14; acceleration from a
         jackknife over clusters within each source, on the point estimates of the shares).
-    resampling : "multinomial" (classical) or "poisson" (Poisson(1) counts; faster on
-        hundreds of thousands of unclustered documents).
+    resampling : "multinomial" (classical; the resamples ``scipy.stats.bootstrap`` draws
+        from the same generator) or "poisson" (independent Poisson(1) counts per unit; about
+        as fast: both are drawn in compiled code).
     model_uncertainty : also draw shares from each document's Dirichlet(``doc_dirichlet``);
         replicates run in ``n_model_draws`` batches, one fresh draw per batch (each draw
         costs D x k gamma variates, so this is much slower on large corpora).
@@ -394,7 +403,9 @@ def prevalence(
     boot, design, units, reps = _run(
         "prevalence", fit, prepared, weighting, cluster, sources, bootstrap
     )
-    theta_hat, theta_b, lo, hi = _summary(units, reps, _prevalence_stat, boot.ci, boot.interval)
+    theta_hat, theta_b, lo, hi = _summary(
+        units, reps, _prevalence_stat, boot.ci, boot.interval, bs.stratum_acceleration
+    )
     n_src, k = len(design.sources), design.shares.shape[1]
     frame = pd.DataFrame(
         {

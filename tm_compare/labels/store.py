@@ -18,7 +18,6 @@ whatever displays them. A URL's password never appears in a repr, log line or er
 from __future__ import annotations
 
 import contextlib
-import functools
 import json
 import numbers
 import uuid
@@ -31,25 +30,24 @@ import pandas as pd
 import sqlalchemy as sa
 
 from .._atomic import atomic_write_text
-from .._deprecation import renamed_attribute, renamed_parameters, warn_renamed
+from .._deprecation import renamed_attribute, warn_renamed
 from .._validation import check_choice, param_error
 from ..errors import LabelStoreError, ReadOnlyStoreError
 from . import _files as _f
 from . import _schema as _s
 from . import categories as _categories
 from ._files import CSV_COLUMNS, EXPORT_FORMAT, EXPORT_VERSION  # noqa: F401 (public names)
+from ._keys import check_topic, fit_id, model_id, renamed_fit
 from ._schema import LABEL_FIELDS
 from .agreement import agreement_table
+from .consensus import CONSENSUS_COLUMNS, ConsensusMixin
+from .rounds import RoundsMixin
 
 DEFAULT_VERDICTS = ("usable", "mixed", "noise")
 #: Label fields whose agreement between analysts is measured.
 AGREEMENT_FIELDS = ("verdict", "category")
 #: Columns of :meth:`LabelStore.agreement`.
 AGREEMENT_COLUMNS = ("field", "scope", "topic", "alpha", "percent_agreement", "n_coders", "n_units")
-#: Columns of :meth:`LabelStore.consensus`.
-CONSENSUS_COLUMNS = tuple(c.key for c in _s.consensus.c if c.key != "id")
-# Methods whose argument ``fit`` was called ``model`` in the first release.
-_renamed_fit = renamed_parameters(model="fit")
 
 
 @dataclass(frozen=True)
@@ -95,42 +93,6 @@ class CheckReport:
     n_labels: int
 
 
-def fit_id(fit) -> str:
-    """The fingerprint of a :class:`Fit`, or a fingerprint given as a string (the CLI's
-    ``--fit``) (formerly ``model_id``)."""
-    value = fit
-    if not isinstance(fit, str):
-        # Imported here so that opening a store does not load scipy (a Fit has loaded it).
-        from ..models.fits import Fit
-
-        value = fit.fingerprint if isinstance(fit, Fit) else None
-    if not isinstance(value, str) or not value.strip() or len(value) > 200:
-        raise param_error(
-            "LabelStore", "fit", fit, "a Fit or its fingerprint string (1-200 characters)"
-        )
-    _s.check_text("fit", value)
-    return value
-
-
-def model_id(model) -> str:
-    """Deprecated: use :func:`fit_id`."""
-    warn_renamed("model_id()", "fit_id()")
-    return fit_id(model)
-
-
-def _topic(topic) -> int:
-    # The same bound on every back end: PostgreSQL's integer holds up to 2**31 - 1, so SQLite
-    # refuses more too and a store moves between them unchanged.
-    if (
-        isinstance(topic, bool)
-        or not isinstance(topic, numbers.Integral)
-        or not 0 <= topic <= _s.INT_MAX
-    ):
-        accepted = f"a topic number, an integer from 0 to {_s.INT_MAX:,} (PostgreSQL's integer)"
-        raise param_error("LabelStore", "topic", topic, accepted)
-    return int(topic)
-
-
 def _unchanged(latest, values: dict) -> bool:
     """Whether ``values`` are the fields of the stored ``latest`` label, which is not retracted."""
     if latest is None or latest.retracted or values.get("retracted"):
@@ -152,7 +114,7 @@ def _frame(rows) -> pd.DataFrame:
     return pd.DataFrame([asdict(_label(r)) for r in rows], columns=list(COLUMNS))
 
 
-class LabelStore(_categories.CategoriesMixin):
+class LabelStore(RoundsMixin, ConsensusMixin, _categories.CategoriesMixin):
     """A team's topic labels, in SQLite or PostgreSQL.
 
     Parameters
@@ -351,84 +313,7 @@ class LabelStore(_categories.CategoriesMixin):
         with self._guard(), self._engine.connect() as conn:
             return _categories.codebook_frame(conn)
 
-    # --- rounds and visibility --------------------------------------------------------------
-
-    def _open_round(self, conn, fit: str):
-        return conn.execute(_s.OPEN_ROUND, {"fit": fit}).first()
-
-    @_renamed_fit
-    def open_round(self, fit, name: str = "", blind: bool = True) -> int:
-        """Open a coding round on ``fit``; while a blind round is open, each analyst reads
-        only their own labels of that fit. Returns the round's id."""
-        fit = fit_id(fit)
-        who = self._writer("open a round")
-        _s.check_text("name", name)
-        with self._guard(), self._write_transaction() as conn:
-            existing = self._open_round(conn, fit)
-            if existing is not None:
-                msg = f"Round {existing.id} ({existing.name!r}) is still open on fit {fit!r}; close it with close_round first."
-                raise LabelStoreError(msg)
-            return conn.execute(
-                _s.rounds.insert().values(
-                    fit=fit, name=name, blind=bool(blind), opened_by=who, opened_at=_s.utc_now()
-                )
-            ).inserted_primary_key[0]
-
-    @_renamed_fit
-    def close_round(self, fit) -> int:
-        """Close the open round on ``fit``; everyone's labels become visible. Returns its id."""
-        fit = fit_id(fit)
-        who = self._writer("close a round")
-        with self._guard(), self._write_transaction() as conn:
-            existing = self._open_round(conn, fit)
-            if existing is None:
-                msg = f"No round is open on fit {fit!r}."
-                raise LabelStoreError(msg)
-            conn.execute(
-                _s.rounds.update()
-                .where(_s.rounds.c.id == existing.id)
-                .values(closed_by=who, closed_at=_s.utc_now())
-            )
-            return existing.id
-
-    @_renamed_fit
-    def rounds(self, fit=None) -> pd.DataFrame:
-        """Rounds, oldest first: ``id``, ``fit``, ``name``, ``blind``, who/when opened and closed."""
-        r = _s.rounds
-        query = sa.select(r).order_by(r.c.id)
-        if fit is not None:
-            query = query.where(r.c.fit == fit_id(fit))
-        return pd.DataFrame([_s.record(x) for x in self._read(query)], columns=[c.key for c in r.c])
-
-    @functools.cached_property
-    def _visible(self):
-        """A filter on labels hiding other analysts' rows of fits in an open blind round."""
-        r = _s.rounds
-        blind = sa.select(r.c.fit).where(r.c.blind.is_(True), r.c.closed_at.is_(None))
-        if self.analyst is None:
-            return _s.labels.c.fit.not_in(blind)
-        return sa.or_(_s.labels.c.fit.not_in(blind), _s.labels.c.analyst == self.analyst)
-
-    @functools.cached_property
-    def _latest_visible(self):
-        t = _s.labels
-        return (
-            sa.select(t)
-            .where(*[t.c[k] == sa.bindparam(k) for k in _s.KEYS["labels"]], self._visible)
-            .order_by(t.c.version.desc())
-            .limit(1)
-        )
-
-    @_renamed_fit
-    def in_blind_round(self, fit) -> bool:
-        """Whether a blind round is open on ``fit``."""
-        r = _s.rounds
-        rows = self._read(
-            sa.select(r.c.id).where(
-                r.c.fit == fit_id(fit), r.c.blind.is_(True), r.c.closed_at.is_(None)
-            )
-        )
-        return bool(rows)
+    # rounds (rounds.py) and settled labels (consensus.py) are mixed in
 
     # --- reading --------------------------------------------------------------------------
 
@@ -462,7 +347,7 @@ class LabelStore(_categories.CategoriesMixin):
         )
         return conn.execute(query).all()
 
-    @_renamed_fit
+    @renamed_fit
     def current(self, fit, *, include_retracted: bool = False) -> pd.DataFrame:
         """The current label of each (topic, analyst) visible to this analyst."""
         fit = fit_id(fit)
@@ -475,11 +360,11 @@ class LabelStore(_categories.CategoriesMixin):
             else frame[~frame["retracted"].astype(bool)].reset_index(drop=True)
         )
 
-    @_renamed_fit
+    @renamed_fit
     def label(self, fit, topic, analyst: str | None = None) -> Label | None:
         """The latest history row of one topic by ``analyst`` (default: this store's analyst),
         retracted or not, or ``None``; its ``version`` is what an edit is ``based_on``."""
-        fit, topic = fit_id(fit), _topic(topic)
+        fit, topic = fit_id(fit), check_topic(topic)
         who = analyst or self._writer("read your own label")
         with self._guard(), self._engine.connect() as conn:
             row = conn.execute(
@@ -494,15 +379,15 @@ class LabelStore(_categories.CategoriesMixin):
             if fit is not None:
                 query = query.where(t.c.fit == fit_id(fit))
             if topic is not None:
-                query = query.where(t.c.topic == _topic(topic))
+                query = query.where(t.c.topic == check_topic(topic))
             return conn.execute(query).all()
 
-    @_renamed_fit
+    @renamed_fit
     def history(self, fit=None, topic=None) -> pd.DataFrame:
         """Every visible history row, in write order."""
         return _frame(self._history_rows(fit, topic))
 
-    @_renamed_fit
+    @renamed_fit
     def side_by_side(self, fit, field: str = "name") -> pd.DataFrame:
         """Current labels as a topic x analyst table of ``field``."""
         check_choice("side_by_side", "field", field, LABEL_FIELDS)
@@ -511,7 +396,7 @@ class LabelStore(_categories.CategoriesMixin):
             return pd.DataFrame(index=pd.Index([], name="topic"))
         return frame.pivot(index="topic", columns="analyst", values=field)
 
-    @_renamed_fit
+    @renamed_fit
     def poll(self, since=0, fit=None) -> Changes:
         """Rows saved after ``since``: a cursor from an earlier poll (an int) or a UTC time
         (``datetime`` or ISO text). Lets a form show colleagues' new labels as they arrive."""
@@ -589,7 +474,7 @@ class LabelStore(_categories.CategoriesMixin):
         return row
 
     def _write_label(self, fit, topic, values: dict, based_on) -> Label:
-        fit, topic = fit_id(fit), _topic(topic)
+        fit, topic = fit_id(fit), check_topic(topic)
         who = self._writer("save a label")
         if based_on is not None and (
             isinstance(based_on, bool) or not isinstance(based_on, numbers.Integral) or based_on < 0
@@ -613,7 +498,7 @@ class LabelStore(_categories.CategoriesMixin):
             row = self._append(conn, key, values, based_on)
         return _label(row)
 
-    @_renamed_fit
+    @renamed_fit
     def save(
         self,
         fit,
@@ -636,7 +521,7 @@ class LabelStore(_categories.CategoriesMixin):
         values.update(confidence=confidence, retracted=False)
         return self._write_label(fit, topic, values, based_on)
 
-    @_renamed_fit
+    @renamed_fit
     def retract(self, fit, topic, *, based_on: int) -> Label:
         """Withdraw this analyst's label of ``topic`` (a new, retracting version)."""
         latest = self.label(fit, topic)
@@ -647,7 +532,7 @@ class LabelStore(_categories.CategoriesMixin):
 
     # --- procedures -----------------------------------------------------------------------
 
-    @_renamed_fit
+    @renamed_fit
     def agreement(self, fit, fields=AGREEMENT_FIELDS, round: int | None = None) -> pd.DataFrame:
         """Krippendorff's alpha (nominal) and percent agreement, per topic and overall.
 
@@ -677,74 +562,10 @@ class LabelStore(_categories.CategoriesMixin):
         result["topic"] = result["topic"].astype("Int64")
         return result[list(AGREEMENT_COLUMNS)]
 
-    @_renamed_fit
-    def settle(self, fit, topic, *, name: str, verdict: str | None = None,
-               category: str | None = None, note: str = "", from_labels=None,
-               based_on: int | None = None) -> dict:  # fmt: skip
-        """Record the settled (consensus) label of ``topic``, who settled it and from which labels.
-
-        ``from_labels``: uids of the history rows it was settled from (default: every analyst's
-        current label of the topic). ``based_on``: the consensus version it replaces (None: first).
-        """
-        fit, topic = fit_id(fit), _topic(topic)
-        who = self._writer("settle a label")
-        if self.in_blind_round(fit):
-            msg = f"A blind round is open on fit {fit!r}; close it before settling labels."
-            raise LabelStoreError(msg)
-        values = {"name": name, "note": note, "verdict": verdict, "category": category}
-        with self._guard(), self._write_transaction() as conn:
-            _categories.refuse_for_new_label(conn, values["category"])
-            values = self._clean(conn, values)
-            current = [r for r in self._current_rows(conn, fit) if r.topic == topic]
-            if from_labels is None:
-                sources = [r.uid for r in current if not r.retracted]
-            else:
-                sources = [from_labels] if isinstance(from_labels, str) else list(from_labels)
-                t = _s.labels
-                query = sa.select(t.c.uid).where(t.c.fit == fit, t.c.topic == topic)
-                unknown = set(sources) - set(conn.execute(query).scalars())
-                if unknown:
-                    accepted = f"uids of labels of topic {topic} of fit {fit!r}"
-                    raise param_error("settle", "from_labels", sorted(unknown), accepted)
-            values.update(settled_by=who, sources=json.dumps(sources))
-            key = {"fit": fit, "topic": topic}
-            self._append(conn, key, values, based_on, table=_s.consensus)
-        return next(r for r in self._consensus_records(fit, False) if r["topic"] == topic)
-
-    def _consensus_records(self, fit: str, history: bool) -> list[dict]:
-        c = _s.consensus
-        rows = self._read(sa.select(c).where(c.c.fit == fit).order_by(c.c.topic, c.c.version))
-        records = [{k: v for k, v in _s.record(r).items() if k != "id"} for r in rows]
-        for rec in records:
-            rec["sources"] = json.loads(rec["sources"])
-        if not history:
-            records = list({rec["topic"]: rec for rec in records}.values())
-        return records
-
-    @_renamed_fit
-    def consensus(self, fit, *, history: bool = False) -> pd.DataFrame:
-        """Settled labels: the latest per topic (or every version with ``history=True``), with
-        ``settled_by`` and ``sources`` (uids of the labels it was settled from)."""
-        records = self._consensus_records(fit_id(fit), history)
-        return pd.DataFrame(records, columns=list(CONSENSUS_COLUMNS))
-
-    def carry_over(
-        self, source, target, *, alignment: pd.DataFrame | None = None, threshold: float = 0.5
-    ) -> pd.DataFrame:
-        """Suggest labels for ``target`` from ``source``'s labels through topic alignment.
-
-        ``alignment``: columns ``topic_a`` (source), ``topic_b`` (target), ``similarity``; by
-        default ``tm_compare.models.alignment.align_topics(source, target)`` (needs both fits).
-        Returns suggestions (nothing is stored): ``topic``, ``from_fit``, ``from_topic``,
-        ``similarity``, ``kind`` ("consensus" or "label"), ``analyst``, ``name``, ``verdict``,
-        ``category``, ``note``; best match first within each target topic.
-        """
-        alignment = _f.carry_over_alignment(source, target, alignment, threshold)
-        return _f.carry_over(self, fit_id(source), alignment, threshold)
-
+    @renamed_fit
     # --- export and import -------------------------------------------------------------------
 
-    @_renamed_fit
+    @renamed_fit
     def export(
         self, fit, path=None, *, format: str | None = None, history: bool = False, top_words=None
     ) -> Path:
@@ -766,7 +587,7 @@ class LabelStore(_categories.CategoriesMixin):
         atomic_write_text(path, text)
         return Path(path)
 
-    @_renamed_fit
+    @renamed_fit
     def export_text(
         self, fit, *, format: str = "json", history: bool = False, top_words=None
     ) -> str:
@@ -782,7 +603,7 @@ class LabelStore(_categories.CategoriesMixin):
         with self._guard(), self._engine.connect() as conn:
             return [_label(r) for r in self._current_rows(conn, fit)]
 
-    @_renamed_fit
+    @renamed_fit
     def import_labels(self, path, *, fit) -> dict:
         """Import a file written by :meth:`export` into this store, for ``fit`` only.
 

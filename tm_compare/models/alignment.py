@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 from scipy.optimize import linear_sum_assignment
 
-from .._validation import check_choice
+from .._validation import check_choice, param_error
 from ..errors import ComparisonError
 
 _METRICS = ("jensen_shannon", "cosine")
@@ -24,7 +24,21 @@ _METRICS = ("jensen_shannon", "cosine")
 
 def similarity_matrix(fit_a, fit_b, metric: str = "jensen_shannon") -> np.ndarray:
     """Similarity (k_a x k_b) of every topic of ``fit_a`` with every topic of ``fit_b``."""
-    check_choice("similarity_matrix", "metric", metric, _METRICS)
+    return _similarity("similarity_matrix", fit_a, fit_b, metric)
+
+
+def _similarity(owner: str, fit_a, fit_b, metric: str) -> np.ndarray:
+    check_choice(owner, "metric", metric, _METRICS)
+    for name, fit in (("fit_a", fit_a), ("fit_b", fit_b)):
+        if not all(hasattr(fit, a) for a in ("topic_term", "vocab", "random_state")):
+            raise param_error(
+                owner,
+                name,
+                fit,
+                "a fitted model (a Fit)",
+                "Pass fits, e.g. sweep.get_fit(k, seed) or load_fit(project, k, seed), "
+                "not a number of topics.",
+            )
     a, b = _common_vocab(fit_a, fit_b)
     if metric == "cosine":
         na = a / np.linalg.norm(a, axis=1, keepdims=True)
@@ -86,7 +100,7 @@ def align_topics(fit_a, fit_b, metric: str = "jensen_shannon") -> pd.DataFrame:
     runner-up means an uncertain match), ``k_a``, ``k_b``, ``seed_a``, ``seed_b`` (the fits'
     ``random_state``, their seed in a sweep).
     """
-    sim = similarity_matrix(fit_a, fit_b, metric)
+    sim = _similarity("align_topics", fit_a, fit_b, metric)
     k_a, k_b = sim.shape
     if k_a == k_b:
         rows, cols = linear_sum_assignment(sim, maximize=True)
@@ -134,7 +148,17 @@ def lineage(fits_by_k, metric: str = "jensen_shannon") -> pd.DataFrame:
     "splits and merges"), ``n_links_from`` and ``n_links_to`` (links of each end).
     """
     check_choice("lineage", "metric", metric, _METRICS)
-    fits = dict(fits_by_k) if isinstance(fits_by_k, dict) else {int(f.k): f for f in fits_by_k}
+    listed = list(fits_by_k.values() if isinstance(fits_by_k, dict) else fits_by_k)
+    for fit in listed:
+        if not hasattr(fit, "k"):
+            raise param_error(
+                "lineage",
+                "fits_by_k",
+                fit,
+                "fits (a mapping k -> Fit, or an iterable of Fit)",
+                "Pass e.g. {k: sweep.get_fit(k, seed) for k in sweep_ks}.",
+            )
+    fits = dict(fits_by_k) if isinstance(fits_by_k, dict) else {int(f.k): f for f in listed}
     if len(fits) < 2:
         msg = (
             f"lineage needs fits for at least two values of k; got k = {sorted(fits)}. "
@@ -144,7 +168,7 @@ def lineage(fits_by_k, metric: str = "jensen_shannon") -> pd.DataFrame:
     ks = sorted(fits)
     frames = []
     for small, large in zip(ks[:-1], ks[1:], strict=True):
-        sim = similarity_matrix(fits[small], fits[large], metric)
+        sim = _similarity("lineage", fits[small], fits[large], metric)
         links = {(int(p), j) for j, p in enumerate(sim.argmax(axis=0))}
         links |= {(i, int(c)) for i, c in enumerate(sim.argmax(axis=1))}
         frame = pd.DataFrame(sorted(links), columns=["topic_from", "topic_to"])

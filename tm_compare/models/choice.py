@@ -20,7 +20,7 @@ from .scores import MEASURE_NAMES, MEASURES
 
 _LOWER_IS_BETTER = {"perplexity"}
 MIN_SEEDS = 3  # stability needs three fits per k: two give one pair of runs and no spread
-_JUNK = ("near_empty", "near_duplicate")
+_JUNK = ("near_empty", "near_duplicate")  # needed to judge junk; "rarely_dominant" when present
 
 
 @dataclass
@@ -99,6 +99,19 @@ def recommend(
         )
     if not isinstance(n_se, int | float) or isinstance(n_se, bool) or n_se < 0:
         raise param_error(owner, "n_se", n_se, "a number >= 0")
+    known = (*MEASURES, "perplexity", "stability", "diversity")
+    for name, value in (("measure", measure), ("stability", stability)):
+        # A known score missing from this table is skipped with a note (below); any other name
+        # is a mistake, never a silent fall-back to the other steps.
+        if value not in known and (value not in scores.columns or value in ("k", "seed")):
+            usable = [c for c in known if c in scores.columns]
+            raise param_error(
+                owner,
+                name,
+                value,
+                "a score column: " + ", ".join(repr(c) for c in usable or known),
+                "Pass one of those, or score the fits with it first.",
+            )
     label = MEASURE_NAMES.get(measure, measure)
     lower = measure in _LOWER_IS_BETTER
     frame = scores.copy()
@@ -120,7 +133,9 @@ def recommend(
         raise InputError(msg)
     has_junk = all(c in frame.columns for c in _JUNK)
     if has_junk:
-        frame["junk"] = frame["near_empty"].astype(float) + frame["near_duplicate"].astype(float)
+        if "rarely_dominant" not in frame.columns:  # sweeps saved before it was counted
+            frame["rarely_dominant"] = 0
+        frame["junk"] = sum(frame[c].fillna(0).astype(float) for c in (*_JUNK, "rarely_dominant"))
         frame["clean"] = frame["junk"] == 0
     grouped = frame.groupby("k")
     table = pd.DataFrame({"fits": grouped.size()})
@@ -132,7 +147,9 @@ def recommend(
             table[f"{col}_mean"] = grouped[col].mean()
     if has_junk:
         table["near_empty_mean"] = grouped["near_empty"].mean()
+        table["rarely_dominant_mean"] = grouped["rarely_dominant"].mean()
         table["near_duplicate_mean"] = grouped["near_duplicate"].mean()
+        table["junk_mean"] = grouped["junk"].mean()
         table["clean_share"] = grouped["clean"].mean()
     if "converged" in frame.columns:
         table["converged_share"] = grouped["converged"].apply(
@@ -146,17 +163,18 @@ def recommend(
     if has_junk:
         clean = table["clean_share"] > 0.5
         if not clean.any():
-            junk = table["near_empty_mean"] + table["near_duplicate_mean"]
-            clean = junk == junk.min()
+            clean = table["junk_mean"] == table["junk_mean"].min()
             details.append(
                 "1. Junk topics: every k has junk topics in most fits; kept the fewest per fit: "
                 + _listed(table, clean)
             )
         else:
             details.append(
-                "1. Junk topics (near-empty topics, near-duplicate pairs per fit): "
+                "1. Junk topics (near-empty topics, rarely dominant topics, near-duplicate "
+                "pairs per fit): "
                 + "; ".join(
-                    f"k = {int(r.k)}: {_num(r.near_empty_mean)}, {_num(r.near_duplicate_mean)}"
+                    f"k = {int(r.k)}: {_num(r.near_empty_mean)}, {_num(r.rarely_dominant_mean)}, "
+                    f"{_num(r.near_duplicate_mean)}"
                     for r in table.itertuples()
                 )
                 + " -> kept "
@@ -326,10 +344,10 @@ def _runner_up(table, chosen, measure, label, lower, final, final_lower):
             f"is less stable across seeds ({_num(r['stability_mean'])} vs "
             f"{_num(chosen['stability_mean'])})"
         )
-    junk = tied["near_empty_mean"] + tied["near_duplicate_mean"]
-    r = tied.loc[junk.sort_values(kind="stable").index[0]]
+    r = tied.loc[tied["junk_mean"].sort_values(kind="stable").index[0]]
     return int(r["k"]), (
         f"has junk topics ({_num(r['near_empty_mean'])} near-empty, "
+        f"{_num(r['rarely_dominant_mean'])} rarely dominant, "
         f"{_num(r['near_duplicate_mean'])} near-duplicate pairs per fit)"
     )
 

@@ -39,7 +39,11 @@ from .._hashing import fingerprint as _fingerprint
 from .._validation import check_choice, check_int, param_error
 from ..errors import CorruptArtifactError, InputError
 from ..options import default
-from . import _engines
+from . import _engines, _starts
+
+#: Fit settings: the engines' (gensim's names) and ``starts`` (see :mod:`._starts`).
+SETTINGS = (*_engines.SETTINGS, "starts")
+DEFAULT_SETTINGS = {**_engines.DEFAULT_SETTINGS, "starts": default("starts")}
 
 FILE_FORMAT = "tm_compare fit"
 FILE_VERSION = 1
@@ -395,9 +399,9 @@ def check_settings(owner: str, settings: dict) -> dict:
     """Validate fit settings (gensim's names, see :mod:`tm_compare.models._engines`); return
     them complete."""
     for name in settings:
-        check_choice(owner, "settings", name, _engines.DEFAULT_SETTINGS)
-    full = {**_engines.DEFAULT_SETTINGS, **settings}
-    for name in ("passes", "iterations", "chunksize"):
+        check_choice(owner, "settings", name, DEFAULT_SETTINGS)
+    full = {**DEFAULT_SETTINGS, **settings}
+    for name in ("passes", "iterations", "chunksize", "starts"):
         value = full[name]
         if name == "chunksize" and value == "auto":
             continue
@@ -420,7 +424,9 @@ def check_settings(owner: str, settings: dict) -> dict:
     if isinstance(tol, bool) or not isinstance(tol, int | float) or not 0 <= tol < 1:
         raise param_error(owner, "tol", tol, "a number in [0, 1)", "Use 0 to run every pass.")
     return {
-        name: (int(v) if name in ("passes", "iterations", "chunksize") and v != "auto" else v)
+        name: (
+            int(v) if name in ("passes", "iterations", "chunksize", "starts") and v != "auto" else v
+        )
         for name, v in full.items()
     }
 
@@ -478,8 +484,10 @@ def train(data: TrainingData, k: int, random_state: int, engine: str, settings: 
     start = time.perf_counter()
     # One math-library thread: results then do not depend on where or beside what a fit runs.
     with threadpool_limits(limits=1):
+        seed = _starts.best_start(data, k, random_state, engine, settings)
+        engine_settings = {n: v for n, v in settings.items() if n != "starts"}
         result = _engines.run(
-            engine, data.matrix, data.heldout, k, random_state, settings, data.vocab
+            engine, data.matrix, data.heldout, k, seed, engine_settings, data.vocab
         )
     seconds = time.perf_counter() - start
     perplexity = float(np.exp(-result.word_bound))
@@ -532,8 +540,10 @@ def fit_lda(
         Fit settings with gensim's names: ``passes`` (the most passes), ``iterations``,
         ``chunksize`` (``"auto"``: ten updates per pass), ``alpha``, ``eta``, ``decay``,
         ``offset``, ``gamma_threshold``, and ``tol``, the topic change below which a fit
-        stops early (``0`` runs every pass); see :mod:`tm_compare.models._engines`. Defaults
-        in :mod:`tm_compare.options`.
+        stops early (``0`` runs every pass); see :mod:`tm_compare.models._engines`; and
+        ``starts``, the random starts probed before the best is fitted (``1``: the start of
+        ``random_state`` alone; see :mod:`tm_compare.models._starts`). Defaults in
+        :mod:`tm_compare.options`.
     """
     check_choice("fit_lda", "engine", engine, _engines.ENGINES)
     settings = check_settings("fit_lda", settings)

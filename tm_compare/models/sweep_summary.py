@@ -17,11 +17,18 @@ SHOWN = [
     "stability",
     "diversity",
     "near_empty",
+    "rarely_dominant",
     "near_duplicate",
     "passes",
     "converged",
     "fit_seconds",
 ]
+
+
+def junk_columns(scores: pd.DataFrame) -> list[str]:
+    """The junk counts a score table holds (sweeps saved before rarely dominant topics were
+    counted lack that column)."""
+    return [c for c in ("near_empty", "rarely_dominant", "near_duplicate") if c in scores]
 
 
 def unconverged(scores: pd.DataFrame) -> pd.DataFrame:
@@ -51,13 +58,10 @@ def health(scores: pd.DataFrame, cap=None) -> list[str]:
     elif "converged" in scores and scores["converged"].notna().all():
         lines.append(f"All {len(scores)} fits converged.")
     if {"near_empty", "near_duplicate"} <= set(scores.columns):
-        per_k = scores.groupby("k")[["near_empty", "near_duplicate"]].sum()
+        per_k = scores.groupby("k")[junk_columns(scores)].sum()
         lines.append(
             "Junk topics, summed over seeds: "
-            + "; ".join(
-                describe(int(k), int(r.near_empty), int(r.near_duplicate))
-                for k, r in per_k.iterrows()
-            )
+            + "; ".join(describe(int(k), **r.astype(int).to_dict()) for k, r in per_k.iterrows())
         )
     return lines
 

@@ -40,6 +40,7 @@ from ..project import Project
 from . import _engines, _saved, quality
 from ._parallel import clean_stop
 from .choice import recommend
+from .fits import SETTINGS as FIT_SETTINGS
 from .fits import Fit, TrainingData, check_k, check_settings, from_stored, stored, train
 from .scores import DIVERSITY_N_TERMS, CoherenceScorer, diversity, stability
 
@@ -74,10 +75,11 @@ class Sweep:
         uses 25).
     measures : tuple of str
         Coherence measures, from ``("npmi", "c_v", "uci", "umass")``.
-    passes, iterations, chunksize, alpha, eta, decay, offset, gamma_threshold, tol
+    passes, iterations, chunksize, alpha, eta, decay, offset, gamma_threshold, tol, starts
         Fit settings (gensim's names, see :func:`tm_compare.models.fits.fit_lda`): by
-        default each fit makes ten online updates per pass and stops once its topics
-        settle (``tol``), after at most ``passes`` passes.
+        default each fit probes ``starts`` random starts and fits the best
+        (:mod:`tm_compare.models._starts`), makes ten online updates per pass and stops once
+        its topics settle (``tol``), after at most ``passes`` passes.
     progress : bool
         Show a progress bar of fits done and time left.
     fallback_local : bool
@@ -93,12 +95,12 @@ class Sweep:
         One row per fit: ``k``, ``seed``, ``engine``, ``fit_seconds``, ``passes`` (made),
         ``converged`` (whether the topics settled before the cap; missing for fits saved
         by older versions), ``last_change``, mean of each coherence measure,
-        ``perplexity``, ``near_empty`` (topics) and ``near_duplicate`` (pairs, see
-        :mod:`tm_compare.models.quality`), ``stability``, ``diversity``, ``fingerprint``.
+        ``perplexity``, ``near_empty`` and ``rarely_dominant`` (topics) and
+        ``near_duplicate`` (pairs, see :mod:`tm_compare.models.quality`), ``stability``, ``diversity``, ``fingerprint``.
     topic_scores_ : DataFrame
         One row per topic of each fit: ``k``, ``seed``, ``topic``, ``top_words``,
-        each coherence measure, ``prevalence``, ``near_empty``, ``duplicate_of`` (-1 for
-        none) and ``stability``.
+        each coherence measure, ``prevalence``, ``near_empty``, ``dominant_share``,
+        ``rarely_dominant``, ``duplicate_of`` (-1 for none) and ``stability``.
     settings_ : dict
         The fit settings every fit was made with.
     corpus_fingerprint_ : str
@@ -138,6 +140,7 @@ class Sweep:
         offset=default("offset"),
         gamma_threshold=default("gamma_threshold"),
         tol=default("tol"),
+        starts=default("starts"),
         progress=True,
         fallback_local=False,
     ):
@@ -161,6 +164,7 @@ class Sweep:
         self.offset = offset
         self.gamma_threshold = gamma_threshold
         self.tol = tol
+        self.starts = starts
         self.progress = progress
         self.fallback_local = fallback_local
 
@@ -248,9 +252,7 @@ class Sweep:
         measures = [check_choice("sweep", "measures", m, choices("measure")) for m in self.measures]
         if not _is_int(self.n_terms) or self.n_terms < 2:
             raise param_error("sweep", "n_terms", self.n_terms, "an integer >= 2")
-        settings = check_settings(
-            "sweep", {name: getattr(self, name) for name in _engines.SETTINGS}
-        )
+        settings = check_settings("sweep", {name: getattr(self, name) for name in FIT_SETTINGS})
         settings.update(holdout=self.holdout, holdout_random_state=self.holdout_random_state)
         return ks, seeds, measures, settings
 
@@ -501,7 +503,9 @@ def _summary(fit: Fit, n_terms: int) -> dict:
         "last_change": fit.last_change,
         "perplexity": fit.perplexity,
         **quality.fit_quality(fit),
-        "topic_quality": per_topic[["prevalence", "near_empty", "duplicate_of"]],
+        "topic_quality": per_topic[
+            ["prevalence", "near_empty", "dominant_share", "rarely_dominant", "duplicate_of"]
+        ],
         "fingerprint": fit.fingerprint,
         "top": fit.top_words(max(n_terms, DIVERSITY_N_TERMS)),
     }
@@ -600,6 +604,7 @@ def _score(summaries: dict, prepared, measures: list[str], n_terms: int, engine:
                 **{m: float(np.mean(per_topic[m])) for m in measures},
                 "perplexity": summaries[key]["perplexity"],
                 "near_empty": summaries[key]["near_empty"],
+                "rarely_dominant": summaries[key]["rarely_dominant"],
                 "near_duplicate": summaries[key]["near_duplicate"],
                 "diversity": diversity(summaries[key]["top"], n_terms=DIVERSITY_N_TERMS),
                 "fingerprint": summaries[key]["fingerprint"],

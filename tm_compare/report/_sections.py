@@ -179,6 +179,7 @@ def sweep_section(results, made: dict) -> dict:
         ("perplexity_mean", "held-out perplexity", lambda v: num(v, 1)),
         ("diversity_mean", "diversity", num),
         ("near_empty_mean", "near-empty topics per fit", num),
+        ("rarely_dominant_mean", "rarely dominant topics per fit", num),
         ("near_duplicate_mean", "near-duplicate pairs per fit", num),
         ("converged_share", "fits converged", lambda v: "" if pd.isna(v) else f"{v:.0%}"),
         (lambda r: "recommended" if r["chosen"] else "", "", None),

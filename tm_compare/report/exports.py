@@ -112,7 +112,15 @@ class Results:
         return self.results.chart_frames(pair)
 
 
-def collect(project, k: int | None = None, seed: int | None = None, **settings) -> Results:
+def collect(
+    project,
+    k: int | None = None,
+    seed: int | None = None,
+    *,
+    formulas=(),
+    n_draws: int | None = None,
+    **settings,
+) -> Results:
     """Every table of one model of ``project``'s sweep (default: the recommended model).
 
     Parameters
@@ -120,6 +128,11 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
     project : Project or path
     k, seed : int, optional
         The model; ``k`` alone takes seed 0. Both None: the sweep's recommendation.
+    formulas : sequence of str
+        Prevalence models to fit (:meth:`ModelResults.prevalence_model`), e.g.
+        ``"~ source * period"``; their tables join the others and the report shows them.
+    n_draws : int, optional
+        Draws of the topic shares for those models (default: the options table's).
     **settings
         Settings of :class:`tm_compare.results.ModelResults` (weighting, cluster, n_boot,
         random_state, ...); defaults from :mod:`tm_compare.options`.
@@ -142,7 +155,10 @@ def collect(project, k: int | None = None, seed: int | None = None, **settings) 
         corpus = load_corpus(project)
     except ProjectError:
         corpus = None  # the prepared corpus alone has ids, sources and titles
-    return Results(project, result, ModelResults(fit, prepared, corpus=corpus, **settings))
+    model = ModelResults(fit, prepared, corpus=corpus, **settings)
+    for formula in formulas:
+        model.prevalence_model(formula, n_draws=n_draws)
+    return Results(project, result, model)
 
 
 def write_tables(results: Results, folder, formats=TABLE_FORMATS) -> list[Path]:
@@ -299,7 +315,7 @@ def data_dictionary(tables=None, path=None) -> str:
         "changed, and the Parquet files hold every value as it is.",
     ]
     for name in tables or COLUMNS:
-        about, columns = COLUMNS[name]
+        about, columns = documented(name)
         lines += ["", f"## {name}", "", about, "", "| column | meaning |", "|---|---|"]
         lines += [f"| `{c}` | {d} |" for c, d in columns.items()]
     return "\n".join(lines) + "\n"
@@ -310,9 +326,15 @@ def write_data_dictionary(path: str | os.PathLike, tables=None) -> Path:
     return atomic_write_text(path, data_dictionary(tables))
 
 
+def documented(name: str) -> tuple[str, dict[str, str]]:
+    """The :data:`COLUMNS` entry of a table; ``model_effects-2`` is a ``model_effects`` table."""
+    base, _, number = name.rpartition("-")
+    return COLUMNS[base if number.isdigit() else name]
+
+
 def undocumented(name: str, table: pd.DataFrame) -> list[str]:
     """Columns of ``table`` that :data:`COLUMNS` does not describe (``topic_N`` count as one)."""
-    known = COLUMNS[name][1]
+    known = documented(name)[1]
     return [
         c
         for c in table.columns
@@ -345,6 +367,7 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "converged": "whether the topics settled before the cap of passes (empty: not recorded)",
             "last_change": "how much the last pass moved the topics (mean total-variation distance)",
             "near_empty": "topics with prevalence below a tenth of 1/k",
+            "rarely_dominant": "other topics that are the most probable topic of fewer than a fifth of 1/k of the documents",
             "near_duplicate": "pairs of topics with Jensen-Shannon divergence below 0.25",
             "npmi": "mean NPMI coherence of the topics' top words (window 10; higher is better)",
             "c_v": "mean C_V coherence (window 110)",
@@ -370,6 +393,8 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "stability": "how well the topic is found again by the other seeds (0-1)",
             "prevalence": "mean share of the topic over the documents",
             "near_empty": "prevalence below a tenth of 1/k",
+            "dominant_share": "share of documents in which it is the most probable topic",
+            "rarely_dominant": "not near-empty, but the most probable topic of fewer than a fifth of 1/k of the documents",
             "duplicate_of": "the topic this one nearly duplicates (-1: none)",
         },
     ),
@@ -384,6 +409,8 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
             "npmi_se": "standard error of NPMI over seeds",
             "perplexity_se": "standard error of held-out perplexity over seeds",
             "near_empty_mean": "near-empty topics per fit",
+            "rarely_dominant_mean": "rarely dominant topics per fit",
+            "junk_mean": "junk per fit: near-empty and rarely dominant topics plus near-duplicate pairs",
             "near_duplicate_mean": "near-duplicate topic pairs per fit",
             "clean_share": "share of fits with no junk topics",
             "converged_share": "share of fits that converged",
@@ -576,3 +603,90 @@ COLUMNS: dict[str, tuple[str, dict[str, str]]] = {
         },
     ),
 }
+
+
+def _pick(name: str, drop=(), **more: str) -> dict[str, str]:
+    """The column descriptions of table ``name`` without ``drop``, then ``more``."""
+    return {**{c: d for c, d in COLUMNS[name][1].items() if c not in drop}, **more}
+
+
+_PERIOD_COLUMNS = {
+    "period": "the period, as pandas writes it (a week: '2024-03-04/2024-03-10')",
+    "period_start": "first day of the period",
+    "period_end": "last day of the period",
+    "few_documents": "fewer than min_period_docs documents in the cell: no line or test there",
+    "min_period_docs": "documents a (source, period) cell needs to be drawn and tested",
+    "freq": "period length: pandas alias 'D', 'W', 'M', 'Q' or 'Y'",
+}
+_MODEL_SETTINGS = {
+    "formula": "the model's formula (covariates are corpus columns)",
+    "weighting": "'exposure' (weighted least squares) or 'unique'",
+    "cluster": "column whose values are the clusters of the robust errors, or 'document'",
+    "n_clusters": "clusters in the documents modelled",
+    "n_docs": "documents modelled",
+    "n_draws": "draws of each document's topic shares pooled (0: the fitted shares only)",
+    "ci_level": "interval level, e.g. 0.95",
+}
+_ESTIMATE = {
+    "std_error": "standard error (cluster-robust, pooled over the draws)",
+    "ci_low": "lower end of the interval",
+    "ci_high": "upper end of the interval",
+}
+COLUMNS.update(
+    {
+        "over_time": (
+            "Share of each source that each topic takes in each period, with bootstrap "
+            "intervals per (source, period) cell.",
+            _pick("prevalence", **_PERIOD_COLUMNS),
+        ),
+        "over_time_differences": (
+            "Differences in prevalence between sources in each period with enough documents; "
+            "p-values adjusted across topics and periods together (Benjamini-Hochberg).",
+            _pick(
+                "differences",
+                drop=("ratio", "ratio_ci_low", "ratio_ci_high", "rank"),
+                **_PERIOD_COLUMNS,
+            ),
+        ),
+        "model_coefficients": (
+            "Coefficients of one prevalence regression (one per topic and formula term).",
+            {
+                "topic": "topic number",
+                "term": "term of the formula's design matrix",
+                "estimate": "coefficient",
+                **_ESTIMATE,
+                "z": "estimate / std_error",
+                "p_value": "two-sided p-value of a zero coefficient",
+                **_MODEL_SETTINGS,
+            },
+        ),
+        "model_prevalence": (
+            "Estimated prevalence of each topic at each value of each covariate (average "
+            "predictions over the documents' other covariates).",
+            {
+                "topic": "topic number",
+                "covariate": "covariate",
+                "value": "its value (a numeric covariate: a quantile)",
+                "estimate": "estimated prevalence",
+                **_ESTIMATE,
+                **_MODEL_SETTINGS,
+            },
+        ),
+        "model_effects": (
+            "Change in prevalence from each covariate's first value to each other value "
+            "(numeric: one unit up); p-values adjusted across the table (Benjamini-Hochberg).",
+            {
+                "topic": "topic number",
+                "covariate": "covariate",
+                "value": "the value compared",
+                "reference": "the value compared against",
+                "estimate": "difference in prevalence",
+                **_ESTIMATE,
+                "z": "estimate / std_error",
+                "p_value": "two-sided p-value of no difference",
+                "p_adjusted": "p-value adjusted across the table (Benjamini-Hochberg)",
+                **_MODEL_SETTINGS,
+            },
+        ),
+    }
+)

@@ -9,7 +9,7 @@ from .._deprecation import warn_renamed
 from .._validation import param_error
 from ..models.quality import describe
 from ..models.scores import MEASURE_NAMES
-from ..models.sweep_summary import converged_text, unconverged
+from ..models.sweep_summary import converged_text, junk_columns, unconverged
 from ..models.sweeps import Sweep
 from ..options import default
 from . import charts
@@ -47,6 +47,10 @@ class SweepView(w.VBox):
         A fitted sweep, or a project folder holding a saved one.
     measure : str
         Score shown first (default ``"npmi"``).
+    k, seed : int, optional
+        The fit picked when the view opens (default: the suggested fit; ``seed`` alone picks
+        that seed at the suggested k, ``k`` alone the suggested seed, or seed 0 if the
+        suggestion is at another k).
     prepared, labels : optional
         With the prepared corpus (and a label store), "Read this model" opens a
         :class:`TopicView` of the picked fit below (:meth:`show_fit`).
@@ -56,7 +60,9 @@ class SweepView(w.VBox):
     k = traitlets.Int(help="k of the picked fit.")
     seed = traitlets.Int(help="Seed of the picked fit.")
 
-    def __init__(self, sweep, *, measure=default("measure"), prepared=None, labels=None):
+    def __init__(
+        self, sweep, *, measure=default("measure"), k=None, seed=None, prepared=None, labels=None
+    ):
         if not isinstance(sweep, Sweep):
             sweep = Sweep.load(sweep)
         elif not hasattr(sweep, "scores_"):
@@ -98,7 +104,7 @@ class SweepView(w.VBox):
             [charts.fit_key(k, s) for k, s in zip(scores["k"], scores["seed"], strict=True)],
         )
         self.fits_table.observe(self._row_clicked, names="selected")
-        self.k, self.seed = int(self.suggestion.k), int(self.suggestion.seed)
+        self.k, self.seed = self._opening_fit(k, seed)
         self.measure = self.measure_choice.value
         self.chart = chart_widget(self._chart())
         self.chart.selections.observe(self._clicked, names=[charts.FIT_PICK])
@@ -118,6 +124,17 @@ class SweepView(w.VBox):
         )
         self.add_class("tmc-sweep-view")
         self._show_pick()
+
+    def _opening_fit(self, k, seed) -> tuple[int, int]:
+        s = self.suggestion
+        k = int(s.k) if k is None else k
+        if seed is None:
+            seeds = sorted(b for a, b in self.sweep.fits_ if a == k)
+            seed = int(s.seed) if k == s.k else (seeds[0] if seeds else 0)
+        if (k, seed) not in self.sweep.fits_:
+            listed = ", ".join(f"(k={a}, seed={b})" for a, b in self.sweep.fits_)
+            raise param_error("SweepView", "k and seed", (k, seed), f"a fit of the sweep: {listed}")
+        return int(k), int(seed)
 
     def _advice_html(self) -> str:
         s = self.suggestion
@@ -147,13 +164,15 @@ class SweepView(w.VBox):
                 f"converge</b> (their topics still moved at the last pass): {esc(fits)}"
             )
         if {"near_empty", "near_duplicate"} <= set(scores.columns):
-            junk = scores[(scores["near_empty"] > 0) | (scores["near_duplicate"] > 0)]
+            cols = junk_columns(scores)
+            junk = scores[(scores[cols] > 0).any(axis=1)]
             if len(junk):
                 lines.append(
                     "Junk topics: "
                     + "; ".join(
-                        esc(describe(r.k, r.near_empty, r.near_duplicate)) + f" (seed {r.seed})"
-                        for r in junk.itertuples()
+                        esc(describe(int(r["k"]), **r[cols].astype(int).to_dict()))
+                        + f" (seed {r['seed']})"
+                        for _, r in junk.iterrows()
                     )
                 )
         return f'<div style="font-size:12px">{"<br>".join(lines)}</div>' if lines else ""
@@ -167,6 +186,7 @@ class SweepView(w.VBox):
                 c
                 for c in (
                     "near_empty",
+                    "rarely_dominant",
                     "near_duplicate",
                     "passes",
                     "converged",
@@ -199,6 +219,7 @@ class SweepView(w.VBox):
     def _measure_changed(self, change):
         if hasattr(self, "chart"):
             self.chart.chart = self._chart()
+            self.chart.hold_param(charts.PICKED, charts.fit_key(self.k, self.seed))
 
     @traitlets.observe("k", "seed")
     def _pick_changed(self, change):
@@ -207,7 +228,9 @@ class SweepView(w.VBox):
 
     def _show_pick(self):
         key = charts.fit_key(self.k, self.seed)
-        self.chart.params.picked = key
+        # Held, not just set: a drawing of the chart reports the spec's value back and would
+        # otherwise overwrite the pick (the first-draw defect, see views/_offline.py).
+        self.chart.hold_param(charts.PICKED, key)
         self.fits_table.selected = key
         self.picked.value = f"<b>Picked:</b> k = {self.k}, seed {self.seed}&nbsp;&nbsp;"
 
