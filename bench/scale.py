@@ -31,6 +31,8 @@ import tempfile
 import time
 from pathlib import Path
 
+GOAL_MIB = 6 * 1024  # preparation's memory goal at a million documents
+
 
 def _rss_mib() -> float:
     """Peak resident memory of this process (VmHWM of /proc/self/status, Linux)."""
@@ -157,6 +159,8 @@ def main(argv=None) -> None:
             "the end of reading the corpus)",
             flush=True,
         )
+        verdict = "met" if p["peak_rss_mib"] < GOAL_MIB else "NOT met"
+        print(f"goal: peak RSS under {GOAL_MIB:,} MiB (6 GiB) at a million documents: {verdict}")
         if args.no_fit:
             return
         f = _in_child("fit", tmp, str(args.topics), str(args.passes), engine)
