@@ -22,7 +22,7 @@ def fingerprint(*parts: Any, length: int = 16) -> str:
 
 
 def _feed(h, part: Any) -> None:
-    if isinstance(part, bytes):
+    if isinstance(part, bytes | memoryview):
         h.update(b"B%d:" % len(part))
         h.update(part)
     elif isinstance(part, str):

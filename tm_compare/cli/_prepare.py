@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import time
+
 from ..text.corpus import CONFLICT_RULES
 from ..text.prepared import DEFAULTS
 from . import add_option
@@ -154,8 +156,14 @@ def run(args) -> int:
     )
     project = Project.create(args.project)
     save_corpus(corpus, project)
+    start = time.perf_counter()
     prepared = prepare(corpus, project=project, **settings_from_args(args))
-    state = "read from the project cache" if prepared.from_cache else "computed and cached"
+    seconds = time.perf_counter() - start
+    state = (
+        "read from the project cache"
+        if prepared.from_cache
+        else f"computed in {seconds:.1f} s, {len(corpus) / seconds:,.0f} documents/s, and cached"
+    )
     print(f"Corpus: {corpus!r}")
     print(f"Prepared ({state}): {prepared!r}")
     print()

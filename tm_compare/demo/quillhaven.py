@@ -450,7 +450,8 @@ def scenario(
     ----------
     n_docs : int
         Number of input rows (articles, syndicated copies and URL variants together).
-        At least 200; 200,000 takes well under a minute.
+        At least 200; 200,000 takes well under a minute. Up to ``TM_COMPARE_MAX_DEMO_DOCS``
+        (200,000 unless raised); benchmarks raise it to generate 1,000,000 (``bench/scale.py``).
     random_state : int
         The same random_state gives the same rows, words and truth.
     language : "en", "de" or "de+en"

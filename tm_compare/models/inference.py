@@ -310,7 +310,9 @@ def _prepare_like(prepared, frame: pd.DataFrame):
     """Modelling tokens (before the vocabulary), cleaned texts and unknown-word counts."""
     from ..text import _tokens as tok
     from ..text._boilerplate import BoilerplateStripper, _key
-    from ..text.prepared import DEFAULTS, _labels, _stop_set
+    from ..text._dedupe import labels as _labels
+    from ..text._settings import DEFAULTS
+    from ..text._settings import stop_set as _stop_set
 
     raw = frame["text"].fillna("").astype(str).tolist()
     if prepared.settings.get("tokens") == "given":  # PreparedCorpus.from_texts: tokens given
@@ -381,8 +383,9 @@ def _phrase_models(table: pd.DataFrame, s: dict, connectors: frozenset[str]):
 def _near_copies(prepared, clean: list[str]) -> tuple[np.ndarray, np.ndarray]:
     """For each new text: the training document it nearly copies (most similar), and how much."""
     from ..text import _neardup
+    from ..text._dedupe import EXACT_LIMIT
+    from ..text._settings import DEFAULTS
     from ..text._tokens import TokenIndex, tokenize
-    from ..text.prepared import DEFAULTS, EXACT_LIMIT
 
     n_new = len(clean)
     dup = np.full(n_new, None, dtype=object)

@@ -26,38 +26,65 @@ def _key(line: str) -> str:
     return " ".join(line.split()).lower()
 
 
+class LineCounter:
+    """Counts, per group, the documents each line key occurs in, a chunk of documents at a time.
+
+    Keeps one 64-bit hash and one group code per (document, distinct line), never the texts.
+    Line keys are hashed with Python's ``hash`` (collisions are negligible at 64 bits); the
+    hashes are valid only within this process, which is all the removal pass needs.
+    """
+
+    def __init__(self):
+        self._codes: dict[str, int] = {}
+        self._sizes: list[int] = []
+        self._groups: list[np.ndarray] = []
+        self._hashes: list[np.ndarray] = []
+
+    def add(self, texts: Sequence[str], groups: Sequence[str], progress=None) -> None:
+        doc_group, line_hash = [], []
+        pairs = zip(texts, groups, strict=True)
+        for text, group in pairs if progress is None else progress(pairs, total=len(texts)):
+            code = self._codes.setdefault(group, len(self._codes))
+            if code == len(self._sizes):
+                self._sizes.append(0)
+            self._sizes[code] += 1
+            if "\n" not in text:
+                continue
+            hashes = {hash(key) for key in map(_key, text.split("\n")) if key}
+            if len(hashes) > 1:
+                line_hash.extend(hashes)
+                doc_group.extend([code] * len(hashes))
+        self._hashes.append(np.array(line_hash, dtype=np.int64))
+        self._groups.append(np.array(doc_group, dtype=np.int64))
+
+    def found(self, *, min_share: float, min_docs: int) -> dict[str, set[int]]:
+        """Hashes of the boilerplate line keys of each group."""
+        h = np.concatenate([np.empty(0, np.int64), *self._hashes])
+        g = np.concatenate([np.empty(0, np.int64), *self._groups])
+        if not len(h):
+            return {}
+        order = np.lexsort((h, g))
+        h, g = h[order], g[order]
+        first = np.r_[True, (h[1:] != h[:-1]) | (g[1:] != g[:-1])]
+        starts = np.flatnonzero(first)
+        counts = np.diff(np.r_[starts, len(h)])
+        g, h = g[starts], h[starts]
+        need = np.maximum(min_docs, np.ceil(min_share * np.array(self._sizes)[g] - 1e-9))
+        hit = counts >= need
+        names = list(self._codes)
+        found: dict[str, set[int]] = {}
+        for code, value in zip(g[hit].tolist(), h[hit].tolist(), strict=True):
+            found.setdefault(names[code], set()).add(value)
+        return found
+
+
 def find_boilerplate(
     texts: Sequence[str], groups: Sequence[str], *, min_share: float, min_docs: int, progress=None
 ) -> dict[str, set[int]]:
-    """Hashes of boilerplate line keys, per group.
-
-    Line keys are hashed with Python's ``hash`` (collisions are negligible at
-    64 bits); the hashes are valid only within this process, which is all the
-    removal pass needs.
-    """
-    codes, uniques = pd.factorize(pd.Series(groups, dtype=object))
-    group_size = np.bincount(codes, minlength=len(uniques))
-    doc_group, line_hash = [], []
-    pairs = zip(texts, codes.tolist(), strict=True)
-    for text, code in pairs if progress is None else progress(pairs, total=len(texts)):
-        if "\n" not in text:
-            continue
-        hashes = {hash(key) for key in map(_key, text.split("\n")) if key}
-        if len(hashes) > 1:
-            line_hash.extend(hashes)
-            doc_group.extend([code] * len(hashes))
-    if not line_hash:
-        return {}
-    counts = pd.DataFrame({"g": doc_group, "h": line_hash}).value_counts()
-    g = counts.index.get_level_values("g").to_numpy()
-    need = np.maximum(min_docs, np.ceil(min_share * group_size[g] - 1e-9))
-    hit = counts.to_numpy() >= need
-    found: dict[str, set[int]] = {}
-    for code, h in zip(
-        g[hit].tolist(), counts.index.get_level_values("h")[hit].tolist(), strict=True
-    ):
-        found.setdefault(uniques[code], set()).add(h)
-    return found
+    """Hashes of boilerplate line keys, per group (all documents counted at once)."""
+    counter = LineCounter()
+    counter.add(texts, groups, progress)
+    return counter.found(min_share=min_share, min_docs=min_docs)
 
 
 class BoilerplateStripper:
@@ -67,7 +94,9 @@ class BoilerplateStripper:
         self.found = found
         self._tally: dict[tuple[str, int], list] = {}
 
-    def __call__(self, text: str, group: str) -> str:
+    def __call__(self, text: str, group: str, tally: bool = True) -> str:
+        """``text`` without the boilerplate lines of ``group``; ``tally`` counts them in
+        :meth:`table`."""
         hashes = self.found.get(group)
         if not hashes or "\n" not in text:
             return text
@@ -81,6 +110,8 @@ class BoilerplateStripper:
             if h in hashes:
                 if h not in seen:
                     seen.add(h)
+                    if not tally:
+                        continue
                     entry = self._tally.setdefault((group, h), [line.strip(), 0])
                     entry[1] += 1
             else:

@@ -582,9 +582,11 @@ def _text_parts(values: pd.Series) -> list:
         )
     if isinstance(arr, pa.ChunkedArray):
         arr = arr.combine_chunks()
-    arr = arr.cast(pa.large_string())
-    offsets = np.frombuffer(arr.buffers()[1], np.int64)[arr.offset : arr.offset + len(arr) + 1]
+    # The data buffer is hashed in place (a view, not a copy): a million texts are a GiB.
+    wide = pa.types.is_large_string(arr.type)
+    offsets = np.frombuffer(arr.buffers()[1], np.int64 if wide else np.int32)
+    offsets = offsets[arr.offset : arr.offset + len(arr) + 1].astype(np.int64)
     data = arr.buffers()[2]
-    blob = b"" if data is None else memoryview(data)[offsets[0] : offsets[-1]].tobytes()
+    blob = b"" if data is None else memoryview(data).cast("B")[offsets[0] : offsets[-1]]
     missing = arr.is_null().to_numpy(zero_copy_only=False)
     return [missing, np.diff(offsets), blob]

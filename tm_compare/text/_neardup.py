@@ -19,6 +19,8 @@ from collections.abc import Sequence
 import numpy as np
 import scipy.sparse as sp
 
+from ._ragged import distinct
+
 # Odd 64-bit multipliers (from the splitmix64 generator) to mix token ids into shingle hashes.
 _MIX = np.array(
     [
@@ -52,7 +54,7 @@ def shingles(ids: np.ndarray, k: int) -> np.ndarray:
     for j in range(k):
         h = (h ^ x[j : n - k + 1 + j]) * _MIX[j]  # wraps modulo 2**64 by design
     h ^= h >> np.uint64(31)
-    return np.unique(h)
+    return distinct(h)
 
 
 def minhash(

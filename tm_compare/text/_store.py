@@ -20,6 +20,7 @@ import pandas as pd
 from .._atomic import atomic_path, atomic_write_json
 from .._validation import param_error
 from ..errors import CorruptArtifactError
+from ._ragged import Ragged, TokenTexts
 from ._tokens import BagOfWords
 from .removals import RemovalLog
 
@@ -72,12 +73,14 @@ def _save(p, folder) -> Path:
     (folder / MANIFEST).unlink(missing_ok=True)
     token2id = p.dictionary.token2id
     size = len(token2id)
-    text_ids = [
-        np.fromiter(map(token2id.__getitem__, t), dtype=np.int32, count=len(t)) for t in p.texts
-    ]
+    tokens = [None] * size
+    for t, i in token2id.items():
+        tokens[i] = t
+    texts = p.texts if isinstance(p.texts, TokenTexts) else TokenTexts.from_lists(p.texts, tokens)
+    to_dictionary = np.array([token2id[t] for t in texts.strings.tolist()], dtype=np.int32)
     arrays = {
-        "text_ids": _flat(text_ids, np.int32),
-        "text_offsets": _offsets(text_ids),
+        "text_ids": to_dictionary[texts.docs.values],
+        "text_offsets": texts.docs.offsets,
         "bow_ids": p.bow.ids,
         "bow_counts": p.bow.counts,
         "bow_offsets": p.bow.indptr,
@@ -86,9 +89,6 @@ def _save(p, folder) -> Path:
     }
     with atomic_path(folder / "tokens.npz") as tmp, open(tmp, "wb") as fh:
         np.savez(fh, **arrays)
-    tokens = [None] * size
-    for t, i in token2id.items():
-        tokens[i] = t
     atomic_write_json(
         folder / "vocab.json",
         {"tokens": tokens, "num_docs": p.dictionary.num_docs, "num_nnz": p.dictionary.num_nnz},
@@ -158,8 +158,7 @@ def _load(folder) -> dict:
         msg = f"The prepared corpus in {str(folder)!r} cannot be read: {exc}. Delete the folder."
         raise CorruptArtifactError(msg) from exc
     strings = np.array(vocab["tokens"], dtype=object)
-    t_off, ids = arrays["text_offsets"], arrays["text_ids"]
-    texts = [strings[ids[t_off[i] : t_off[i + 1]]].tolist() for i in range(len(t_off) - 1)]
+    texts = TokenTexts(strings, Ragged(arrays["text_ids"], arrays["text_offsets"]))
     bow = BagOfWords(arrays["bow_offsets"], arrays["bow_ids"], arrays["bow_counts"])
     meta = tables["meta"]
     meta["duplicate_ids"] = [list(v) for v in meta["duplicate_ids"]]
@@ -194,15 +193,6 @@ def _load_if_valid(folder: Path, cls: type):
     except CorruptArtifactError as exc:
         warnings.warn(f"{exc} Rebuilding it.", RuntimeWarning, stacklevel=3)
         return None
-
-
-def _flat(rows, dtype) -> np.ndarray:
-    parts = [np.asarray(r, dtype=dtype) for r in rows]
-    return np.concatenate(parts) if parts else np.empty(0, dtype=dtype)
-
-
-def _offsets(rows) -> np.ndarray:
-    return np.concatenate([[0], np.cumsum([len(r) for r in rows])]).astype(np.int64)
 
 
 def _write_parquet(table: pd.DataFrame, path) -> None:

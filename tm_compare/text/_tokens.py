@@ -197,13 +197,28 @@ class BagOfWords(Sequence):
         self.counts = np.asarray(counts, dtype=np.int32)
 
     @classmethod
-    def from_token_ids(cls, docs: list[np.ndarray]) -> BagOfWords:
-        """Bags of the documents given as arrays of term ids (ids sorted within each bag)."""
-        pairs = [np.unique(d, return_counts=True) for d in docs]
-        indptr = np.concatenate([[0], np.cumsum([len(t) for t, _ in pairs])])
-        ids = np.concatenate([t for t, _ in pairs]) if pairs else np.empty(0, np.int32)
-        counts = np.concatenate([c for _, c in pairs]) if pairs else np.empty(0, np.int32)
-        return cls(indptr, ids, counts)
+    def from_token_ids(cls, docs) -> BagOfWords:
+        """Bags of the documents given as arrays of term ids (ids sorted within each bag).
+
+        ``docs`` is a list of arrays or a :class:`~tm_compare.text._ragged.Ragged`; the bags
+        are counted a block of documents at a time.
+        """
+        from ._ragged import Ragged, distinct_counts
+
+        if not isinstance(docs, Ragged):
+            rows, docs = list(docs), Ragged()
+            docs.extend(rows)
+        ids, counts, sizes = [np.empty(0, np.int32)], [np.empty(0, np.int32)], [np.zeros(1)]
+        for values, lengths in docs.chunks():
+            size = int(values.max()) + 1 if len(values) else 1
+            rows = np.repeat(np.arange(len(lengths), dtype=np.int64), lengths)
+            keys, n = distinct_counts(rows * size + values)
+            row, term = np.divmod(keys, size)
+            ids.append(term.astype(np.int32))
+            counts.append(n.astype(np.int32))
+            sizes.append(np.bincount(row, minlength=len(lengths)))
+        indptr = np.cumsum(np.concatenate(sizes)).astype(np.int64)
+        return cls(indptr, np.concatenate(ids), np.concatenate(counts))
 
     def __len__(self) -> int:
         return len(self.indptr) - 1

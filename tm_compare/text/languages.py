@@ -420,15 +420,14 @@ class TokensByLanguage:
             at += len(index.ids)
         return out
 
-    def merge(self, docs: list[np.ndarray], langs: list[str]) -> list[np.ndarray]:
-        """Documents' ids in the shared id space (arrays of one-language corpora are kept)."""
+    def shift(self, docs, langs) -> None:
+        """Move each document's ids (a ``Ragged``, in place) into the shared id space."""
         if len(self.indexes) <= 1:
-            return docs
+            return
         off = self.offsets()
-        return [
-            d + np.int32(off[code]) if off.get(code) else d
-            for d, code in zip(docs, langs, strict=True)
-        ]
+        per_doc = np.array([off.get(code, 0) for code in langs], dtype=np.int32)
+        values = docs.values
+        values += np.repeat(per_doc, docs.lengths)
 
     def classify(self, stop_set, *, stem: str | None, connectors: frozenset, **rules):
         """Forms and kinds of every raw token, each classified by the rules of its language."""

@@ -24,98 +24,28 @@ counted out (``len(prepared) + prepared.report.total("prepare") == len(corpus)``
 
 from __future__ import annotations
 
-import json
 import os
-from functools import partial
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
-from tqdm.auto import tqdm
 
 from .._hashing import fingerprint as _fingerprint
-from .._validation import check_choice, param_error
+from .._validation import param_error
 from ..errors import CorpusError, ProjectError
-from ..options import default
 from ..project import Project
-from ._boilerplate import BoilerplateStripper, find_boilerplate
 from ._intake import frame_fingerprint
-from ._neardup import MAX_SHINGLE, exact_pairs, minhash_pairs
-from ._store import (
-    FORMAT_VERSION,
-    _cache_folder,
-    _load,
-    _load_if_valid,
-    _save,
-    make_dictionary,
-)
-from ._tokens import (
-    BagOfWords,
-    TokenIndex,
-    all_segments,
-    apply_phrases,
-    join_phrases,
-    normalise,
-    phrase_parts,
-    prune_vocabulary,
-    tokenize,
-)
-from .languages import (
-    REASON_FALLBACK,
-    REASON_UNDETECTED,
-    UNDETECTED,
-    TokensByLanguage,
-    candidates,
-    check_language,
-    detector,
-    is_detected,
-    language_mix,
-    split_by_language,
-    warn_if_mixed,
-)
+from ._ragged import Ragged, TokenTexts
+from ._settings import DEFAULTS, cache_key, check_settings
+from ._store import _cache_folder, _load, _load_if_valid, _save
+from ._stream import REASON_MERGED, REASON_SHORT, STAGE, build, dictionary_and_bow
+from .languages import language_mix, split_by_language, warn_if_mixed
 from .removals import RemovalLog
 
-if TYPE_CHECKING:
-    from gensim.corpora import Dictionary
+__all__ = ["prepare", "PreparedCorpus", "load_prepared", "DEFAULTS", "REASON_MERGED", "REASON_SHORT"]
 
-__all__ = ["prepare", "PreparedCorpus", "load_prepared"]
-
-STAGE = "prepare"
-REASON_MERGED = "near-duplicate merged into a copy in the same source"
-REASON_SHORT = "too short after preparation"
-# Corpora up to this size get exact Jaccard similarities with near_duplicates="auto".
-EXACT_LIMIT = 2000
 # Corpora of at least this size show progress bars with progress=None.
 PROGRESS_FROM = 10_000
-
-DEFAULTS: dict[str, Any] = {
-    "drop_numbers": True,
-    "min_token_length": 2,
-    "max_token_length": 40,
-    "language": default("language"),
-    "undetected": default("undetected"),
-    "stop_words": "builtin",
-    "extra_stop_words": (),
-    "stem": None,
-    "boilerplate": True,
-    "boilerplate_by": None,
-    "boilerplate_min_share": 0.05,
-    "boilerplate_min_docs": 5,
-    "near_duplicates": "auto",
-    "near_duplicate_threshold": 0.5,
-    "shingle_size": 5,
-    "num_perm": 128,
-    "random_state": 0,
-    "ngrams": 2,
-    "phrase_min_count": 5,
-    "phrase_threshold": 10.0,
-    "phrase_scoring": "default",
-    "min_doc_count": 5,
-    "max_doc_fraction": 0.5,
-    "max_vocab": 100_000,
-    "min_doc_tokens": 10,
-}
 
 
 def prepare(
@@ -179,8 +109,8 @@ def prepare(
     if not isinstance(corpus, Corpus):
         accepted = "a Corpus (from Corpus.read or Corpus.from_frame)"
         raise param_error("prepare", "corpus", type(corpus).__name__, accepted)
-    s = _check_settings(corpus, settings)
-    key = _key(corpus, s)
+    s = check_settings(corpus, settings)
+    key = cache_key(corpus, s)
     project, folder = _cache_folder(project, cache_dir, key)
     if folder is not None:
         cached = _load_if_valid(folder, PreparedCorpus)
@@ -189,7 +119,7 @@ def prepare(
             return cached
     if progress is None:
         progress = len(corpus) >= PROGRESS_FROM
-    result = PreparedCorpus(**_build(corpus, s, progress), fingerprint=key)
+    result = PreparedCorpus(**build(corpus, s, progress), fingerprint=key)
     if folder is not None:
         result.save(folder)
     warn_if_mixed(result)
@@ -214,8 +144,9 @@ class PreparedCorpus:
 
     Attributes
     ----------
-    texts : list of list of str
-        The modelling text (only dictionary words, in document order).
+    texts : TokenTexts
+        The modelling text (only dictionary words, in document order); reads as a list of
+        lists of str, stored as one int32 term id per token.
     dictionary : gensim.corpora.Dictionary
     bow : BagOfWords
         ``dictionary.doc2bow(text)`` of each text; reads as a list of lists of
@@ -343,9 +274,10 @@ class PreparedCorpus:
                 f"{unknown[0]!r}). Add them to vocab, or leave vocab=None."
             )
             raise CorpusError(msg)
-        docs = [np.array([index[t] for t in text], dtype=np.int32) for text in texts]
+        docs = Ragged()
+        docs.extend([np.array([index[t] for t in text], dtype=np.int32) for text in texts])
         strings = np.array(vocab, dtype=object)
-        dictionary, bow = _dictionary(docs, strings)
+        dictionary, bow = dictionary_and_bow(docs, strings)
         defaults = {
             "weight": 1.0,
             "group": None,
@@ -363,12 +295,12 @@ class PreparedCorpus:
         key = _fingerprint(
             "from_texts",
             strings,
-            np.array([len(d) for d in docs]),
-            np.concatenate([np.empty(0, np.int32), *docs]),
+            docs.lengths,
+            docs.values,
             frame_fingerprint(meta),
         )
         return cls(
-            texts=texts,
+            texts=TokenTexts(strings, docs),
             dictionary=dictionary,
             bow=bow,
             meta=meta,
@@ -378,409 +310,6 @@ class PreparedCorpus:
             settings={"tokens": "given"},
             fingerprint=key,
         )
-
-
-def _check_settings(corpus, settings: dict) -> dict:
-    unknown = sorted(set(settings) - set(DEFAULTS))
-    if unknown:
-        raise param_error(
-            "prepare",
-            unknown[0],
-            settings[unknown[0]],
-            "one of the settings " + ", ".join(DEFAULTS),
-            "Check the spelling.",
-        )
-    s = {**DEFAULTS, **settings}
-
-    def need(name, ok, accepted):
-        if not ok:
-            raise param_error("prepare", name, s[name], accepted)
-
-    for name in ("drop_numbers", "boilerplate"):
-        need(name, isinstance(s[name], bool), "True or False")
-    for name, low in (
-        ("min_token_length", 1),
-        ("max_token_length", 1),
-        ("boilerplate_min_docs", 2),
-        ("num_perm", 16),
-        ("random_state", 0),
-        ("phrase_min_count", 1),
-        ("min_doc_count", 1),
-        ("min_doc_tokens", 0),
-    ):
-        need(name, _is_int(s[name]) and s[name] >= low, f"an integer >= {low}")
-    need(
-        "max_token_length",
-        s["max_token_length"] >= s["min_token_length"],
-        f"an integer >= min_token_length ({s['min_token_length']})",
-    )
-    need(
-        "shingle_size",
-        _is_int(s["shingle_size"]) and 1 <= s["shingle_size"] <= MAX_SHINGLE,
-        f"an integer from 1 to {MAX_SHINGLE}",
-    )
-    need(
-        "max_vocab",
-        s["max_vocab"] is None or (_is_int(s["max_vocab"]) and s["max_vocab"] >= 1),
-        "None or an integer >= 1",
-    )
-    for name in ("boilerplate_min_share", "near_duplicate_threshold", "max_doc_fraction"):
-        need(name, _is_real(s[name]) and 0 < s[name] <= 1, "a number in (0, 1]")
-    need(
-        "phrase_threshold",
-        _is_real(s["phrase_threshold"])
-        and np.isfinite(s["phrase_threshold"])
-        and (s["phrase_scoring"] == "npmi" or s["phrase_threshold"] > 0),
-        "a finite number, > 0 with the default phrase scoring",
-    )
-    check_choice("prepare", "stem", s["stem"], [None, "snowball", "lemma"])
-    s["language"] = check_language("prepare", s["language"])
-    if s["undetected"] != "remove":
-        s["undetected"] = check_language("prepare", s["undetected"])
-        need(
-            "undetected",
-            isinstance(s["undetected"], str) and s["undetected"] != "auto",
-            '"remove" or one language code',
-        )
-    check_choice(
-        "prepare", "near_duplicates", s["near_duplicates"], ["auto", "exact", "minhash", None]
-    )
-    check_choice("prepare", "ngrams", s["ngrams"], [1, 2, 3])
-    check_choice("prepare", "phrase_scoring", s["phrase_scoring"], ["default", "npmi"])
-    if s["phrase_scoring"] == "npmi":
-        need(
-            "phrase_threshold",
-            -1 <= s["phrase_threshold"] <= 1,
-            "a number in [-1, 1] with phrase_scoring='npmi'",
-        )
-    for name in ("stop_words", "extra_stop_words"):
-        value = s[name]
-        if name == "stop_words" and value in ("builtin", "english", None):
-            continue
-        need(
-            name,
-            isinstance(value, list | tuple | set | frozenset)
-            and all(isinstance(w, str) for w in value),
-            "a list of strings"
-            + (' or "builtin", "english" or None' if name == "stop_words" else ""),
-        )
-        s[name] = sorted({normalise(w).strip() for w in value})
-    by = s["boilerplate_by"]
-    columns = [c for c in corpus.frame.columns if c != "text"]
-    need(
-        "boilerplate_by",
-        by is None or by in columns,
-        "None or a column of the corpus: " + ", ".join(map(str, columns)),
-    )
-    return s
-
-
-def _is_int(v) -> bool:
-    return isinstance(v, int | np.integer) and not isinstance(v, bool)
-
-
-def _is_real(v) -> bool:
-    return isinstance(v, int | float | np.integer | np.floating) and not isinstance(v, bool)
-
-
-def _stop_set(s: dict, code: str = "en") -> frozenset[str]:
-    from . import languages
-
-    if s["stop_words"] == "builtin":
-        base = languages.stop_words(code)
-    elif s["stop_words"] == "english":
-        base = languages.stop_words("en")
-    else:
-        base = frozenset(s["stop_words"] or ())
-    return frozenset(base | set(s["extra_stop_words"]))
-
-
-def _key(corpus, s: dict) -> str:
-    from .. import __version__
-    from .languages import versions
-
-    # The corpus fingerprint covers every column, so metadata edits also miss the cache.
-    stops = [sorted(_stop_set(s, code)) for code in candidates(s["language"])]
-    return _fingerprint(corpus.fingerprint, s, stops, versions(), FORMAT_VERSION, __version__)
-
-
-def _build(corpus, s: dict, progress: bool) -> dict:
-    frame = corpus.frame
-    n = len(frame)
-    bar = partial(tqdm, disable=not progress, unit="doc", leave=False)
-    texts = frame["text"].tolist()
-    sources = frame["source"].astype(str).to_numpy()
-    by = s["boilerplate_by"] or ("outlet" if "outlet" in frame.columns else "source")
-    bp_groups = _labels(frame[by])
-
-    strip = None
-    if s["boilerplate"]:
-        found = find_boilerplate(
-            texts,
-            bp_groups,
-            min_share=s["boilerplate_min_share"],
-            min_docs=s["boilerplate_min_docs"],
-            progress=partial(bar, desc="counting lines"),
-        )
-        strip = BoilerplateStripper(found)
-    index, docs, clean, langs = TokensByLanguage(), [], [], []
-    detect = detector(s["language"]) if is_detected(s["language"]) else None
-    drop_undetected = s["undetected"] == "remove"
-    for text, group in bar(zip(texts, bp_groups, strict=True), total=n, desc="tokenizing"):
-        text = strip(text, group) if strip is not None else text
-        clean.append(text)
-        code = s["language"] if detect is None else detect(text)
-        langs.append(code)
-        if code == UNDETECTED and drop_undetected:
-            docs.append(np.empty(0, dtype=np.int32))  # counted out below, pairs with nothing
-        else:
-            docs.append(
-                index.encode(tokenize(text), s["undetected"] if code == UNDETECTED else code)
-            )
-    docs = index.merge(docs, [s["undetected"] if c == UNDETECTED else c for c in langs])
-    del texts
-    boilerplate = (
-        strip.table(pd.Series(bp_groups).value_counts().to_dict())
-        if strip is not None
-        else BoilerplateStripper({}).table({})
-    )
-    boilerplate.insert(0, "by", by)
-
-    report = RemovalLog.from_dict(corpus.report.to_dict())
-    ids = frame["id"].astype(str).to_numpy()
-    rep, cross, copies = _near_duplicates(docs, frame, s, partial(bar, desc="near-duplicates"))
-    merged = rep != np.arange(n)
-    undetected = np.array([c == UNDETECTED for c in langs], dtype=bool) & ~merged
-    report.add_counts(
-        STAGE,
-        REASON_UNDETECTED if drop_undetected else REASON_FALLBACK,
-        pd.Series(sources[undetected]).value_counts(sort=False),
-        _examples(ids, sources, undetected),
-        kind="removed" if drop_undetected else "flagged",
-    )
-    report.add_counts(
-        STAGE,
-        REASON_MERGED,
-        pd.Series(sources[merged]).value_counts(sort=False),
-        _examples(ids, sources, merged),
-        kind="merged",
-    )
-    weights = np.bincount(rep, weights=frame["weight"].to_numpy(dtype=float), minlength=n)
-    # Ids merged at intake come along: a document lists every id folded into it.
-    intake_ids = frame["duplicate_ids"] if "duplicate_ids" in frame.columns else [None] * n
-    dup_ids = [list(v) if isinstance(v, list | tuple | np.ndarray) else [] for v in intake_ids]
-    for i in np.flatnonzero(merged).tolist():
-        dup_ids[rep[i]].extend([ids[i], *dup_ids[i]])
-    keep = np.flatnonzero(~merged & ~(undetected & drop_undetected))
-
-    from gensim.models.phrases import ENGLISH_CONNECTOR_WORDS, Phrases
-
-    connectors = frozenset(ENGLISH_CONNECTOR_WORDS & _stop_set(s, "en"))
-    forms, kinds = index.classify(
-        partial(_stop_set, s),
-        stem=s["stem"],
-        connectors=connectors,
-        drop_numbers=s["drop_numbers"],
-        min_length=s["min_token_length"],
-        max_length=s["max_token_length"],
-    )
-    docs = [docs[i] for i in keep.tolist()]
-    models, phrases = [], {}
-    for order in range(2, s["ngrams"] + 1):
-        model = Phrases(
-            min_count=s["phrase_min_count"],
-            threshold=float(s["phrase_threshold"]),
-            scoring=s["phrase_scoring"],
-            connector_words=connectors,
-        )
-        model.add_vocab(_phrased(docs, forms, kinds, models, partial(bar, desc=f"{order}-grams")))
-        frozen = model.freeze()
-        phrases.update(frozen.phrasegrams)
-        models.append((frozen, phrase_parts(frozen.phrasegrams)))
-    final = TokenIndex()
-    docs = [
-        final.encode(apply_phrases(d, forms, kinds, models, connectors))
-        for d in bar(docs, desc="joining phrases")
-    ]
-    phrase_table = pd.DataFrame(
-        sorted(phrases.items(), key=lambda kv: (-kv[1], kv[0])), columns=["phrase", "score"]
-    )
-
-    strings = final.strings
-    kept_terms = prune_vocabulary(
-        _doc_freq(docs, len(strings)),
-        len(docs),
-        s["min_doc_count"],
-        s["max_doc_fraction"],
-        s["max_vocab"],
-    )
-    docs = _remap(docs, kept_terms, len(strings))
-    strings = strings[kept_terms]
-    short = np.array([len(d) < s["min_doc_tokens"] for d in docs], dtype=bool)
-    short_all = np.zeros(n, dtype=bool)
-    short_all[keep[short]] = True
-    report.add_counts(
-        STAGE,
-        REASON_SHORT,
-        pd.Series(sources[short_all]).value_counts(sort=False),
-        _examples(ids, sources, short_all),
-        kind="removed",
-    )
-    if short.all():
-        msg = (
-            f"No documents are left after preparation: all {len(short)} were shorter than "
-            f"min_doc_tokens={s['min_doc_tokens']} tokens once stop words were removed and the "
-            f"vocabulary pruned (min_doc_count={s['min_doc_count']}, "
-            f"max_doc_fraction={s['max_doc_fraction']}). Lower these settings for a small or "
-            f"repetitive corpus.\n{report}"
-        )
-        raise CorpusError(msg)
-    docs = [d for d, out in zip(docs, short.tolist(), strict=True) if not out]
-    keep = keep[~short]
-    present = np.flatnonzero(_doc_freq(docs, len(strings)) > 0)
-    docs = _remap(docs, present, len(strings))
-    strings = strings[present]
-
-    meta = _meta(frame, keep, clean, weights, dup_ids, cross, copies)
-    if "language" in meta.columns:  # the corpus's own column keeps its values under a new name
-        meta = meta.rename(columns={"language": "corpus_language"})
-    prepared_in = np.array([s["undetected"] if c == UNDETECTED else c for c in langs], dtype=object)
-    meta["language"] = prepared_in[keep]
-    report.kept[STAGE] = len(meta)
-    dictionary, bow = _dictionary(docs, strings)
-    texts = [strings[d].tolist() for d in docs]
-    return {
-        "texts": texts,
-        "dictionary": dictionary,
-        "bow": bow,
-        "meta": meta,
-        "report": report,
-        "boilerplate": boilerplate,
-        "phrases": phrase_table,
-        "settings": _jsonable(s),
-    }
-
-
-def _phrased(docs, forms, kinds, models, progress):
-    """Segments for training the next phrase model, after the earlier models joined theirs."""
-    for seg in all_segments(docs, forms, kinds, progress):
-        yield join_phrases(seg, models)
-
-
-def _near_duplicates(docs, frame, s, progress=None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Per document: its representative (itself unless merged), cross-source flag, copy group.
-
-    The copy group numbers the sets of near-copies (connected through
-    pairs) that still hold two or more documents after merging; -1 elsewhere.
-    """
-    n = len(docs)
-    rep, cross, copies = np.arange(n), np.zeros(n, dtype=bool), np.full(n, -1)
-    method = s["near_duplicates"]
-    if method is None or n < 2:
-        return rep, cross, copies
-    if method == "auto":
-        method = "exact" if n <= EXACT_LIMIT else "minhash"
-    if method == "exact":
-        pairs, _ = exact_pairs(docs, s["shingle_size"], s["near_duplicate_threshold"])
-    else:
-        pairs, _ = minhash_pairs(
-            docs,
-            s["shingle_size"],
-            s["near_duplicate_threshold"],
-            s["num_perm"],
-            s["random_state"],
-            progress=progress,
-        )
-    if not len(pairs):
-        return rep, cross, copies
-    # Merge only within one source and group: a merged document keeps a single group.
-    unit = np.array(
-        [
-            f"{s}\x1f{g}"
-            for s, g in zip(_labels(frame["source"]), _labels(frame["group"]), strict=True)
-        ]
-    )
-    label = _components(n, pairs[unit[pairs[:, 0]] == unit[pairs[:, 1]]])
-    length = np.array([len(d) for d in docs])
-    order = np.lexsort((np.arange(n), -length, label))  # fullest copy first, then corpus order
-    first = np.r_[True, label[order][1:] != label[order][:-1]]
-    rep[order] = order[first][np.cumsum(first) - 1]
-    source = frame["source"].astype(str).to_numpy()
-    cross[rep[pairs[source[pairs[:, 0]] != source[pairs[:, 1]]].ravel()]] = True
-    group = _components(n, rep[pairs])
-    heads = np.flatnonzero(rep == np.arange(n))
-    shared = np.bincount(group[heads], minlength=n) > 1
-    copies[heads[shared[group[heads]]]] = np.unique(
-        group[heads][shared[group[heads]]], return_inverse=True
-    )[1]
-    return rep, cross, copies
-
-
-def _components(n: int, pairs: np.ndarray) -> np.ndarray:
-    from scipy.sparse import coo_matrix
-    from scipy.sparse.csgraph import connected_components
-
-    graph = coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(n, n))
-    return connected_components(graph, directed=False)[1]
-
-
-def _labels(column: pd.Series) -> list[str]:
-    """Values as text, missing ones as the empty string (pandas' str dtype keeps NaN)."""
-    return ["" if pd.isna(v) else str(v) for v in column.tolist()]
-
-
-def _examples(ids, sources, mask) -> dict[str, str]:
-    out: dict[str, str] = {}
-    for i in np.flatnonzero(mask).tolist():
-        out.setdefault(sources[i], f"id {ids[i]}")
-    return out
-
-
-def _doc_freq(docs, size: int) -> np.ndarray:
-    df = np.zeros(size, dtype=np.int64)
-    for d in docs:
-        df[np.unique(d)] += 1
-    return df
-
-
-def _remap(docs, kept: np.ndarray, size: int) -> list[np.ndarray]:
-    new = np.full(size, -1, dtype=np.int32)
-    new[kept] = np.arange(len(kept), dtype=np.int32)
-    out = []
-    for d in docs:
-        m = new[d]
-        out.append(m[m >= 0])
-    return out
-
-
-def _dictionary(docs, strings) -> tuple[Dictionary, BagOfWords]:
-    """A gensim Dictionary and bags of words equal to ``Dictionary(texts)``'s counts."""
-    bow = BagOfWords.from_token_ids(docs)
-    size = len(strings)
-    dfs = np.bincount(bow.ids, minlength=size)
-    cfs = np.bincount(bow.ids, weights=bow.counts, minlength=size).astype(np.int64)
-    dictionary = make_dictionary(
-        strings.tolist(), dfs.tolist(), cfs.tolist(), len(docs), len(bow.ids)
-    )
-    return dictionary, bow
-
-
-def _meta(frame, keep, clean, weights, dup_ids, cross, copies) -> pd.DataFrame:
-    first = ["id", "source", "weight", "group", "url", "title", "date", "text", "outlet"]
-    cols = [c for c in first if c in frame.columns]
-    cols += [c for c in frame.columns if c not in cols]
-    meta = frame.iloc[keep][cols].reset_index(drop=True)
-    meta["id"] = meta["id"].astype(str)
-    meta["weight"] = weights[keep]
-    meta["text"] = [clean[i] for i in keep.tolist()]
-    meta["duplicate_ids"] = [dup_ids[i] for i in keep.tolist()]
-    meta["cross_source_duplicate"] = cross[keep]
-    meta["copy_group"] = copies[keep]
-    return meta
-
-
-def _jsonable(s: dict) -> dict:
-    return json.loads(json.dumps(s, default=list))
 
 
 def load_prepared(project: Project, key: str | None = None) -> PreparedCorpus:
