@@ -303,7 +303,11 @@ def test_empty_vocabulary_is_refused():
 @pytest.mark.parametrize(
     ("option", "value", "match"),
     [
-        ("engine", "gibbs", "'engine' parameter of fit_lda must be one of 'compiled', 'gensim', 'sklearn'"),
+        (
+            "engine",
+            "gibbs",
+            "'engine' parameter of fit_lda must be one of 'compiled', 'gensim', 'sklearn'",
+        ),
         ("passes", 0, "'passes' parameter of fit_lda must be an integer >= 1. Got 0"),
         ("alpha", -1, "'alpha' parameter"),
         ("decay", 2.0, "'decay' parameter"),

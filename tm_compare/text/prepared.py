@@ -42,7 +42,14 @@ from ._stream import REASON_MERGED, REASON_SHORT, STAGE, build, dictionary_and_b
 from .languages import language_mix, split_by_language, warn_if_mixed
 from .removals import RemovalLog
 
-__all__ = ["prepare", "PreparedCorpus", "load_prepared", "DEFAULTS", "REASON_MERGED", "REASON_SHORT"]
+__all__ = [
+    "prepare",
+    "PreparedCorpus",
+    "load_prepared",
+    "DEFAULTS",
+    "REASON_MERGED",
+    "REASON_SHORT",
+]
 
 # Corpora of at least this size show progress bars with progress=None.
 PROGRESS_FROM = 10_000
