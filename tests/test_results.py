@@ -205,6 +205,18 @@ def test_old_cli_flags_still_work_with_a_warning(tmp_path, monkeypatch, capsys):
     assert "unique weighting; intervals resample clusters of 'group'" in capsys.readouterr().out
 
 
+def test_wording_against_the_rest_pooled():
+    # A view set to compare "a minus rest" asks for the pair (a, "rest"): "rest" is no source.
+    fit, prepared = planted()
+    table = ModelResults(fit, prepared, against="rest").wording(1, ("a", "rest"))
+    assert set(zip(table["source"], table["other"], strict=True)) == {("a", "rest"), ("b", "rest")}
+    both = ModelResults(fit, prepared).wording(1, ("a", "b"))
+    # With two sources, "the rest" of a is b: the same terms and scores, by definition.
+    mine = table[table["source"] == "a"].reset_index(drop=True)
+    theirs = both[(both["source"] == "a") & (both["other"] == "b")].reset_index(drop=True)
+    pd.testing.assert_series_equal(mine["z"], theirs["z"])
+
+
 def test_tables_are_cached_per_setting():
     fit, prepared = planted()
     results = ModelResults(fit, prepared, n_boot=20)

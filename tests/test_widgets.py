@@ -210,6 +210,23 @@ def test_term_map_places_terms_by_both_conditional_probabilities(view, planted):
     assert [r["term"] for r in ranked] == [f"w2{i}" for i in range(10)]
 
 
+def test_view_against_the_rest_draws_its_wording(planted):
+    # Each source against all others pooled: the pairs are (source, "rest"), and "rest" is no
+    # source; the wording bars must still come from the pooled comparison.
+    fit, prepared = planted
+    v = TopicView(fit, prepared, topic=2, n_boot=50, against="rest", poll_seconds=None)
+    try:
+        panel = v.sources_panel
+        assert all(b == "rest" for _, b in panel._pairs)
+        panel.contrast.value = len(panel._pairs) - 1  # not the first pair
+        a, _ = panel.pair
+        v.topic = 3
+        shown = v.terms_panel.results.wording(3, panel.pair)
+        assert set(shown["other"]) == {"rest"} and a in set(shown["source"])
+    finally:
+        v.close()
+
+
 def test_first_draw_shows_the_chosen_topic(planted, tmp_path):
     fit, prepared = planted
     v = TopicView(fit, prepared, topic=3, n_boot=50, n_docs=2, downloads=tmp_path)

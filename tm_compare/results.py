@@ -402,9 +402,13 @@ class ModelResults:
 
     def wording(self, topic: int, pair: tuple[str, str] | None = None) -> pd.DataFrame:
         """Terms each source uses more when it writes on ``topic``: the two sources of ``pair``
-        both ways, or (None) every comparison the setting ``against`` asks for."""
+        both ways (``(source, "rest")``: that source against all others pooled), or (None)
+        every comparison the setting ``against`` asks for."""
         topic = self._topic("wording", topic)
-        against, sources = ("each", list(pair)) if pair else (self.settings["against"], None)
+        if pair and pair[1] == "rest":  # the view's "source minus rest" under against="rest"
+            against, sources = "rest", None
+        else:
+            against, sources = ("each", list(pair)) if pair else (self.settings["against"], None)
         weighting = self.settings["weighting"]
         counts = self._cached(
             ("topic_counts", weighting),
