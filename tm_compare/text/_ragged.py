@@ -105,7 +105,18 @@ class Ragged(Sequence):
         return df
 
 
-class TokenTexts(Sequence):
+class ListLike(Sequence):
+    """A read-only sequence equal to any sequence with equal items, as a list is."""
+
+    def __eq__(self, other):
+        if not isinstance(other, Sequence):
+            return NotImplemented
+        return len(self) == len(other) and all(a == b for a, b in zip(self, other, strict=True))
+
+    __hash__ = None
+
+
+class TokenTexts(ListLike):
     """Tokenised documents as lists of strings, stored as term ids into ``strings``.
 
     Reads like a list of lists of str (indexing, slicing, iteration, ``len``, equality with
@@ -140,13 +151,6 @@ class TokenTexts(Sequence):
         strings = self.strings
         for ids in self.docs:
             yield strings[ids].tolist()
-
-    def __eq__(self, other):
-        if not isinstance(other, Sequence):
-            return NotImplemented
-        return len(self) == len(other) and all(a == b for a, b in zip(self, other, strict=True))
-
-    __hash__ = None
 
     def __repr__(self) -> str:
         return f"<TokenTexts {len(self)} documents, {len(self.docs.values)} tokens>"

@@ -29,9 +29,11 @@ from __future__ import annotations
 import re
 import unicodedata
 from collections import defaultdict
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Iterable, Iterator
 
 import numpy as np
+
+from ._ragged import ListLike
 
 KEEP, CONNECTOR, BREAK = 0, 1, 2
 
@@ -183,7 +185,7 @@ def prune_vocabulary(
     return kept
 
 
-class BagOfWords(Sequence):
+class BagOfWords(ListLike):
     """Bags of words held as three flat arrays (compressed sparse rows).
 
     Reads like gensim's list of lists of ``(term_id, count)`` (indexing,
@@ -235,13 +237,6 @@ class BagOfWords(Sequence):
     def __iter__(self):
         for i in range(len(self)):
             yield self[i]
-
-    def __eq__(self, other):
-        if not isinstance(other, Sequence):
-            return NotImplemented
-        return len(self) == len(other) and all(a == b for a, b in zip(self, other, strict=True))
-
-    __hash__ = None
 
     def __repr__(self) -> str:
         return f"<BagOfWords {len(self)} documents, {len(self.ids)} (term, count) pairs>"
