@@ -13,8 +13,6 @@ import signal
 import socket
 import subprocess
 import sys
-import threading
-import time
 
 import numpy as np
 import pandas as pd
@@ -123,6 +121,29 @@ def tcp_cluster(tmp_path):
             proc.log.close()
 
 
+#: Kill worker-b (``argv[2]`` is its process id) once both workers hold the training data and
+#: worker-b is given a fit, before the sweep has finished; print "ready" once connected, then
+#: "killed".
+WATCHER = """
+import os, signal, sys, time
+import distributed
+address, pid = sys.argv[1], int(sys.argv[2])
+with distributed.Client(address, timeout=60) as watcher:
+    print("ready", flush=True)
+    deadline = time.monotonic() + 240
+    while time.monotonic() < deadline:
+        info = watcher.scheduler_info(n_workers=-1)["workers"]
+        b = [a for a, w in info.items() if w.get("name") == "worker-b"]
+        held = [set(where) for key, where in watcher.who_has().items() if "_hold" in str(key)]
+        fits = watcher.processing(workers=b).get(b[0], ()) if b else ()
+        if held and len(held[0]) == 2 and any("_train_shared" in str(f) for f in fits):
+            os.killpg(pid, signal.SIGKILL)
+            print("killed", flush=True)
+            break
+        time.sleep(0.05)
+"""
+
+
 @pytest.mark.timeout(300)
 def test_tcp_cluster_survives_a_lost_worker(tcp_cluster):
     # Dask reschedules the tasks of a worker that disappears (its scheduler notices the
@@ -132,35 +153,26 @@ def test_tcp_cluster_survives_a_lost_worker(tcp_cluster):
     grid = {"k": [3, 4, 5, 6], "seeds": 2}
     local = sweep(small, **grid, **FAST)
     victim = workers[1]
-    killed = threading.Event()
-    done = threading.Event()
-
-    def kill_when_busy(watcher):
-        # Kill worker-b once both workers hold the training data and worker-b is given a
-        # fit, before the sweep has finished.
-        deadline = time.monotonic() + 240
-        while time.monotonic() < deadline and not done.is_set():
-            info = watcher.scheduler_info(n_workers=-1)["workers"]
-            b = [a for a, w in info.items() if w.get("name") == "worker-b"]
-            held = [set(where) for key, where in watcher.who_has().items() if "_hold" in str(key)]
-            fits = watcher.processing(workers=b).get(b[0], ()) if b else ()
-            if held and len(held[0]) == 2 and any("_train_shared" in str(f) for f in fits):
-                os.killpg(victim.pid, signal.SIGKILL)
-                killed.set()
-                return
-            time.sleep(0.05)
-
-    # The watching client lives in this thread and stays open until the sweep is over.
-    with distributed.Client(address, timeout=60) as watcher:
-        thread = threading.Thread(target=kill_when_busy, args=(watcher,), daemon=True)
-        thread.start()
-        try:
-            remote = sweep(small, **grid, scheduler=address, **FAST)
-        finally:
-            done.set()
-            thread.join(timeout=60)
-        names = [w["name"] for w in watcher.scheduler_info(n_workers=-1)["workers"].values()]
-    assert killed.is_set(), "worker-b never ran a fit before the sweep ended"
+    # The watcher is a process of its own: two clients of one cluster in one process (one per
+    # thread) can trip over each other's event loops, which is not what is tested here.
+    watcher = subprocess.Popen(
+        [sys.executable, "-c", WATCHER, address, str(victim.pid)],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.STDOUT,
+        text=True,
+    )
+    ready = watcher.stdout.readline()  # connected before the sweep starts
+    assert ready.strip() == "ready", ready
+    try:
+        remote = sweep(small, **grid, scheduler=address, **FAST)
+    finally:
+        if watcher.poll() is None:
+            watcher.kill()
+        said = watcher.communicate(timeout=60)[0]
+    with distributed.Client(address, timeout=60) as client:
+        names = [w["name"] for w in client.scheduler_info(n_workers=-1)["workers"].values()]
+    killed = "killed" in said
+    assert killed, f"worker-b never ran a fit before the sweep ended: {said}"
     assert victim.wait(timeout=30) == -signal.SIGKILL
     assert names == ["worker-a"]  # the sweep finished on the one worker left
     _assert_same(remote, local)

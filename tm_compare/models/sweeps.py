@@ -561,7 +561,9 @@ def _run_dask(client, own: bool, data: TrainingData, todo: list, engine: str, se
             client.submit(_train_shared, shared, k, seed, engine, settings, pure=False)
             for k, seed in todo
         ]
-        for future in as_completed(futures):
+        # This client's loop: as_completed would otherwise take the process's default client,
+        # which is none (set_as_default=False) or another client with a loop of its own.
+        for future in as_completed(futures, loop=client.loop):
             yield future.result()
     finally:
         client.cancel(futures)
