@@ -85,7 +85,9 @@ def test_a_signal_ends_the_workers_and_removes_the_temporary_folder(project, tmp
     tmp = tmp_path / "tmp"
     tmp.mkdir()
     argv = ["-m", "tm_compare", "sweep", str(project), "--jobs", "2", "--k", "4,5,6,7"]
-    argv += ["--seeds", "2", "--passes", "60", "--no-progress"]
+    # Slow on purpose (gensim's engine, every one of 60 passes), so fits are still running when
+    # the signal comes.
+    argv += ["--seeds", "2", "--passes", "60", "--tol", "0", "--engine", "gensim", "--no-progress"]
     child, parent = _start(argv, tmp)
     _wait_for(lambda: any(tmp.glob("tm_compare-sweep-*")))  # the shared matrix is written
     err = _stop_and_check(child, parent, tmp, signum, workers=2)
@@ -123,8 +125,9 @@ def test_sigterm_on_a_sweep_with_a_dask_client_stops_its_workers(project, tmp_pa
                 n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None
             ) as cluster, distributed.Client(cluster) as client:
                 try:
-                    sweep(prepared, k=[4, 5, 6, 7], seeds=2, passes=60, client=client,
-                          progress=False)
+                    # slow on purpose: fits are still running when the signal comes
+                    sweep(prepared, k=[4, 5, 6, 7], seeds=2, passes=60, tol=0, engine="gensim",
+                          client=client, progress=False)
                 except Stopped as exc:
                     print(exc)
                     assert not [f for f in client.futures if client.futures[f].status == "pending"]
