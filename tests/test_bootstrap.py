@@ -6,6 +6,7 @@ from scipy import stats
 from statsmodels.stats.multitest import multipletests
 
 from tm_compare.compare import _bootstrap as bs
+from tm_compare.compare._kernels import multinomial_counts
 
 
 def _units(values, weights=None, strata=None, clusters=None):
@@ -180,11 +181,17 @@ def _numpy_counts(rng, n, size, dtype=np.int64):
     ],
 )
 @pytest.mark.parametrize("skip", [0, 1])
-def test_compiled_counts_equal_numpy_draws_and_leave_the_same_state(n, size, skip):
+@pytest.mark.parametrize("cap", [255, 1, 2])
+def test_compiled_counts_equal_numpy_draws_and_leave_the_same_state(n, size, skip, cap):
     ours_rng, ref_rng = np.random.default_rng(n), np.random.default_rng(n)
     for rng in (ours_rng, ref_rng):  # skip=1 leaves half of a 64-bit output buffered
         rng.integers(0, 10, skip, dtype=np.int32)
-    counts = bs.draw_counts(n, size, ours_rng, "multinomial")
+    # cap 1 redraws every row in float64, cap 2 the rows where some unit is drawn twice
+    # (most rows here), so both paths and their mix meet the same reference.
+    if cap == 255:
+        counts = bs.draw_counts(n, size, ours_rng, "multinomial")
+    else:
+        counts = multinomial_counts(ours_rng, n, size, cap)
     np.testing.assert_array_equal(counts, _numpy_counts(ref_rng, n, size))
     # The generator continues as numpy's would (both buffered halves and 64-bit draws).
     assert ours_rng.integers(0, 2**40, 5).tolist() == ref_rng.integers(0, 2**40, 5).tolist()

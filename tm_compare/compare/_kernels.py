@@ -46,39 +46,89 @@ def _mulhi(typingctx, a, b):
     return types.uint64(types.uint64, types.uint64), codegen
 
 
+@njit(inline="always")
+def _pcg64_step(hi, lo, inc_hi, inc_lo):  # pragma: no cover - compiled
+    """One PCG64 step: the new state (hi, lo) and its 64-bit XSL-RR output."""
+    low = lo * _MULT_LO
+    high = _mulhi(lo, _MULT_LO) + hi * _MULT_LO + lo * _MULT_HI
+    lo = low + inc_lo
+    hi = high + inc_hi + np.uint64(lo < low)
+    value = hi ^ lo
+    rot = hi >> np.uint64(58)
+    return hi, lo, (value >> rot) | (value << ((np.uint64(64) - rot) & np.uint64(63)))
+
+
+@njit(inline="always")
+def _pcg64_row(row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, cap):  # pragma: no cover
+    """Add ``n`` bounded draws to ``row``; ``full`` tells whether a count reached ``cap``.
+
+    Each 64-bit output gives two 32-bit values, low half first; a high half left over at the
+    end of the row is kept (``has``, ``kept``) for the next, as numpy's ``next_uint32`` does.
+    """
+    bound = np.uint64(n)
+    left = n
+    full = False
+    if has:
+        has = np.uint64(0)
+        m = kept * bound
+        if (m & _LOW32) >= threshold:
+            j = m >> np.uint64(32)
+            row[j] += 1
+            full |= row[j] == cap
+            left -= 1
+    while left > 0:
+        hi, lo, value = _pcg64_step(hi, lo, inc_hi, inc_lo)
+        kept = value >> np.uint64(32)
+        m = (value & _LOW32) * bound
+        if (m & _LOW32) >= threshold:
+            j = m >> np.uint64(32)
+            row[j] += 1
+            full |= row[j] == cap
+            left -= 1
+            if left == 0:
+                has = np.uint64(1)
+                break
+        m = kept * bound
+        if (m & _LOW32) >= threshold:
+            j = m >> np.uint64(32)
+            row[j] += 1
+            full |= row[j] == cap
+            left -= 1
+    return hi, lo, has, kept, full
+
+
 @njit(nogil=True, cache=True)
-def _pcg64_counts(state, n, out):  # pragma: no cover - compiled
-    """Fill ``out`` (rows x n) with counts of ``rows * n`` bounded draws from ``state``.
+def _pcg64_counts(state, n, out, cap):  # pragma: no cover - compiled
+    """Fill ``out`` (rows x n, float64) with counts of ``rows * n`` bounded draws from ``state``.
 
     ``state`` = [state high, state low, increment high, increment low, has_uint32,
-    uinteger] as in ``PCG64.state``; it is updated in place.
+    uinteger] as in ``PCG64.state``; it is updated in place. Each row is counted in a
+    uint8 row (n bytes, which stays in the core's caches where n float64 would not) and
+    then written out as float64. A row in which some count reaches ``cap`` (at most 255)
+    is drawn again from the state it started at, counted in float64, so no count wraps.
     """
     hi, lo, inc_hi, inc_lo, has, kept = state[0], state[1], state[2], state[3], state[4], state[5]
-    bound = np.uint64(n)
-    threshold = (np.uint64(1 << 32) - bound) % bound  # numpy: (UINT32_MAX - rng) % rng_excl
+    threshold = (np.uint64(1 << 32) - np.uint64(n)) % np.uint64(
+        n
+    )  # numpy's (UINT32_MAX - rng) % rng_excl
+    narrow = np.zeros(n, dtype=np.uint8)
     for r in range(out.shape[0]):
+        start = hi, lo, has, kept
+        hi, lo, has, kept, full = _pcg64_row(
+            narrow, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, np.uint8(cap)
+        )
         row = out[r]
-        row[:] = 0.0
-        for _ in range(n):
-            while True:
-                if has:
-                    x = kept
-                    has = np.uint64(0)
-                else:
-                    low = lo * _MULT_LO
-                    high = _mulhi(lo, _MULT_LO) + hi * _MULT_LO + lo * _MULT_HI
-                    lo = low + inc_lo
-                    hi = high + inc_hi + np.uint64(lo < low)
-                    value = hi ^ lo
-                    rot = hi >> np.uint64(58)
-                    value = (value >> rot) | (value << ((np.uint64(64) - rot) & np.uint64(63)))
-                    x = value & _LOW32
-                    kept = value >> np.uint64(32)
-                    has = np.uint64(1)
-                m = x * bound
-                if (m & _LOW32) >= threshold:
-                    break
-            row[m >> np.uint64(32)] += 1.0
+        if full:  # a count may have wrapped: draw the row again, wide
+            narrow[:] = 0
+            row[:] = 0.0
+            hi, lo, has, kept = start
+            hi, lo, has, kept, full = _pcg64_row(
+                row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, -1.0
+            )
+        else:
+            for j in range(n):
+                row[j] = narrow[j]
+                narrow[j] = 0
     state[0], state[1], state[4], state[5] = hi, lo, has, kept
 
 
@@ -124,8 +174,12 @@ def table_counts(drawn: np.ndarray, table: np.ndarray) -> np.ndarray:
     return out
 
 
-def multinomial_counts(rng: np.random.Generator, n: int, size: int) -> np.ndarray:
-    """Counts (size x n, float64) of ``rng.integers(0, n, (size, n))``, drawn from ``rng``."""
+def multinomial_counts(rng: np.random.Generator, n: int, size: int, cap: int = 255) -> np.ndarray:
+    """Counts (size x n, float64) of ``rng.integers(0, n, (size, n))``, drawn from ``rng``.
+
+    ``cap`` (1-255) is the count at which a PCG64 row is redrawn in float64; below 255 it
+    only serves tests, which force that path.
+    """
     out = np.empty((size, n))
     if n == 1:  # numpy draws nothing for a one-value range
         out[:] = 1.0
@@ -142,7 +196,7 @@ def multinomial_counts(rng: np.random.Generator, n: int, size: int) -> np.ndarra
         pcg, inc = full["state"]["state"], full["state"]["inc"]
         words = [pcg >> 64, pcg & _MASK64, inc >> 64, inc & _MASK64]
         state = np.array([*words, full["has_uint32"], full["uinteger"]], dtype=np.uint64)
-        _pcg64_counts(state, n, out)
+        _pcg64_counts(state, n, out, cap)
         full["state"]["state"] = (int(state[0]) << 64) | int(state[1])
         full["has_uint32"], full["uinteger"] = int(state[4]), int(state[5])
         generator.state = full
