@@ -59,42 +59,35 @@ def _pcg64_step(hi, lo, inc_hi, inc_lo):  # pragma: no cover - compiled
 
 
 @njit(inline="always")
-def _pcg64_row(row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, cap):  # pragma: no cover
-    """Add ``n`` bounded draws to ``row``; ``full`` tells whether a count reached ``cap``.
+def _pcg64_row(row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept):  # pragma: no cover
+    """Add ``n`` bounded draws to ``row`` (counts modulo its dtype's range).
 
     Each 64-bit output gives two 32-bit values, low half first; a high half left over at the
     end of the row is kept (``has``, ``kept``) for the next, as numpy's ``next_uint32`` does.
     """
     bound = np.uint64(n)
     left = n
-    full = False
     if has:
         has = np.uint64(0)
         m = kept * bound
         if (m & _LOW32) >= threshold:
-            j = m >> np.uint64(32)
-            row[j] += 1
-            full |= row[j] == cap
+            row[m >> np.uint64(32)] += 1
             left -= 1
     while left > 0:
         hi, lo, value = _pcg64_step(hi, lo, inc_hi, inc_lo)
         kept = value >> np.uint64(32)
         m = (value & _LOW32) * bound
         if (m & _LOW32) >= threshold:
-            j = m >> np.uint64(32)
-            row[j] += 1
-            full |= row[j] == cap
+            row[m >> np.uint64(32)] += 1
             left -= 1
             if left == 0:
                 has = np.uint64(1)
                 break
         m = kept * bound
         if (m & _LOW32) >= threshold:
-            j = m >> np.uint64(32)
-            row[j] += 1
-            full |= row[j] == cap
+            row[m >> np.uint64(32)] += 1
             left -= 1
-    return hi, lo, has, kept, full
+    return hi, lo, has, kept
 
 
 @njit(nogil=True, cache=True)
@@ -102,33 +95,34 @@ def _pcg64_counts(state, n, out, cap):  # pragma: no cover - compiled
     """Fill ``out`` (rows x n, float64) with counts of ``rows * n`` bounded draws from ``state``.
 
     ``state`` = [state high, state low, increment high, increment low, has_uint32,
-    uinteger] as in ``PCG64.state``; it is updated in place. Each row is counted in a
-    uint8 row (n bytes, which stays in the core's caches where n float64 would not) and
-    then written out as float64. A row in which some count reaches ``cap`` (at most 255)
-    is drawn again from the state it started at, counted in float64, so no count wraps.
+    uinteger] as in ``PCG64.state``; it is updated in place.
+
+    Each row is counted in a uint8 row (n bytes, which stays in the core's caches where n
+    float64 would not), then written out as float64. A count past 255 wraps, which the
+    row's total shows (it falls short of n by 256 per wrap); such a row, or one with a
+    count of ``cap`` or more, is drawn again from the state it started at, in float64.
     """
     hi, lo, inc_hi, inc_lo, has, kept = state[0], state[1], state[2], state[3], state[4], state[5]
-    threshold = (np.uint64(1 << 32) - np.uint64(n)) % np.uint64(
-        n
-    )  # numpy's (UINT32_MAX - rng) % rng_excl
+    # numpy's Lemire threshold (UINT32_MAX - rng) % rng_excl, with rng_excl = n
+    threshold = (np.uint64(1 << 32) - np.uint64(n)) % np.uint64(n)
     narrow = np.zeros(n, dtype=np.uint8)
     for r in range(out.shape[0]):
-        start = hi, lo, has, kept
-        hi, lo, has, kept, full = _pcg64_row(
-            narrow, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, np.uint8(cap)
-        )
+        start_hi, start_lo, start_has, start_kept = hi, lo, has, kept
+        hi, lo, has, kept = _pcg64_row(narrow, n, threshold, hi, lo, inc_hi, inc_lo, has, kept)
         row = out[r]
-        if full:  # a count may have wrapped: draw the row again, wide
-            narrow[:] = 0
+        total = 0
+        top = 0
+        for j in range(n):
+            count = narrow[j]
+            row[j] = count
+            total += count
+            top = max(top, count)
+            narrow[j] = 0
+        if total != n or top >= cap:  # a count wrapped (or reached the cap): redraw wide
             row[:] = 0.0
-            hi, lo, has, kept = start
-            hi, lo, has, kept, full = _pcg64_row(
-                row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept, -1.0
+            hi, lo, has, kept = _pcg64_row(
+                row, n, threshold, start_hi, start_lo, inc_hi, inc_lo, start_has, start_kept
             )
-        else:
-            for j in range(n):
-                row[j] = narrow[j]
-                narrow[j] = 0
     state[0], state[1], state[4], state[5] = hi, lo, has, kept
 
 
@@ -177,8 +171,8 @@ def table_counts(drawn: np.ndarray, table: np.ndarray) -> np.ndarray:
 def multinomial_counts(rng: np.random.Generator, n: int, size: int, cap: int = 255) -> np.ndarray:
     """Counts (size x n, float64) of ``rng.integers(0, n, (size, n))``, drawn from ``rng``.
 
-    ``cap`` (1-255) is the count at which a PCG64 row is redrawn in float64; below 255 it
-    only serves tests, which force that path.
+    ``cap`` (1-255): a PCG64 row with a count this high is redrawn in float64; below 255
+    it only serves tests, which force that path.
     """
     out = np.empty((size, n))
     if n == 1:  # numpy draws nothing for a one-value range
