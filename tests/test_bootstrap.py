@@ -189,22 +189,56 @@ def test_compiled_counts_equal_numpy_draws_and_leave_the_same_state(n, size, ski
     # cap 1 redraws every row in float64, cap 2 the rows where some unit is drawn twice
     # (most rows here), so both paths and their mix meet the same reference.
     if cap == 255:
-        counts = bs.draw_counts(n, size, ours_rng, "multinomial")
+        counts = bs.draw_counts(n, size, ours_rng, "multinomial").dense()
     else:
-        counts = multinomial_counts(ours_rng, n, size, cap)
+        counts = multinomial_counts(ours_rng, n, size, cap).dense()
     np.testing.assert_array_equal(counts, _numpy_counts(ref_rng, n, size))
     # The generator continues as numpy's would (both buffered halves and 64-bit draws).
     assert ours_rng.integers(0, 2**40, 5).tolist() == ref_rng.integers(0, 2**40, 5).tolist()
     assert ours_rng.bit_generator.state == ref_rng.bit_generator.state
 
 
+@pytest.mark.parametrize("cap", [255, 2])
+def test_count_products_equal_float64_products(cap):
+    # 5,000 units span three widened pieces of the counts (the last one short); cap 2 puts
+    # most rows in the float64 spill. Reference: numpy's own float64 matrix product of the
+    # counts numpy's Generator.integers draws (rng.integers(0, n, (size, n)), counted).
+    n, size = 5000, 7
+    sums = np.random.default_rng(3).random((n, 4))
+    counts = multinomial_counts(np.random.default_rng(5), n, size, cap)
+    reference = _numpy_counts(np.random.default_rng(5), n, size)
+    assert (len(counts.wide) > 0) == (cap == 2)
+    np.testing.assert_allclose(counts.times(sums), reference @ sums, rtol=1e-13)
+
+
+def test_replicates_over_blocks_and_strata_equal_one_numpy_draw_per_stratum(monkeypatch):
+    # replicate() draws each stratum in blocks of rows; numpy's stream continues across
+    # calls (its buffered 32-bit half included), so the blocks together are the draws of one
+    # rng.integers(0, n_s, (B, n_s)) per stratum in order (numpy Generator.integers, the
+    # call scipy.stats.bootstrap makes). Small blocks force many of them, some ragged.
+    monkeypatch.setattr(bs, "_BLOCK", 50)
+    strata = np.repeat([0, 1, 2], [7, 23, 2])
+    values = np.random.default_rng(8).random((len(strata), 3))
+    weights = np.random.default_rng(9).integers(1, 5, len(strata)).astype(float)
+    units = _units(values, weights, strata)
+    rng, ref_rng = np.random.default_rng(11), np.random.default_rng(11)
+    for gen in (rng, ref_rng):  # leave half of a 64-bit output buffered at the start
+        gen.integers(0, 10, 1, dtype=np.int32)
+    num, den = bs.replicate(units, 31, rng)
+    for s, (a, b) in enumerate(units.bounds()):
+        both = _numpy_counts(ref_rng, b - a, 31) @ units.sums[a:b]
+        np.testing.assert_allclose(num[:, s], both[:, :-1], rtol=1e-13)
+        np.testing.assert_allclose(den[:, s], both[:, -1], rtol=1e-13)
+    assert rng.bit_generator.state == ref_rng.bit_generator.state
+
+
 def test_counts_from_other_bit_generators_and_one_unit_equal_numpy():
     ours_rng = np.random.Generator(np.random.MT19937(4))
     ref_rng = np.random.Generator(np.random.MT19937(4))
-    counts = bs.draw_counts(500, 6, ours_rng, "multinomial")
+    counts = bs.draw_counts(500, 6, ours_rng, "multinomial").dense()
     np.testing.assert_array_equal(counts, _numpy_counts(ref_rng, 500, 6))
     ours_rng, ref_rng = np.random.default_rng(9), np.random.default_rng(9)
-    assert (bs.draw_counts(1, 4, ours_rng, "multinomial") == 1).all()
+    assert (bs.draw_counts(1, 4, ours_rng, "multinomial").dense() == 1).all()
     ref_rng.integers(0, 1, (4, 1))  # numpy draws nothing for a one-value range
     assert ours_rng.bit_generator.state == ref_rng.bit_generator.state
 
@@ -265,11 +299,11 @@ def test_strata_keep_their_number_of_units():
         for a, b in units.bounds()
     ]
     # Stratified resampling: each replicate draws exactly n_s units of stratum s (common practice).
-    assert [c.sum(axis=1).tolist() for c in counts] == [[5] * 200, [40] * 200, [12] * 200]
+    assert [c.dense().sum(axis=1).tolist() for c in counts] == [[5] * 200, [40] * 200, [12] * 200]
 
 
 def test_poisson_counts_follow_poisson_one():
-    counts = bs.draw_counts(1000, 400, np.random.default_rng(2), "poisson")
+    counts = bs.draw_counts(1000, 400, np.random.default_rng(2), "poisson").dense()
     observed = np.bincount(counts.astype(int).ravel(), minlength=6)[:6] / counts.size
     # Reference: scipy.stats.poisson pmf with mean 1 (Hanley & MacGibbon 2006); 400k draws.
     np.testing.assert_allclose(observed, stats.poisson.pmf(np.arange(6), 1.0), atol=3e-3)

@@ -22,6 +22,8 @@ numba is imported when this module is, so import it where a bootstrap runs.
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+
 import numpy as np
 from llvmlite import ir
 from numba import njit, types
@@ -91,37 +93,35 @@ def _pcg64_row(row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept):  # pragma:
 
 
 @njit(nogil=True, cache=True)
-def _pcg64_counts(state, n, out, cap):  # pragma: no cover - compiled
-    """Fill ``out`` (rows x n, float64) with counts of ``rows * n`` bounded draws from ``state``.
+def _pcg64_counts(state, n, out, spill, wide, cap):  # pragma: no cover - compiled
+    """Fill ``out`` (rows x n, uint8) with counts of ``rows * n`` bounded draws from ``state``.
 
     ``state`` = [state high, state low, increment high, increment low, has_uint32,
     uinteger] as in ``PCG64.state``; it is updated in place.
 
-    Each row is counted in a uint8 row (n bytes, which stays in the core's caches where n
-    float64 would not), then written out as float64. A count past 255 wraps, which the
-    row's total shows (it falls short of n by 256 per wrap); such a row, or one with a
-    count of ``cap`` or more, is drawn again from the state it started at, in float64.
+    A row of n bytes stays in the core's caches where n float64 would not. A count past
+    255 wraps, which the row's total shows (it falls short of n by 256 per wrap); such a
+    row, or one with a count of ``cap`` or more, is drawn again from the state it started
+    at into ``spill[r]`` (float64), and ``wide[r]`` is set.
     """
     hi, lo, inc_hi, inc_lo, has, kept = state[0], state[1], state[2], state[3], state[4], state[5]
     # numpy's Lemire threshold (UINT32_MAX - rng) % rng_excl, with rng_excl = n
     threshold = (np.uint64(1 << 32) - np.uint64(n)) % np.uint64(n)
-    narrow = np.zeros(n, dtype=np.uint8)
     for r in range(out.shape[0]):
         start_hi, start_lo, start_has, start_kept = hi, lo, has, kept
-        hi, lo, has, kept = _pcg64_row(narrow, n, threshold, hi, lo, inc_hi, inc_lo, has, kept)
         row = out[r]
+        row[:] = 0
+        hi, lo, has, kept = _pcg64_row(row, n, threshold, hi, lo, inc_hi, inc_lo, has, kept)
         total = 0
         top = 0
         for j in range(n):
-            count = narrow[j]
-            row[j] = count
-            total += count
-            top = max(top, count)
-            narrow[j] = 0
-        if total != n or top >= cap:  # a count wrapped (or reached the cap): redraw wide
-            row[:] = 0.0
+            total += row[j]
+            top = max(top, row[j])
+        wide[r] = total != n or top >= cap
+        if wide[r]:  # a count wrapped (or reached the cap): redraw the row in float64
+            spill[r] = 0.0
             hi, lo, has, kept = _pcg64_row(
-                row, n, threshold, start_hi, start_lo, inc_hi, inc_lo, start_has, start_kept
+                spill[r], n, threshold, start_hi, start_lo, inc_hi, inc_lo, start_has, start_kept
             )
     state[0], state[1], state[4], state[5] = hi, lo, has, kept
 
@@ -160,38 +160,85 @@ def _look_up(drawn, table, out):  # pragma: no cover - compiled
             out[r, i] = table[drawn[r, i]]
 
 
-def table_counts(drawn: np.ndarray, table: np.ndarray) -> np.ndarray:
-    """``table[drawn]`` as float64 (Poisson counts from 16-bit uniforms), several times
+# Columns of uint8 counts widened to float64 at a time before their product: the widened
+# piece (rows x _CHUNK) stays in the core's caches.
+_CHUNK = 2048
+
+
+@dataclass(frozen=True)
+class Counts:
+    """Counts of a block of replicates (rows x n): how often each unit enters each one.
+
+    ``values`` is uint8 (or float64 when numpy drew the integers); ``wide`` holds, in
+    float64, the rows whose counts did not fit a byte (never seen; see :func:`_pcg64_counts`).
+    A block of bytes is an eighth of the memory traffic of float64 between the thread that
+    draws it and the one that multiplies it.
+    """
+
+    values: np.ndarray
+    wide: dict[int, np.ndarray] = field(default_factory=dict)
+
+    def dense(self) -> np.ndarray:
+        """The counts as one float64 array."""
+        out = self.values.astype(np.float64)
+        for r, row in self.wide.items():
+            out[r] = row
+        return out
+
+    def times(self, sums: np.ndarray) -> np.ndarray:
+        """``counts @ sums`` (rows x m) for ``sums`` (n x m), widening :data:`_CHUNK`
+        columns of the counts at a time."""
+        rows, n = self.values.shape
+        if self.values.dtype != np.uint8:
+            out = self.values @ sums
+        else:
+            out = np.zeros((rows, sums.shape[1]))
+            piece = np.empty((rows, min(n, _CHUNK)))
+            for a in range(0, n, _CHUNK):
+                b = min(n, a + _CHUNK)
+                if b - a < piece.shape[1]:
+                    piece = np.empty((rows, b - a))
+                np.copyto(piece, self.values[:, a:b])
+                out += piece @ sums[a:b]
+        for r, row in self.wide.items():
+            out[r] = row @ sums
+        return out
+
+
+def table_counts(drawn: np.ndarray, table: np.ndarray) -> Counts:
+    """``table[drawn]`` as uint8 counts (Poisson counts from 16-bit uniforms), several times
     faster than numpy's fancy indexing of so many elements."""
-    out = np.empty(drawn.shape)
+    out = np.empty(drawn.shape, dtype=np.uint8)
     _look_up(drawn, table, out)
-    return out
+    return Counts(out)
 
 
-def multinomial_counts(rng: np.random.Generator, n: int, size: int, cap: int = 255) -> np.ndarray:
-    """Counts (size x n, float64) of ``rng.integers(0, n, (size, n))``, drawn from ``rng``.
+def multinomial_counts(rng: np.random.Generator, n: int, size: int, cap: int = 255) -> Counts:
+    """Counts (size x n) of ``rng.integers(0, n, (size, n))``, drawn from ``rng``.
 
     ``cap`` (1-255): a PCG64 row with a count this high is redrawn in float64; below 255
     it only serves tests, which force that path.
     """
-    out = np.empty((size, n))
     if n == 1:  # numpy draws nothing for a one-value range
-        out[:] = 1.0
-        return out
+        return Counts(np.ones((size, 1), dtype=np.uint8))
     generator = rng.bit_generator
     if type(generator) is not np.random.PCG64 or n >= 2**32:
         # 32-bit indices are the same numbers as 64-bit ones below 2**32 (numpy draws both
         # with its 32-bit bounded generator), drawn about 1.5x faster.
         dtype = np.int32 if n < 2**31 else np.int64
+        out = np.empty((size, n))
         _count_rows(rng.integers(0, n, (size, n), dtype=dtype), n, out)
-        return out
+        return Counts(out)
+    out = np.empty((size, n), dtype=np.uint8)
+    spill = np.empty((size, n))  # pages are only touched by rows redrawn wide
+    wide = np.zeros(size, dtype=np.bool_)
     with generator.lock:
         full = generator.state
         pcg, inc = full["state"]["state"], full["state"]["inc"]
         words = [pcg >> 64, pcg & _MASK64, inc >> 64, inc & _MASK64]
         state = np.array([*words, full["has_uint32"], full["uinteger"]], dtype=np.uint64)
-        _pcg64_counts(state, n, out, cap)
+        _pcg64_counts(state, n, out, spill, wide, cap)
         full["state"]["state"] = (int(state[0]) << 64) | int(state[1])
         full["has_uint32"], full["uinteger"] = int(state[4]), int(state[5])
         generator.state = full
-    return out
+    return Counts(out, {int(r): spill[r].copy() for r in np.flatnonzero(wide)})
