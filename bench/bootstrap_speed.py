@@ -1,8 +1,8 @@
 """Time the bootstrap of topic prevalence against its peers, in one run.
 
 Ours runs in one process with up to three threads on this machine's cores: the caller
-draws the replicates' counts (compiled) while two threads multiply drawn blocks with
-the unit sums (one BLAS thread each). Each peer therefore runs in two processes at once,
+draws the replicates' counts (compiled, as bytes) while two threads widen drawn blocks
+and multiply them with the unit sums (one BLAS thread each). Each peer therefore runs in two processes at once,
 each process timed on a sample of the work, and is scaled to the full count (the output
 states the sample and the factor); the pair's wall time covers two samples.
 
@@ -175,7 +175,7 @@ def stages(fit, prepared, n_boot, runs):
     def products():
         with threadpool_limits(limits=1, user_api="blas"):
             for a, b, rows in blocks:
-                one[(b - a, rows)] @ units.sums[a:b]
+                one[(b - a, rows)].times(units.sums[a:b])
 
     reps = bs.replicate(units, n_boot, np.random.default_rng(0))
     return {
@@ -183,7 +183,7 @@ def stages(fit, prepared, n_boot, runs):
             lambda: pv._design(fit, prepared, "prevalence", "exposure", None, None)
         ),
         "unit sums (D x (k+1))": best(design.units),
-        "draws + counts (serial)": best(draws),
+        "draws + byte counts (serial)": best(draws),
         "count x sums products (BLAS)": best(products),
         "estimates and intervals": best(
             lambda: pv._summary(units, reps, pv._prevalence_stat, 0.95, "percentile")

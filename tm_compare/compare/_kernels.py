@@ -12,7 +12,15 @@ values (low half first), and Lemire's bounded rejection (Lemire 2019, "Fast rand
 generation in an interval", ACM TOMACS 29(1)). Other bit generators draw through numpy
 and are counted here.
 
-Poisson counts: 16-bit uniforms looked up in an inverse-CDF table.
+Counts are bytes (:class:`Counts`): a row of n units is counted in n bytes, which stay in
+the core's caches (n float64 would not at 67k units), and a block of byte counts is an
+eighth of the memory traffic between the drawing thread and the threads multiplying it
+with the unit sums, which widen it to float64 a cache-sized piece at a time. A count
+above 255 needs more than 255 of a row's n draws to hit one unit (never seen); the row's
+total shows the wrap, and that row is drawn again in float64 from the state it started
+at, so every count stays exact.
+
+Poisson counts: 16-bit uniforms looked up in an inverse-CDF table (bytes as well).
 
 Weighted rows: a document-level unit's sums (its weighted shares and its weight) in one
 pass over the shares, in stratum order.
