@@ -186,7 +186,9 @@ def stages(fit, prepared, n_boot, runs):
         "draws + byte counts (serial)": best(draws),
         "count x sums products (BLAS)": best(products),
         "estimates and intervals": best(
-            lambda: pv._summary(units, reps, pv._prevalence_stat, 0.95, "percentile")
+            lambda: pv._summary(
+                units, reps, pv._prevalence_stat, 0.95, "percentile", bs.stratum_acceleration
+            )
         ),
     }
 

@@ -291,6 +291,42 @@ def test_closed_form_acceleration_equals_the_generic_jackknife():
         )
 
 
+@pytest.mark.parametrize(
+    "pairs",
+    [
+        [([0], [1]), ([0], [2]), ([1], [2])],  # differences(against="each")
+        [([0], [1, 2]), ([1], [0, 2]), ([2], [0, 1])],  # differences(against="rest")
+    ],
+)
+def test_pooled_acceleration_equals_the_generic_jackknife(pairs):
+    rng = np.random.default_rng(12)
+    strata = np.repeat([0, 1, 2], [33, 47, 25])
+    clusters = rng.integers(0, 9, len(strata))
+    x, w = rng.dirichlet(np.full(3, 0.4), len(strata)), rng.integers(1, 7, len(strata))
+
+    def pooled(num, den, idx):
+        return num[..., idx, :].sum(axis=-2) / den[..., idx].sum(axis=-1)[..., None]
+
+    for combine in (np.subtract, np.divide):
+
+        def stat(num, den, combine=combine):
+            return np.concatenate(
+                [combine(pooled(num, den, a), pooled(num, den, b)) for a, b in pairs], -1
+            )
+
+        for grouped in (None, clusters):
+            units = _units(x, w, strata, grouped)
+            # Reference: the leave-one-unit-out jackknife of the statistic itself over every
+            # unit of every stratum (Efron & Tibshirani 1993, sec. 14.3), summed over strata
+            # as scipy.stats.bootstrap sums it over samples.
+            np.testing.assert_allclose(
+                bs.pooled_acceleration(units, pairs, combine),
+                bs.jackknife_acceleration(units, stat),
+                rtol=1e-9,
+                atol=1e-15,
+            )
+
+
 def test_strata_keep_their_number_of_units():
     strata = np.repeat([0, 1, 2], [5, 40, 12])
     units = _units(np.ones(len(strata)), strata=strata)

@@ -199,6 +199,8 @@ def jackknife_acceleration(units: Units, statistic: Statistic) -> np.ndarray:
     Follows ``scipy.stats.bootstrap`` for several samples, which cites Efron & Tibshirani
     (1993, sec. 14.3 and eq. 15.36): ``a = sum U^3 / n^3 / (6 (sum U^2 / n^2)^1.5)`` with
     ``U_i = (n - 1)(mean_jack - theta_(i))`` within each stratum (sums over all strata).
+    One statistic per unit: the reference the closed forms (:func:`stratum_acceleration`,
+    :func:`pooled_acceleration`) are tested against.
     """
     full_num, full_den = units.totals()
     nums = dens = 0.0
@@ -233,6 +235,44 @@ def stratum_acceleration(units: Units) -> np.ndarray:
             squares = squared.sum(axis=0) / n**2
             accel[s] = (squared * u).sum(axis=0) / n**3 / (6 * squares**1.5)
     return accel.ravel()
+
+
+def pooled_acceleration(
+    units: Units,
+    pairs: list[tuple[list[int], list[int]]],
+    combine: Callable[[np.ndarray, np.ndarray], np.ndarray],
+) -> np.ndarray:
+    """BCa acceleration of ``combine(P_a, P_b)`` for each pair and topic (pairs * k,),
+    where ``P_x`` is the weighted mean of the strata ``x`` pooled: ``sum num / sum den``.
+
+    The value :func:`jackknife_acceleration` gives for that statistic, in closed form:
+    leaving out a unit of stratum s moves only the side holding s (the sides of a pair
+    share no stratum), to ``(T - num_i) / (W - den_i)`` over that side's pooled sums; a
+    stratum on neither side leaves the statistic unchanged and adds nothing. So each pair
+    costs one pass over the units of its strata instead of one statistic per unit.
+    """
+    num, den = units.totals()
+    bounds = units.bounds()
+    k = num.shape[1]
+    cubes = np.zeros((len(pairs), k))
+    squares = np.zeros((len(pairs), k))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for p, (a_side, b_side) in enumerate(pairs):
+            pooled = [num[side].sum(axis=0) / den[side].sum() for side in (a_side, b_side)]
+            for moved, side in enumerate((a_side, b_side)):
+                total, weight = num[side].sum(axis=0), den[side].sum()
+                for s in side:
+                    start, stop = bounds[s]
+                    n = stop - start
+                    left = (total - units.num[start:stop]) / (weight - units.den[start:stop])[
+                        :, None
+                    ]
+                    theta = combine(left, pooled[1]) if moved == 0 else combine(pooled[0], left)
+                    u = (n - 1) * (theta.mean(axis=0) - theta)
+                    squared = u * u  # products, not u**3: numpy's power is far slower for cubes
+                    cubes[p] += (squared * u).sum(axis=0) / n**3
+                    squares[p] += squared.sum(axis=0) / n**2
+        return (cubes / (6 * squares**1.5)).ravel()
 
 
 def _leave_one_out(units, statistic, full_num, full_den, s, a, b) -> Iterator[np.ndarray]:

@@ -342,14 +342,13 @@ def _replicates(design, boot: Bootstrap, owner):
     return units, bs.replicate(units, boot.n_boot, rng, boot.resampling, redraw, draws)
 
 
-def _summary(units, reps, statistic, ci, interval, acceleration=None):
-    """Estimate, replicates and interval; ``acceleration(units)`` replaces the generic
-    jackknife where the statistic has a closed form."""
+def _summary(units, reps, statistic, ci, interval, acceleration):
+    """Estimate, replicates and interval; for BCa, ``acceleration(units)`` is the closed
+    form of the jackknife of ``statistic`` (each is tested against the generic
+    :func:`._bootstrap.jackknife_acceleration`)."""
     theta_hat = statistic(*units.totals())
     theta_b = statistic(*reps)
-    accel = None
-    if interval == "bca":
-        accel = acceleration(units) if acceleration else bs.jackknife_acceleration(units, statistic)
+    accel = acceleration(units) if interval == "bca" else None
     lo, hi = bs.interval(theta_hat, theta_b, ci, interval, accel)
     return theta_hat, theta_b, lo, hi
 
@@ -490,8 +489,15 @@ def differences(
             [np.concatenate([pooled(num, den, a), pooled(num, den, b)], -1) for a, b in pairs], -1
         )
 
-    d_hat, d_b, d_lo, d_hi = _summary(units, reps, diff_stat, boot.ci, boot.interval)
-    r_hat, _, r_lo, r_hi = _summary(units, reps, ratio_stat, boot.ci, boot.interval)
+    def accel(combine):  # the BCa jackknife in closed form (see bs.pooled_acceleration)
+        return lambda units: bs.pooled_acceleration(units, pairs, combine)
+
+    d_hat, d_b, d_lo, d_hi = _summary(
+        units, reps, diff_stat, boot.ci, boot.interval, accel(np.subtract)
+    )
+    r_hat, _, r_lo, r_hi = _summary(
+        units, reps, ratio_stat, boot.ci, boot.interval, accel(np.divide)
+    )
     levels = level_stat(*units.totals()).reshape(len(pairs), 2, -1)
     k = design.shares.shape[1]
     p = bs.centred_p_value(d_hat, d_b)
