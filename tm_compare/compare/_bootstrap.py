@@ -229,11 +229,14 @@ def stratum_acceleration(units: Units) -> np.ndarray:
         n = b - a
         total = units.sums[a:b].sum(axis=0)
         with np.errstate(invalid="ignore", divide="ignore"):
-            theta = (total[:k] - units.num[a:b]) / (total[k] - units.den[a:b])[:, None]
-            u = (n - 1) * (theta.mean(axis=0) - theta)
-            squared = u * u  # products, not u**3: numpy's power is far slower for cubes
-            squares = squared.sum(axis=0) / n**2
-            accel[s] = (squared * u).sum(axis=0) / n**3 / (6 * squares**1.5)
+            theta = total[:k] - units.num[a:b]
+            theta /= (total[k] - units.den[a:b])[:, None]
+            # theta_(i) - mean = -U_i / (n - 1): fold the factor into the sums
+            theta -= theta.mean(axis=0)
+            squared = theta * theta  # products, not powers: numpy's power is far slower
+            squares = squared.sum(axis=0) * ((n - 1) / n) ** 2
+            cubes = -np.einsum("ij,ij->j", squared, theta) * ((n - 1) / n) ** 3
+            accel[s] = cubes / (6 * squares**1.5)
     return accel.ravel()
 
 
@@ -250,6 +253,7 @@ def pooled_acceleration(
     share no stratum), to ``(T - num_i) / (W - den_i)`` over that side's pooled sums; a
     stratum on neither side leaves the statistic unchanged and adds nothing. So each pair
     costs one pass over the units of its strata instead of one statistic per unit.
+    ``combine`` is a ufunc (``np.subtract``, ``np.divide``).
     """
     num, den = units.totals()
     bounds = units.bounds()
@@ -264,14 +268,17 @@ def pooled_acceleration(
                 for s in side:
                     start, stop = bounds[s]
                     n = stop - start
-                    left = (total - units.num[start:stop]) / (weight - units.den[start:stop])[
-                        :, None
-                    ]
-                    theta = combine(left, pooled[1]) if moved == 0 else combine(pooled[0], left)
-                    u = (n - 1) * (theta.mean(axis=0) - theta)
-                    squared = u * u  # products, not u**3: numpy's power is far slower for cubes
-                    cubes[p] += (squared * u).sum(axis=0) / n**3
-                    squares[p] += squared.sum(axis=0) / n**2
+                    theta = total - units.num[start:stop]
+                    theta /= (weight - units.den[start:stop])[:, None]
+                    if moved == 0:
+                        combine(theta, pooled[1], out=theta)
+                    else:
+                        combine(pooled[0], theta, out=theta)
+                    # theta_(i) - mean = -U_i / (n - 1): fold the factor into the sums
+                    theta -= theta.mean(axis=0)
+                    squared = theta * theta
+                    cubes[p] -= np.einsum("ij,ij->j", squared, theta) * ((n - 1) / n) ** 3
+                    squares[p] += squared.sum(axis=0) * ((n - 1) / n) ** 2
         return (cubes / (6 * squares**1.5)).ravel()
 
 
