@@ -95,7 +95,12 @@ def unit_sums(shares, weights, strata, units, n_strata) -> Units:
     if n_units == len(units):  # every document is its own unit: no sums to take
         from ._kernels import weighted_rows  # numba: imported at the first bootstrap
 
-        keep = np.lexsort((units, strata))
+        if n_strata < 2**15 and np.array_equal(units, np.arange(len(units))):
+            # Units in document order: a stable sort by stratum (radix, on 16-bit codes)
+            # gives the order the lexsort below gives, several times faster.
+            keep = np.argsort(strata.astype(np.int16), kind="stable")
+        else:
+            keep = np.lexsort((units, strata))
         keep = keep[weights[keep] > 0]
         return Units(strata[keep], weighted_rows(shares, weights, keep), n_strata)
     # A sparse (units x documents) matrix of weights sums rows far faster than np.add.at.
