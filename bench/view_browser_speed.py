@@ -42,6 +42,29 @@ sys.path.insert(0, str(HERE))
 BASELINE = "cfdf414"
 MARKS = ".tmc-sources path[aria-label*='name: ']"
 
+# Runs in every page before its scripts: notes each kernel message the page receives (time,
+# kind), so a click's breakdown can say how many came and when the kernel went idle.
+HOOK = r"""
+(() => {
+  const Socket = window.WebSocket, text = new TextDecoder();
+  window.__tmcMessages = [];
+  window.WebSocket = class extends Socket {
+    constructor(...args) {
+      super(...args);
+      this.addEventListener('message', (event) => {
+        const t = performance.now();
+        const raw = typeof event.data === 'string' ? event.data : text.decode(event.data);
+        const kind = (raw.match(/"msg_type":\s*"([^"]+)"/) || [])[1];
+        const state = (raw.match(/"execution_state":\s*"([^"]+)"/) || [])[1];
+        window.__tmcMessages.push([t, kind === 'status' ? state : kind]);
+      });
+    }
+  };
+})();
+"""
+#: Renderer main-thread counters (CDP Performance.getMetrics, seconds) diffed around a click.
+METRICS = ("ThreadTime", "ScriptDuration", "LayoutDuration", "RecalcStyleDuration")
+
 # Runs in the page before the click: what the wording chart and the documents show now, and
 # the time of the next mouse press (capture phase).
 ARM = """
@@ -51,6 +74,7 @@ ARM = """
       .map(e => e.getAttribute('aria-label') || e.innerText).join('|');
   window.__tmcBefore = {wording: texts('.tmc-wording [aria-label]'), docs: texts('.tmc-doc')};
   window.__tmcClick = null;
+  window.__tmcMessages.length = 0;
   document.addEventListener('mousedown', () => { window.__tmcClick = performance.now(); },
                             {capture: true, once: true});
 }
@@ -86,7 +110,12 @@ async ([wanted]) => {
     check();
   });
   await new Promise(r => requestAnimationFrame(() => requestAnimationFrame(r)));
-  return performance.now() - window.__tmcClick;
+  const done = performance.now(), click = window.__tmcClick;
+  const comms = window.__tmcMessages.filter(([t, kind]) => kind === 'comm_msg');
+  const idle = window.__tmcMessages.filter(([t, kind]) => kind === 'idle').map(([t]) => t - click);
+  return {ms: done - click, comms: comms.length,
+          last_comm: comms.length ? comms[comms.length - 1][0] - click : null,
+          idle: idle.length ? idle[0] : null};
 }
 """
 
@@ -135,6 +164,7 @@ def open_view(page, base: str, name: str) -> dict:
     """Open notebook ``name`` and run it; its view and the first-view timings."""
     from test_browser import KERNEL_IDLE, TOKEN, run_all_cells
 
+    page.add_init_script(HOOK)
     page.goto(f"{base}/lab/tree/{name}?reset&token={TOKEN}")
     page.get_by_text(KERNEL_IDLE).first.wait_for(timeout=180_000)
     run_all_cells(page, timeout_s=900)
@@ -146,11 +176,27 @@ def open_view(page, base: str, name: str) -> dict:
     out = "\n".join(page.locator(".jp-OutputArea-output").all_inner_texts())
     start = float(re.search(r"START_WALL=([\d.]+)", out).group(1))
     first = float(re.search(r"FIRST_VIEW_SECONDS=([\d.]+)", out).group(1))
-    return {"page": page, "view": view, "first": first, "drawn": drawn - start, "times": []}
+    cdp = page.context.new_cdp_session(page)
+    cdp.send("Performance.enable")
+    return {
+        "page": page,
+        "view": view,
+        "cdp": cdp,
+        "first": first,
+        "drawn": drawn - start,
+        "times": [],
+        "parts": [],
+    }
+
+
+def _metrics(cdp) -> dict:
+    return {m["name"]: m["value"] for m in cdp.send("Performance.getMetrics")["metrics"]}
 
 
 def click_new_topic(side: dict) -> None:
-    """Click a topic this side has not shown yet; add (topic, ms to every panel repainted)."""
+    """Click a topic this side has not shown yet; add (topic, ms to every panel repainted) and
+    the click's breakdown: the page's main-thread time (CPU, scripts, layout and style), kernel
+    messages received and when the last one and the kernel's idle arrived."""
     page, view, times = side["page"], side["view"], side["times"]
     shown = view.locator(".tmc-selected").inner_text()
     selected = int(re.search(r"Reading topic (\d+)", shown).group(1))
@@ -160,8 +206,29 @@ def click_new_topic(side: dict) -> None:
     index = next(i for i, t in enumerate(topics) if t != selected and t not in seen)
     page.bring_to_front()
     page.evaluate(ARM)
+    before = _metrics(side["cdp"])
     view.locator(MARKS).nth(index).click(force=True)
-    times.append((topics[index], page.evaluate(WAIT, [topics[index]])))
+    seen = page.evaluate(WAIT, [topics[index]])
+    after = _metrics(side["cdp"])
+    times.append((topics[index], seen.pop("ms")))
+    seen.update({m: (after[m] - before[m]) * 1000 for m in METRICS})
+    side["parts"].append(seen)
+
+
+def breakdown(parts: list[dict]) -> str:
+    """Medians over the clicks of the page's side of a switch."""
+
+    def med(key):
+        values = [p[key] for p in parts if p[key] is not None]
+        return statistics.median(values) if values else float("nan")
+
+    return (
+        f"in the page (medians): main thread busy {med('ThreadTime'):.0f} ms of CPU (scripts "
+        f"{med('ScriptDuration'):.0f}, layout and style "
+        f"{med('LayoutDuration') + med('RecalcStyleDuration'):.0f}); {med('comms'):.0f} widget "
+        f"messages received, the last {med('last_comm'):.0f} ms after the click; kernel idle "
+        f"seen at {med('idle'):.0f} ms"
+    )
 
 
 def main() -> None:
@@ -212,6 +279,7 @@ def main() -> None:
             f"repainted: median {statistics.median(ms):.0f} ms, min {min(ms):.0f} ms, "
             f"max {max(ms):.0f} ms over {len(ms)} clicks on new topics"
         )
+        print(f"  {breakdown(side['parts'])}")
     print(
         f"ratio (baseline / this tree): switch median "
         f"{statistics.median(old['ms']) / statistics.median(now['ms']):.1f}x, first view "
