@@ -11,6 +11,13 @@ any version of the view), plus two animation frames (the browser has painted). T
 ``TopicView`` is timed inside the kernel (built and handed to ``display``) and in the page
 (until its charts are drawn).
 
+This tree's view prepares every topic while the kernel idles (``TopicView.prepare``); the clicks
+come after both views are drawn, so they meet prepared topics, as a reader who looks at the view
+for a few seconds does. ``--cold`` switches that off: each click then computes its topic. Per
+click the script also reads, in the page, the renderer main thread's CPU time, script and
+layout time (Chromium's performance counters, diffed around the click), how many widget messages
+arrived and when the last one and the kernel's idle did; it prints their medians per side.
+
 Baseline: the same notebook, clicks and checks on the views of git commit ``--baseline``
 (default: the last commit before the switch updated charts in place), unpacked with
 ``git archive`` and imported in a second kernel of the same JupyterLab and browser. Both sides
@@ -120,14 +127,16 @@ async ([wanted]) => {
 """
 
 
-def notebook(docs: int, topics: int, source: Path | None) -> dict:
-    """The bench notebook; ``source``: a folder whose ``tm_compare`` is imported instead."""
+def notebook(docs: int, topics: int, source: Path | None, cold: bool = False) -> dict:
+    """The bench notebook; ``source``: a folder whose ``tm_compare`` is imported instead;
+    ``cold``: the view prepares no topic ahead (it is off in the baseline's views anyway)."""
     path = "" if source is None else f"sys.path.insert(0, {str(source)!r})\n"
+    cold_line = "TopicView._prepare_others = lambda self: None\n" if cold else ""
     code = f"""import sys, time
 {path}sys.path.insert(0, {str(HERE)!r})
 from view_speed import synthetic
 from tm_compare.views import TopicView
-fit, prepared = synthetic({docs}, {topics}, 5000)
+{cold_line}fit, prepared = synthetic({docs}, {topics}, 5000)
 print(f"START_WALL={{time.time():.3f}}")
 start = time.perf_counter()
 view = TopicView(fit, prepared, n_boot=1000, poll_seconds=None)
@@ -237,6 +246,11 @@ def main() -> None:
     parser.add_argument("--topics", type=int, default=50)
     parser.add_argument("--clicks", type=int, default=10)
     parser.add_argument("--baseline", default=BASELINE, help="git commit of the baseline views")
+    parser.add_argument(
+        "--cold",
+        action="store_true",
+        help="this tree's view prepares no topic while the kernel idles (each click computes)",
+    )
     args = parser.parse_args()
 
     from _chromium import chromium
@@ -248,7 +262,7 @@ def main() -> None:
         state.mkdir()
         old = unpack(args.baseline, Path(tmp) / "baseline")
         for name, source in (("current.ipynb", None), ("baseline.ipynb", old)):
-            nb = notebook(args.docs, args.topics, source)
+            nb = notebook(args.docs, args.topics, source, cold=args.cold and source is None)
             (root / name).write_text(json.dumps(nb), encoding="utf-8")
         with jupyter_lab(root, state) as base, chromium() as browser:
             sides = {}
@@ -269,7 +283,13 @@ def main() -> None:
     print(
         f"model: {args.docs:,} documents x {args.topics} topics (synthetic, as bench/view_speed.py); "
         f"baseline: the views of commit {args.baseline}, same JupyterLab, browser and checks, "
-        "clicks alternating"
+        "clicks alternating; this tree "
+        + (
+            "cold: each click computes its topic (--cold)"
+            if args.cold
+            else "warm: its view prepared every topic while the kernel idled (the clicks come "
+            "after the baseline's view is drawn, seconds later; --cold to switch it off)"
+        )
     )
     for label, side in (("this tree", now), ("baseline ", old)):
         ms = side["ms"]
