@@ -17,6 +17,12 @@ The rows live in the synced trait ``_py_to_js_updates`` that altair's front end 
 (made for VegaFusion); the bundle also applies them whenever the chart is drawn anew, so a
 re-shown cell, or a chart first drawn after the change, shows them too.
 
+Two more edits serve a topic switch in the browser. Every chart of a page draws with one shared
+vega-embed (the first copy of the bundle that loaded, found under ``globalThis`` by the bundle's
+fingerprint): anywidget loads each chart's module anew, and one copy means one library for the
+browser to compile and warm. With ``debounce_wait=0`` a click is sent to Python in the same task;
+altair's debounce would wait for a timer that the browser runs only after painting a frame.
+
 Altair itself is imported only when the first chart widget is made.
 """
 
