@@ -11,6 +11,13 @@ any version of the view), plus two animation frames (the browser has painted). T
 ``TopicView`` is timed inside the kernel (built and handed to ``display``) and in the page
 (until its charts are drawn).
 
+This tree's view prepares every topic while the kernel idles (``TopicView.prepare``); the clicks
+come after both views are drawn, so they meet prepared topics, as a reader who looks at the view
+for a few seconds does. ``--cold`` switches that off: each click then computes its topic. Per
+click the script also reads, in the page, the renderer main thread's CPU time, script and
+layout time (Chromium's performance counters, diffed around the click), how many widget messages
+arrived and when the last one and the kernel's idle did; it prints their medians per side.
+
 Baseline: the same notebook, clicks and checks on the views of git commit ``--baseline``
 (default: the last commit before the switch updated charts in place), unpacked with
 ``git archive`` and imported in a second kernel of the same JupyterLab and browser. Both sides
@@ -42,6 +49,29 @@ sys.path.insert(0, str(HERE))
 BASELINE = "cfdf414"
 MARKS = ".tmc-sources path[aria-label*='name: ']"
 
+# Runs in every page before its scripts: notes each kernel message the page receives (time,
+# kind), so a click's breakdown can say how many came and when the kernel went idle.
+HOOK = r"""
+(() => {
+  const Socket = window.WebSocket, text = new TextDecoder();
+  window.__tmcMessages = [];
+  window.WebSocket = class extends Socket {
+    constructor(...args) {
+      super(...args);
+      this.addEventListener('message', (event) => {
+        const t = performance.now();
+        const raw = typeof event.data === 'string' ? event.data : text.decode(event.data);
+        const kind = (raw.match(/"msg_type":\s*"([^"]+)"/) || [])[1];
+        const state = (raw.match(/"execution_state":\s*"([^"]+)"/) || [])[1];
+        window.__tmcMessages.push([t, kind === 'status' ? state : kind]);
+      });
+    }
+  };
+})();
+"""
+#: Renderer main-thread counters (CDP Performance.getMetrics, seconds) diffed around a click.
+METRICS = ("ThreadTime", "ScriptDuration", "LayoutDuration", "RecalcStyleDuration")
+
 # Runs in the page before the click: what the wording chart and the documents show now, and
 # the time of the next mouse press (capture phase).
 ARM = """
@@ -51,6 +81,7 @@ ARM = """
       .map(e => e.getAttribute('aria-label') || e.innerText).join('|');
   window.__tmcBefore = {wording: texts('.tmc-wording [aria-label]'), docs: texts('.tmc-doc')};
   window.__tmcClick = null;
+  window.__tmcMessages.length = 0;
   document.addEventListener('mousedown', () => { window.__tmcClick = performance.now(); },
                             {capture: true, once: true});
 }
@@ -86,19 +117,26 @@ async ([wanted]) => {
     check();
   });
   await new Promise(r => requestAnimationFrame(() => requestAnimationFrame(r)));
-  return performance.now() - window.__tmcClick;
+  const done = performance.now(), click = window.__tmcClick;
+  const comms = window.__tmcMessages.filter(([t, kind]) => kind === 'comm_msg');
+  const idle = window.__tmcMessages.filter(([t, kind]) => kind === 'idle').map(([t]) => t - click);
+  return {ms: done - click, comms: comms.length,
+          last_comm: comms.length ? comms[comms.length - 1][0] - click : null,
+          idle: idle.length ? idle[0] : null};
 }
 """
 
 
-def notebook(docs: int, topics: int, source: Path | None) -> dict:
-    """The bench notebook; ``source``: a folder whose ``tm_compare`` is imported instead."""
+def notebook(docs: int, topics: int, source: Path | None, cold: bool = False) -> dict:
+    """The bench notebook; ``source``: a folder whose ``tm_compare`` is imported instead;
+    ``cold``: the view prepares no topic ahead (it is off in the baseline's views anyway)."""
     path = "" if source is None else f"sys.path.insert(0, {str(source)!r})\n"
+    cold_line = "TopicView._prepare_others = lambda self: None\n" if cold else ""
     code = f"""import sys, time
 {path}sys.path.insert(0, {str(HERE)!r})
 from view_speed import synthetic
 from tm_compare.views import TopicView
-fit, prepared = synthetic({docs}, {topics}, 5000)
+{cold_line}fit, prepared = synthetic({docs}, {topics}, 5000)
 print(f"START_WALL={{time.time():.3f}}")
 start = time.perf_counter()
 view = TopicView(fit, prepared, n_boot=1000, poll_seconds=None)
@@ -135,6 +173,7 @@ def open_view(page, base: str, name: str) -> dict:
     """Open notebook ``name`` and run it; its view and the first-view timings."""
     from test_browser import KERNEL_IDLE, TOKEN, run_all_cells
 
+    page.add_init_script(HOOK)
     page.goto(f"{base}/lab/tree/{name}?reset&token={TOKEN}")
     page.get_by_text(KERNEL_IDLE).first.wait_for(timeout=180_000)
     run_all_cells(page, timeout_s=900)
@@ -146,11 +185,27 @@ def open_view(page, base: str, name: str) -> dict:
     out = "\n".join(page.locator(".jp-OutputArea-output").all_inner_texts())
     start = float(re.search(r"START_WALL=([\d.]+)", out).group(1))
     first = float(re.search(r"FIRST_VIEW_SECONDS=([\d.]+)", out).group(1))
-    return {"page": page, "view": view, "first": first, "drawn": drawn - start, "times": []}
+    cdp = page.context.new_cdp_session(page)
+    cdp.send("Performance.enable")
+    return {
+        "page": page,
+        "view": view,
+        "cdp": cdp,
+        "first": first,
+        "drawn": drawn - start,
+        "times": [],
+        "parts": [],
+    }
+
+
+def _metrics(cdp) -> dict:
+    return {m["name"]: m["value"] for m in cdp.send("Performance.getMetrics")["metrics"]}
 
 
 def click_new_topic(side: dict) -> None:
-    """Click a topic this side has not shown yet; add (topic, ms to every panel repainted)."""
+    """Click a topic this side has not shown yet; add (topic, ms to every panel repainted) and
+    the click's breakdown: the page's main-thread time (CPU, scripts, layout and style), kernel
+    messages received and when the last one and the kernel's idle arrived."""
     page, view, times = side["page"], side["view"], side["times"]
     shown = view.locator(".tmc-selected").inner_text()
     selected = int(re.search(r"Reading topic (\d+)", shown).group(1))
@@ -160,8 +215,29 @@ def click_new_topic(side: dict) -> None:
     index = next(i for i, t in enumerate(topics) if t != selected and t not in seen)
     page.bring_to_front()
     page.evaluate(ARM)
+    before = _metrics(side["cdp"])
     view.locator(MARKS).nth(index).click(force=True)
-    times.append((topics[index], page.evaluate(WAIT, [topics[index]])))
+    seen = page.evaluate(WAIT, [topics[index]])
+    after = _metrics(side["cdp"])
+    times.append((topics[index], seen.pop("ms")))
+    seen.update({m: (after[m] - before[m]) * 1000 for m in METRICS})
+    side["parts"].append(seen)
+
+
+def breakdown(parts: list[dict]) -> str:
+    """Medians over the clicks of the page's side of a switch."""
+
+    def med(key):
+        values = [p[key] for p in parts if p[key] is not None]
+        return statistics.median(values) if values else float("nan")
+
+    return (
+        f"in the page (medians): main thread busy {med('ThreadTime'):.0f} ms of CPU (scripts "
+        f"{med('ScriptDuration'):.0f}, layout and style "
+        f"{med('LayoutDuration') + med('RecalcStyleDuration'):.0f}); {med('comms'):.0f} widget "
+        f"messages received, the last {med('last_comm'):.0f} ms after the click; kernel idle "
+        f"seen at {med('idle'):.0f} ms"
+    )
 
 
 def main() -> None:
@@ -170,6 +246,11 @@ def main() -> None:
     parser.add_argument("--topics", type=int, default=50)
     parser.add_argument("--clicks", type=int, default=10)
     parser.add_argument("--baseline", default=BASELINE, help="git commit of the baseline views")
+    parser.add_argument(
+        "--cold",
+        action="store_true",
+        help="this tree's view prepares no topic while the kernel idles (each click computes)",
+    )
     args = parser.parse_args()
 
     from _chromium import chromium
@@ -181,7 +262,7 @@ def main() -> None:
         state.mkdir()
         old = unpack(args.baseline, Path(tmp) / "baseline")
         for name, source in (("current.ipynb", None), ("baseline.ipynb", old)):
-            nb = notebook(args.docs, args.topics, source)
+            nb = notebook(args.docs, args.topics, source, cold=args.cold and source is None)
             (root / name).write_text(json.dumps(nb), encoding="utf-8")
         with jupyter_lab(root, state) as base, chromium() as browser:
             sides = {}
@@ -202,7 +283,13 @@ def main() -> None:
     print(
         f"model: {args.docs:,} documents x {args.topics} topics (synthetic, as bench/view_speed.py); "
         f"baseline: the views of commit {args.baseline}, same JupyterLab, browser and checks, "
-        "clicks alternating"
+        "clicks alternating; this tree "
+        + (
+            "cold: each click computes its topic (--cold)"
+            if args.cold
+            else "warm: its view prepared every topic while the kernel idled (the clicks come "
+            "after the baseline's view is drawn, seconds later; --cold to switch it off)"
+        )
     )
     for label, side in (("this tree", now), ("baseline ", old)):
         ms = side["ms"]
@@ -212,6 +299,7 @@ def main() -> None:
             f"repainted: median {statistics.median(ms):.0f} ms, min {min(ms):.0f} ms, "
             f"max {max(ms):.0f} ms over {len(ms)} clicks on new topics"
         )
+        print(f"  {breakdown(side['parts'])}")
     print(
         f"ratio (baseline / this tree): switch median "
         f"{statistics.median(old['ms']) / statistics.median(now['ms']):.1f}x, first view "

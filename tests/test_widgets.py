@@ -9,6 +9,7 @@ numbers are compared with :mod:`tm_compare.comparison`, :mod:`tm_compare.terms` 
 
 from __future__ import annotations
 
+import asyncio
 import html
 import re
 import time
@@ -125,6 +126,35 @@ def test_one_topic_trait_moves_every_panel(view, planted):
     rows = view.terms_panel.wording_chart.rows  # the rows drawn now (swapped in place)
     assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
     assert "Current labels of topic 2" in view.labels_panel.labels.value
+
+
+def test_topics_prepared_while_the_kernel_idles_show_the_plain_functions(planted):
+    fit, prepared = planted
+
+    async def open_and_idle():
+        # A running event loop, as in a kernel: the view prepares the other topics ahead.
+        v = TopicView(fit, prepared, n_boot=50, n_docs=3, poll_seconds=None)
+        while v._preparing:
+            await asyncio.sleep(0.02)
+        return v
+
+    view = asyncio.run(open_and_idle())
+    assert set(view.documents_panel._cards) == {(view.results, t) for t in range(K)}
+    assert set(view.terms_panel._prepared) == set(range(K))
+    view.topic = 2  # served from what was prepared
+    expected = documents.representative_documents(fit, prepared, 2, n_docs=3)
+    for source, box in view.documents_panel.columns.items():
+        for title in expected[expected["source"] == source]["title"]:
+            assert html.escape(title) in box.value
+    wording = terms.source_wording(fit, prepared, 2, against="each", n_terms=8)
+    first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
+    rows = view.terms_panel.wording_chart.rows
+    assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
+    method, n_terms = view.terms_panel.method.value, view.results.settings["n_terms"]
+    ranked = terms.term_rankings(fit, prepared, method, n_terms=n_terms)
+    for term in ranked[ranked["topic"] == 2]["term"]:
+        assert f'<td class="tmc-term">{html.escape(term)}</td>' in view.terms_panel.term_list.value
+    view.close()
 
 
 def test_clicks_anywhere_select_the_topic(view):

@@ -20,7 +20,8 @@ class DocumentsPanel(w.HBox):
         self._cards: dict[tuple, dict[str, str]] = {}
         super().__init__(list(self.columns.values()), layout=w.Layout(width="100%"))
 
-    def show_topic(self, topic: int) -> None:
+    def prepare(self, topic: int) -> dict[str, str]:
+        """The cards of ``topic`` per source, built once (kept for :meth:`show_topic`)."""
         key = (self.results, topic)
         if key not in self._cards:
             docs = self.results.documents(topic).rename(columns={"topic_share": "share"})
@@ -31,5 +32,9 @@ class DocumentsPanel(w.HBox):
             self._cards[key] = {
                 s: document_cards(rows, words, heading=s) for s, rows in by_source.items()
             }
+        return self._cards[key]
+
+    def show_topic(self, topic: int) -> None:
+        cards = self.prepare(topic)
         for source, box in self.columns.items():
-            box.value = self._cards[key][source]
+            box.value = cards[source]

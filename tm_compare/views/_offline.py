@@ -17,6 +17,12 @@ The rows live in the synced trait ``_py_to_js_updates`` that altair's front end 
 (made for VegaFusion); the bundle also applies them whenever the chart is drawn anew, so a
 re-shown cell, or a chart first drawn after the change, shows them too.
 
+Two more edits serve a topic switch in the browser. Every chart of a page draws with one shared
+vega-embed (the first copy of the bundle that loaded, found under ``globalThis`` by the bundle's
+fingerprint): anywidget loads each chart's module anew, and one copy means one library for the
+browser to compile and warm. With ``debounce_wait=0`` a click is sent to Python in the same task;
+altair's debounce would wait for a timer that the browser runs only after painting a frame.
+
 Altair itself is imported only when the first chart widget is made.
 """
 
@@ -58,10 +64,24 @@ async function applyHeldRows(model, api) {
 """
 _REEMBED_END = "\n    }\n\n    model.on('change:spec', reembed);"
 _PARAM_HANDLER = "const paramHandler = (_, value) => {"
+_EMBED = "api = await vegaEmbed(el, spec, embedOptions);"
+_DEBOUNCED = "lodashDebounce({handler}, wait, debounceOpts)"
+#: Stands for the bundle's fingerprint in the source; replaced in the built bundle.
+_BUNDLE_KEY = "__tm_compare_bundle_key__"
+_SHARED_EMBED = """
+function sharedEmbed() {
+    // tm_compare: every chart of the page draws with the vega-embed of the first copy of this
+    // bundle that loaded (see _offline.py), so the browser compiles and warms one copy.
+    const shared = (globalThis.__tm_compare_vega_embed ??= {});
+    return (shared["KEY"] ??= vegaEmbed);
+}
+""".replace("KEY", _BUNDLE_KEY)
 #: Our additions to altair's front end (index.js), each at a place that must occur once:
 #: rows Python replaced are applied after every drawing, once its listeners are in place; a
 #: parameter the front end only echoes (Python just set it to that value) is not sent back, which
-#: saves two messages per chart and topic switch.
+#: saves two messages per chart and topic switch; every chart draws with one shared vega-embed;
+#: with no wait asked for (``debounce_wait=0``) a click is sent in the same task, not after a
+#: timer that the browser runs only after painting the next frame.
 _EDITS = (
     (_REEMBED_END, "\n        await applyHeldRows(model, api);" + _REEMBED_END),
     (
@@ -69,6 +89,14 @@ _EDITS = (
         _PARAM_HANDLER
         + "\n                if (JSON.stringify((model.get('_params') ?? {})[paramName]) === "
         + "JSON.stringify(value)) return;",
+    ),
+    (_EMBED, _EMBED.replace("vegaEmbed(", "sharedEmbed()(")),
+    *(
+        (
+            _DEBOUNCED.format(handler=handler),
+            f"(wait > 0 ? {_DEBOUNCED.format(handler=handler)} : {handler})",
+        )
+        for handler in ("selectionHandler", "paramHandler")
     ),
 )
 
@@ -94,7 +122,7 @@ def _widget_source() -> str:
             )
             raise MissingDependencyError(msg)
         src = src.replace(anchor, replacement)
-    return src + _APPLY_ROWS
+    return src + _APPLY_ROWS + _SHARED_EMBED
 
 
 def bundle_path() -> Path:
@@ -107,7 +135,8 @@ def bundle_path() -> Path:
     key = fingerprint(source, vl_version, metadata.version("vl-convert-python"))
     path = cache_dir() / f"altair-widget-{vl_version}-{key}.js"
     if not path.exists():
-        atomic_write_text(path, vlc.javascript_bundle(source, vl_version=vl_version))
+        bundle = vlc.javascript_bundle(source, vl_version=vl_version)
+        atomic_write_text(path, bundle.replace(_BUNDLE_KEY, key))
     return path
 
 

@@ -69,6 +69,9 @@ class TermsPanel(w.VBox):
         self.pair = tuple(results.sources[:2])
         self._topic = int(topic)
         self._syncing = False
+        # topic -> (term list HTML, wording rows) under the settings of ``_prepared_for``
+        self._prepared: dict[int, tuple[str, list[dict]]] = {}
+        self._prepared_for: tuple = ()
         self.method = w.Dropdown(
             options=[(METHOD_NAMES[m], m) for m in choices("method")],
             value=method,
@@ -186,22 +189,35 @@ class TermsPanel(w.VBox):
 
     # --- the topic ---------------------------------------------------------------------------
 
+    def prepare(self, topic: int) -> tuple[str, list[dict]]:
+        """The term list (HTML) and wording rows of ``topic`` under the settings on show, made
+        once per topic and settings (kept for :meth:`show_topic`)."""
+        settings = (self.results, self.pair, self.method.value, self.weight.value)
+        if settings != self._prepared_for:
+            self._prepared, self._prepared_for = {}, settings
+        if topic not in self._prepared:
+            rows = charts.wording_rows(self._wording_frame(topic), self.pair).to_dict("records")
+            self._prepared[topic] = (self._list_html(topic), rows)
+        return self._prepared[topic]
+
     def show_topic(self, topic: int) -> None:
         self._topic = int(topic)
         self.map_chart.hold_param(charts.FOCUS, self._topic)
-        self._show_list()
+        html, rows = self.prepare(self._topic)
+        self.term_list.value = html
         if self.pair != self._wording_pair:  # other sources: other colours and axis title
             self._wording_pair = self.pair
             self.wording_chart.chart = self._wording_chart(self._topic)
         else:
             # Same design, new rows: the browser redraws the bars without rebuilding the chart.
-            frame = charts.wording_rows(self._wording_frame(self._topic), self.pair)
-            self.wording_chart.show_rows(frame.to_dict("records"))
+            self.wording_chart.show_rows(rows)
 
-    def ranked_terms(self) -> pd.DataFrame:
-        """The selected topic's ranked terms, as the list beside the map shows them."""
+    def ranked_terms(self, topic: int | None = None) -> pd.DataFrame:
+        """The ranked terms of ``topic`` (default: the selected one), as the list beside the map
+        shows them."""
+        topic = self._topic if topic is None else topic
         table = self._terms()
-        table = table[table["topic"] == self._topic]
+        table = table[table["topic"] == topic]
         return table[
             [
                 "topic",
@@ -216,16 +232,19 @@ class TermsPanel(w.VBox):
         ].reset_index(drop=True)
 
     def _show_list(self) -> None:
+        self.term_list.value = self.prepare(self._topic)[0]
+
+    def _list_html(self, topic: int) -> str:
         rows = "".join(
             f'<tr><td style="text-align:right;color:#6b7078;padding-right:6px">{r.rank}</td>'
             f'<td class="tmc-term">{esc(r.term)}</td>'
             f'<td style="text-align:right;padding-left:8px">{r.probability:.1%}</td>'
             f'<td style="text-align:right;padding-left:8px">{r.share_of_term:.0%}</td></tr>'
-            for r in self.ranked_terms().itertuples(index=False)
+            for r in self.ranked_terms(topic).itertuples(index=False)
         )
-        self.term_list.value = (
+        return (
             f'<div style="font-size:12px"><div style="font-weight:600;margin-bottom:2px">'
-            f"Topic {self._topic}, ranked {esc(METHOD_NAMES[self.method.value])}</div>"
+            f"Topic {topic}, ranked {esc(METHOD_NAMES[self.method.value])}</div>"
             '<table style="border-collapse:collapse"><tr style="color:#6b7078">'
             '<th></th><th style="text-align:left">term</th>'
             '<th style="padding-left:8px">of topic</th>'

@@ -227,46 +227,44 @@ def source_chart(
     )
 
     def band(y_channel, panel_width):
-        # The topic in focus: a pale band across the panel, behind the marks.
+        # The topic in focus: a pale band across the panel, behind the marks. Every topic has
+        # its band, seen (and named to screen readers) only while in focus: a new focus then
+        # changes two bands in place instead of adding and removing marks, which costs the
+        # browser a repaint of the whole chart.
+        in_focus = f"datum.topic == {FOCUS}"
         return (
             alt.Chart(bands)
-            .transform_filter(f"datum.topic == {FOCUS}")
-            .mark_rect(color=BAND)
+            .mark_rect(color=BAND, aria=alt.expr(in_focus))
             .encode(
                 y=y_channel,
                 x=alt.value(0),
                 x2=alt.value(panel_width),
+                opacity=alt.condition(in_focus, alt.value(1), alt.value(0)),
                 description="band:N",
             )
         )
 
     base = alt.Chart(prevalence)
-    left = (
-        alt.layer(
-            band(y, left_w),
-            base.mark_rule(strokeWidth=2).encode(
-                x=alt.X(
-                    "lower:Q",
-                    title="share of the source (interval)",
-                    axis=alt.Axis(format=".0%", tickCount=max(2, left_w // 70)),
-                ),
-                x2="upper:Q",
-                y=y,
-                yOffset=offset,
-                color=colour,
+    left = alt.layer(
+        band(y, left_w),
+        base.mark_rule(strokeWidth=2).encode(
+            x=alt.X(
+                "lower:Q",
+                title="share of the source (interval)",
+                axis=alt.Axis(format=".0%", tickCount=max(2, left_w // 70)),
             ),
-            base.mark_point(filled=True, size=45, cursor="pointer").encode(
-                x="estimate:Q", y=y, yOffset=offset, color=colour, tooltip=tip
-            ),
-        )
-        .add_params(pick)
-        .properties(
-            width=left_w,
-            height=height,
-            title=alt.Title(
-                wrap("How much each source carries each topic", left_w), anchor="start"
-            ),
-        )
+            x2="upper:Q",
+            y=y,
+            yOffset=offset,
+            color=colour,
+        ),
+        base.mark_point(filled=True, size=45, cursor="pointer")
+        .encode(x="estimate:Q", y=y, yOffset=offset, color=colour, tooltip=tip)
+        .add_params(pick),
+    ).properties(
+        width=left_w,
+        height=height,
+        title=alt.Title(wrap("How much each source carries each topic", left_w), anchor="start"),
     )
     diff = difference.assign(
         verdict=[verdict_word(v) for v in difference["clear"]],
@@ -296,36 +294,32 @@ def source_chart(
             .encode(x="estimate:Q", y=y_bare, tooltip=diff_tip)
         )
 
-    right = (
-        alt.layer(
-            band(y_bare, right_w),
-            alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
-            diff_base.mark_rule(strokeWidth=2, color=INK).encode(
-                x=alt.X(
-                    "lower:Q",
-                    title=wrap(contrast, right_w),
-                    axis=alt.Axis(
-                        format="+.0%", tickCount=max(2, right_w // 80), labelOverlap="greedy"
-                    ),
+    right = alt.layer(
+        band(y_bare, right_w),
+        alt.Chart(pd.DataFrame({"zero": [0.0]})).mark_rule(color=FAINT).encode(x="zero:Q"),
+        diff_base.mark_rule(strokeWidth=2, color=INK).encode(
+            x=alt.X(
+                "lower:Q",
+                title=wrap(contrast, right_w),
+                axis=alt.Axis(
+                    format="+.0%", tickCount=max(2, right_w // 80), labelOverlap="greedy"
                 ),
-                x2="upper:Q",
-                y=y_bare,
             ),
-            diamonds(True),
-            diamonds(False),
-        )
-        .add_params(pick)
-        .properties(
-            width=right_w,
-            height=height,
-            title=alt.Title(
-                wrap(
-                    f"Difference (filled: {VERDICT_WORDS[True]}; hollow: {VERDICT_WORDS[False]})",
-                    right_w,
-                ),
-                anchor="start",
+            x2="upper:Q",
+            y=y_bare,
+        ),
+        diamonds(True).add_params(pick),
+        diamonds(False),
+    ).properties(
+        width=right_w,
+        height=height,
+        title=alt.Title(
+            wrap(
+                f"Difference (filled: {VERDICT_WORDS[True]}; hollow: {VERDICT_WORDS[False]})",
+                right_w,
             ),
-        )
+            anchor="start",
+        ),
     )
     with warnings.catch_warnings():
         # One click selection shared by both panels is what we want; Altair merges it and warns.

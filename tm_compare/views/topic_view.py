@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import asyncio
 from pathlib import Path
 
 import ipywidgets as w
@@ -15,6 +16,9 @@ from ._downloads import file_stem
 
 #: Where downloads go when the view knows no project: this folder under the working directory.
 DOWNLOADS_FOLDER = "tm_compare_downloads"
+#: Seconds the kernel waits after a change before it prepares other topics (the browser paints
+#: the change first).
+PREPARE_AFTER = 0.25
 
 
 def _section(title: str, hint: str) -> w.HTML:
@@ -67,7 +71,11 @@ class TopicView(w.VBox):
     Adding a panel
     --------------
     A panel is any widget with a ``show_topic(topic: int)`` method; :meth:`add_panel` puts it
-    under a heading and draws the selected topic in it at once and after every change.
+    under a heading and draws the selected topic in it at once and after every change. A panel
+    may also have ``prepare(topic: int)``, which computes what ``show_topic`` will need and
+    shows nothing: in a running kernel the view calls it for every other topic, one topic per
+    turn of the kernel's event loop while it has nothing else to do, so that a later switch only
+    sends what is ready (a click waits for at most one topic's preparation).
     """
 
     topic = traitlets.Int(0, help="The selected topic, shared by every panel.")
@@ -105,6 +113,8 @@ class TopicView(w.VBox):
         if topic is not None:
             self._check(topic)
         self.panels: list = []
+        self._to_prepare: list[int] = []
+        self._preparing = False
         folder = downloads.folder("report") if hasattr(downloads, "folder") else downloads
         self.downloads_folder = w.Text(
             value=str(folder or _project_downloads(labels) or Path.cwd() / DOWNLOADS_FOLDER),
@@ -191,6 +201,8 @@ class TopicView(w.VBox):
         if first == self.topic:
             self._update_panels(first)
         self.topic = first
+        for control in (self.terms_panel.method, self.terms_panel.weight):
+            control.observe(lambda _change: self._prepare_others(), names="value")
 
     # --- panels ------------------------------------------------------------------------------
 
@@ -219,13 +231,46 @@ class TopicView(w.VBox):
         self._update_panels(change["new"])
 
     def _update_panels(self, topic: int) -> None:
+        from ._burst import one_burst
+
         self._shown = topic
         self.reading_title.value = (
             f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
             f"Reading topic <b>{esc(self.results.captions[topic])}</b>{self._badge(topic)}</div>"
         )
         for panel in self.panels:
-            panel.show_topic(topic)
+            # A panel's changes reach the browser together, once it has made them all.
+            with one_burst(panel):
+                panel.show_topic(topic)
+        self._prepare_others()
+
+    # --- topics prepared ahead -----------------------------------------------------------------
+
+    def _prepare_others(self) -> None:
+        """Queue every topic for the panels' ``prepare``, to run while the kernel is idle."""
+        self._to_prepare = [t for t in range(self.results.k) if t != self.topic]
+        if self._preparing:
+            return
+        try:
+            loop = asyncio.get_running_loop()
+        except RuntimeError:  # no kernel event loop (a script, a test): prepare nothing ahead
+            return
+        self._preparing = True
+        loop.call_later(PREPARE_AFTER, self._prepare_next, loop)
+
+    def _prepare_next(self, loop) -> None:
+        if not self._to_prepare or getattr(self, "_closed", False):
+            self._preparing = False
+            return
+        topic = self._to_prepare.pop(0)
+        try:
+            for panel in self.panels:
+                if hasattr(panel, "prepare"):
+                    panel.prepare(topic)
+        except Exception:  # noqa: BLE001  (shown, with its message, when the topic is picked)
+            self._preparing, self._to_prepare = False, []
+            return
+        loop.call_soon(self._prepare_next, loop)
 
     def _badge(self, topic: int) -> str:
         from ..models.quality import topic_badge
@@ -275,8 +320,10 @@ class TopicView(w.VBox):
         self.terms_panel.results = self.sources_panel.results
         self.terms_panel.pair = self.sources_panel.pair
         self.terms_panel.show_topic(self.topic)
+        self._prepare_others()
 
     def close(self):
+        self._closed = True
         if getattr(self, "labels_panel", None) is not None:
             self.labels_panel.close()
         super().close()
