@@ -197,21 +197,27 @@ class ModelResults:
 
     # --- comparison between sources -----------------------------------------------------------
 
+    def _replicates(self) -> comparison.Replicates:
+        # prevalence() and differences() draw the same replicates from the same seed: once here.
+        key = ("replicates", *(self.settings[s] for s in _BOOT))
+        return self._cached(
+            key, lambda: comparison.replicates(self.fit, self.prepared, **self._boot())
+        )
+
     def prevalence(self) -> pd.DataFrame:
         """Prevalence of every topic in every source, with bootstrap intervals
         (:func:`tm_compare.compare.prevalence.prevalence`)."""
-        return self._table(
-            "prevalence", lambda: comparison.prevalence(self.fit, self.prepared, **self._boot())
-        )
+        return self._table("prevalence", lambda: comparison.prevalence_table(self._replicates()))
 
     def differences(self) -> pd.DataFrame:
         """Differences in prevalence between sources, with intervals and adjusted p-values
-        (:func:`tm_compare.compare.prevalence.differences`)."""
+        (:func:`tm_compare.compare.prevalence.differences`); the bootstrap replicates are
+        those of :meth:`prevalence`, drawn once."""
         s = self.settings
         return self._table(
             "differences",
-            lambda: comparison.differences(
-                self.fit, self.prepared, against=s["against"], fdr=s["fdr"], **self._boot()
+            lambda: comparison.differences_table(
+                self._replicates(), against=s["against"], fdr=s["fdr"]
             ),
         )
 

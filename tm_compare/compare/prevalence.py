@@ -299,11 +299,42 @@ def _prevalence_stat(num: np.ndarray, den: np.ndarray) -> np.ndarray:
     return out.reshape(*out.shape[:-2], -1)
 
 
-def _run(owner, fit, prepared, weighting, cluster, sources, settings: dict):
+@dataclass(frozen=True)
+class Replicates:
+    """One bootstrap drawn: its checked settings, design, resampling units and replicates.
+
+    :func:`prevalence` and :func:`differences` given the same settings draw the same
+    replicates (the seed is the same); :func:`replicates` draws them once, and
+    :func:`prevalence_table` and :func:`differences_table` read them, with the same numbers.
+    """
+
+    boot: Bootstrap
+    design: _Design
+    units: bs.Units
+    reps: tuple
+
+
+def _run(owner, fit, prepared, weighting, cluster, sources, settings: dict) -> Replicates:
     """The checked settings, the design and the bootstrap replicates of ``owner``."""
     boot = Bootstrap.of(owner, settings)
     design = _design(fit, prepared, owner, weighting, cluster, sources, boot.cap_group_share)
-    return (boot, design, *_replicates(design, boot, owner))
+    return Replicates(boot, design, *_replicates(design, boot, owner))
+
+
+@_bootstrap_keywords
+def replicates(
+    fit,
+    prepared,
+    *,
+    weighting: str = default("weighting"),
+    cluster: str | None = default("cluster"),
+    sources=None,
+    **bootstrap,
+) -> Replicates:
+    """The bootstrap of :func:`prevalence` and :func:`differences`, drawn once for both (same
+    parameters and errors as :func:`prevalence`); read it with :func:`prevalence_table` and
+    :func:`differences_table`."""
+    return _run("prevalence", fit, prepared, weighting, cluster, sources, bootstrap)
 
 
 def _replicates(design, boot: Bootstrap, owner):
@@ -400,9 +431,14 @@ def prevalence(
     ``cluster``, ``interval``, ``ci_level``, ``n_boot``, ``resampling``,
     ``model_uncertainty``, ``cap_group_share``.
     """
-    boot, design, units, reps = _run(
-        "prevalence", fit, prepared, weighting, cluster, sources, bootstrap
+    return prevalence_table(
+        _run("prevalence", fit, prepared, weighting, cluster, sources, bootstrap)
     )
+
+
+def prevalence_table(run: Replicates) -> pd.DataFrame:
+    """The table of :func:`prevalence` from its drawn bootstrap (see :func:`replicates`)."""
+    boot, design, units, reps = run.boot, run.design, run.units, run.reps
     theta_hat, theta_b, lo, hi = _summary(
         units, reps, _prevalence_stat, boot.ci, boot.interval, bs.stratum_acceleration
     )
@@ -456,10 +492,23 @@ def differences(
     different), ``test``, then the settings as in :func:`prevalence` plus ``fdr``.
     """
     owner = "differences"
+    _check_comparison(owner, against, fdr)
+    run = _run(owner, fit, prepared, weighting, cluster, sources, bootstrap)
+    return differences_table(run, against=against, fdr=fdr)
+
+
+def _check_comparison(owner: str, against, fdr) -> None:
     check(owner, "against", against)
     if not (isinstance(fdr, float) and 0 < fdr < 1):
         raise param_error(owner, "fdr", fdr, "a number strictly between 0 and 1")
-    boot, design, units, reps = _run(owner, fit, prepared, weighting, cluster, sources, bootstrap)
+
+
+def differences_table(
+    run: Replicates, *, against: str = default("against"), fdr: float = default("fdr")
+) -> pd.DataFrame:
+    """The table of :func:`differences` from its drawn bootstrap (see :func:`replicates`)."""
+    _check_comparison("differences", against, fdr)
+    boot, design, units, reps = run.boot, run.design, run.units, run.reps
     names = design.sources
     if len(names) < 2:
         msg = (
