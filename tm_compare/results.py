@@ -26,8 +26,6 @@ from ._validation import check_limit, param_error
 from .compare import documents, over_time, terms
 from .compare import prevalence as comparison
 from .errors import ComparisonError, SettingsError
-from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
-from .labels.store import COLUMNS as LABEL_COLUMNS
 from .models.fits import check_pair
 from .options import check, choices, default
 
@@ -527,6 +525,10 @@ class ModelResults:
     def read_labels(self, store=None) -> dict[str, pd.DataFrame]:
         """Read the labels, consensus and agreement of this model from ``store`` (a LabelStore;
         None: no labels yet, empty tables). Each call reads the store again."""
+        # The store's module imports SQLAlchemy: only here, so a view opens without it.
+        from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
+        from .labels.store import COLUMNS as LABEL_COLUMNS
+
         if store is None:
             read = {
                 "labels": pd.DataFrame(columns=list(LABEL_COLUMNS)),

@@ -7,12 +7,22 @@ import time (measured: ~3 s of CPU of ~3.5 s under load, ~1.3 s of ~1.7 s quiet)
 schema uses neither format, so :func:`altair` imports jsonschema with that module held back and
 registers the two checks itself, each importing ``rfc3987_syntax`` on its first call: every
 jsonschema check then behaves as after a plain import, only later.
+
+A fresh kernel also pays, at its first view, for importing Altair and for loading the compiled
+bootstrap (numba's import and its on-disk cache: ~1.5 s quiet). :func:`warm_up` does both in a
+background thread as soon as a view class is imported (``from tm_compare.views import
+TopicView``), so that they are done while the notebook loads its model; the thread imports only
+Altair and numba's kernels, which the caller's thread waits for if it needs them first
+(:func:`altair` waits; a kernel's import or cache load waits on Python's and numba's own locks).
+The thread is not a daemon: a process that exits at once waits for it rather than stopping
+numba's compiler midway.
 """
 
 from __future__ import annotations
 
 import importlib.util
 import sys
+import threading
 
 _HELD = "rfc3987_syntax"
 #: The checks jsonschema registers from rfc3987_syntax: format name, rule and the drafts.
@@ -20,8 +30,51 @@ _IRI_CHECKS = {"iri": "iri", "iri-reference": "iri_reference"}
 _DRAFTS = ("Draft7Validator", "Draft201909Validator", "Draft202012Validator")
 
 
+#: What :func:`warm_up` loads, by name.
+_PARTS = ("altair", "bootstrap")
+_started: dict[str, threading.Thread] = {}
+_start_lock = threading.Lock()
+
+
+def warm_up(*parts: str) -> None:
+    """Load ``parts`` (``"altair"``, ``"bootstrap"``) in a background thread, each once per
+    process; a failure is left for the foreground to meet, with its own message."""
+    with _start_lock:
+        todo = [p for p in parts if p in _PARTS and p not in _started]
+        if not todo:
+            return
+        thread = threading.Thread(target=_load, args=(todo,), name="tm_compare warm-up")
+        for part in todo:
+            _started[part] = thread
+        thread.start()
+
+
+def wait(part: str) -> None:
+    """Return once the warm-up of ``part`` (if one started) has finished."""
+    thread = _started.get(part)
+    if thread is not None and thread is not threading.current_thread():
+        thread.join()
+
+
+def _load(parts: list[str]) -> None:
+    for part in parts:
+        try:
+            if part == "altair":
+                altair()
+            else:
+                import numpy as np
+
+                from ..compare._kernels import multinomial_counts
+
+                # the compiled kernel of the default (multinomial) bootstrap, from numba's cache
+                multinomial_counts(np.random.default_rng(0), 2, 1)
+        except Exception:  # noqa: BLE001, S112 - the foreground meets it again and says why
+            continue
+
+
 def altair():
     """The ``altair`` module, imported on the first call (see the module's docstring)."""
+    wait("altair")
     if "altair" not in sys.modules and _should_hold():
         _import_jsonschema_lazily()
     import altair as alt
