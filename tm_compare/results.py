@@ -108,10 +108,13 @@ class ModelResults:
     def __init__(self, fit, prepared, *, corpus=None, **settings):
         check_pair("ModelResults", fit, prepared)
         self.fit, self.prepared, self.corpus = fit, prepared, corpus
-        doc_sources = np.asarray(prepared.sources).astype(str)
-        self.sources = sorted(set(doc_sources))
-        self._source_rows = {s: np.flatnonzero(doc_sources == s) for s in self.sources}
-        self._grouped = bool(pd.notna(np.asarray(prepared.groups, dtype=object)).any())
+        # Codes of the source column itself: no array of strings is made (sources sorted).
+        codes, names = pd.factorize(
+            prepared.meta["source"].astype(str), sort=True, use_na_sentinel=False
+        )
+        self.sources = [str(name) for name in names]
+        self._source_rows = {s: np.flatnonzero(codes == i) for i, s in enumerate(self.sources)}
+        self._grouped = bool(prepared.meta["group"].notna().any())
         self._cache: dict = {}  # shared with every with_settings() copy
         self.settings = self._resolve({name: default(name) for name in SETTINGS} | settings)
 

@@ -605,18 +605,23 @@ def influence(
         raise param_error(owner, "threshold", threshold, "a number strictly between 0 and 1")
     if not (isinstance(n_groups, int | np.integer) and n_groups >= 1):
         raise param_error(owner, "n_groups", n_groups, "an integer >= 1")
+    values = _cluster_values(prepared, cluster, owner, accepted="'group'")
+    # Only documents without a cluster value need their id as a label.
+    labels = values.to_numpy(dtype=object, copy=True)
+    missing = values.isna().to_numpy()
+    if missing.any():
+        ids = np.asarray(prepared.doc_ids, dtype=object)[missing]
+        labels[missing] = [f"(document {i})" for i in ids]
     frame = pd.DataFrame(
         {
-            "source": np.asarray(prepared.sources).astype(str),
+            "source": prepared.meta["source"].astype(str).to_numpy(),
             "weight": np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0,
-            "id": np.asarray(prepared.doc_ids).astype(str),
+            "group": pd.Series(labels, dtype=object),
         }
     )
-    values = _cluster_values(prepared, cluster, owner, accepted="'group'")
-    frame["group"] = values.astype(object).where(values.notna(), "(document " + frame["id"] + ")")
     table = (
         frame.groupby(["source", "group"], sort=False)
-        .agg(n_documents=("id", "size"), weight=("weight", "sum"))
+        .agg(n_documents=("weight", "size"), weight=("weight", "sum"))
         .reset_index()
     )
     table["share"] = table["weight"] / table.groupby("source")["weight"].transform("sum")

@@ -3,17 +3,18 @@
 Altair imports jsonschema, and jsonschema, on import, imports ``rfc3987_syntax`` when it is
 installed (as Jupyter's ``jsonschema[format-nongpl]`` installs it), which builds some forty
 grammar parsers only to check the ``iri`` and ``iri-reference`` string formats: most of Altair's
-import time (measured: ~3 s of CPU of ~3.5 s under load, ~1.3 s of ~1.7 s quiet). Vega-Lite's
+import time (measured on 2 shared cores: 2.9-3.8 s of CPU with it, 0.4-0.5 s without). Vega-Lite's
 schema uses neither format, so :func:`altair` imports jsonschema with that module held back and
 registers the two checks itself, each importing ``rfc3987_syntax`` on its first call: every
 jsonschema check then behaves as after a plain import, only later.
 
 A fresh kernel also pays, at its first view, for importing Altair and for loading the compiled
-bootstrap (numba's import and its on-disk cache: ~1.5 s quiet). :func:`warm_up` does both in a
+bootstrap (numba's import and its on-disk cache, about a second). :func:`warm_up` does both in a
 background thread as soon as a view class is imported (``from tm_compare.views import
 TopicView``), so that they are done while the notebook loads its model; the thread imports only
-Altair and numba's kernels, which the caller's thread waits for if it needs them first
-(:func:`altair` waits; a kernel's import or cache load waits on Python's and numba's own locks).
+Altair (and draws a one-point chart), the tables' modules and numba's kernels, which the
+caller's thread waits for if it needs them first (:func:`altair` waits; a kernel's import or
+cache load waits on Python's and numba's own locks).
 The thread is not a daemon: a process that exits at once waits for it rather than stopping
 numba's compiler midway.
 """
@@ -60,10 +61,17 @@ def _load(parts: list[str]) -> None:
     for part in parts:
         try:
             if part == "altair":
-                altair()
+                import pandas as pd
+
+                alt = altair()
+                # A first small chart loads what Altair imports lazily (its pandas support)
+                # and builds its schema validator.
+                frame = pd.DataFrame({"x": [1.0], "y": ["a"]})
+                alt.Chart(frame).mark_point().encode(x="x:Q", y="y:N").to_dict()
             else:
                 import numpy as np
 
+                from .. import results  # noqa: F401 - the tables' modules
                 from ..compare._kernels import multinomial_counts
 
                 # the compiled kernel of the default (multinomial) bootstrap, from numba's cache
