@@ -3,7 +3,9 @@
 A notebook kernel has IPython, ipywidgets and pandas loaded before any cell imports tm_compare,
 so each run starts a fresh interpreter, imports those first (untimed), then times
 
-- ``from tm_compare.views import TopicView, SweepView`` (the views; Altair is not imported),
+- ``from tm_compare.views import TopicView, SweepView`` (the views; Altair is not imported by
+  this statement: a background thread starts loading it when it returns, so "altair loaded" may
+  read True for the views),
 - ``from tm_compare.views import TopicView`` alone, and
 - ``import altair`` (what the views cost before Altair was loaded on the first chart drawn),
 

@@ -511,17 +511,74 @@ def test_ipython_extension_registers_magic_and_summaries(planted):
         shell.run_line_magic("tm_compare", "")
 
 
-def test_importing_the_views_leaves_altair_unloaded():
-    # Altair loads when the first chart is drawn (bench/import_views.py times the difference).
+def test_importing_the_views_loads_altair_and_the_bootstrap_in_the_background():
+    # Importing a view class leaves Altair to a background thread (bench/import_views.py times
+    # the import); that thread also loads the compiled bootstrap kernel, and a bootstrap drawn
+    # afterwards reuses the very overload it loaded (numba's dispatcher keeps one per signature).
     import subprocess
     import sys
 
-    code = (
-        "import sys; from tm_compare.views import TopicView, SweepView; "
-        "print('altair' in sys.modules)"
-    )
+    code = """
+import builtins, sys, threading
+import numpy as np
+seen = []
+real = builtins.__import__
+def spy(name, *args, **kwargs):
+    if name == "altair" and "altair" not in sys.modules:
+        seen.append(threading.current_thread().name)
+    return real(name, *args, **kwargs)
+builtins.__import__ = spy
+from tm_compare.views import TopicView, SweepView
+imported_here = threading.main_thread().name in seen
+from tm_compare.views import _loading
+_loading.wait("altair")
+_loading.wait("bootstrap")
+from tm_compare.compare import _bootstrap, _kernels
+loaded = len(_kernels._pcg64_counts.overloads)
+_bootstrap.draw_counts(50, 10, np.random.default_rng(1), "multinomial")
+print(imported_here, seen, loaded, len(_kernels._pcg64_counts.overloads))
+"""
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
-    assert out.stdout.strip() == "False"
+    assert out.stdout.split() == ["False", "['tm_compare", "warm-up']", "1", "1"], out.stdout
+
+
+def test_altair_loaded_by_the_views_leaves_jsonschema_checks_as_a_plain_import_does():
+    # The views import jsonschema without building rfc3987_syntax's parsers and register its two
+    # IRI checks themselves (tm_compare/views/_loading.py). Reference: jsonschema imported the
+    # ordinary way in another process; every format checker (each draft's, and FormatChecker()'s
+    # defaults) names the same checks and accepts and rejects the same strings.
+    import subprocess
+    import sys
+
+    code = """
+import json, sys
+if sys.argv[1] == "views":
+    from tm_compare.views._loading import altair
+    altair()
+    assert "rfc3987_syntax" not in sys.modules
+import jsonschema
+from jsonschema import FormatChecker
+checkers = {"FormatChecker()": FormatChecker()}
+checkers |= {d: getattr(jsonschema, d).FORMAT_CHECKER for d in (
+    "Draft3Validator", "Draft4Validator", "Draft6Validator", "Draft7Validator",
+    "Draft201909Validator", "Draft202012Validator")}
+values = ["http://例え.jp/パス?q=1#f", "not an iri", "//host/path", "a b", "é:ok", "#frag", 3]
+out = {}
+for name, checker in checkers.items():
+    out[name] = {f: [v[0].__name__, str(v[1])] for f, v in sorted(checker.checkers.items())}
+    out[name + " verdicts"] = [
+        [checker.conforms(v, f) for v in values] for f in ("iri", "iri-reference", "uri")
+    ]
+print(json.dumps(out, sort_keys=True))
+"""
+    runs = {
+        how: subprocess.run(
+            [sys.executable, "-c", code, how], capture_output=True, text=True, check=True
+        ).stdout
+        for how in ("views", "plain")
+    }
+    assert runs["views"] == runs["plain"]
+    assert '"iri"' in runs["plain"] and "true" in runs["plain"] and "false" in runs["plain"]
 
 
 def test_added_panels_follow_the_one_selected_topic(view):

@@ -26,8 +26,6 @@ from ._validation import check_limit, param_error
 from .compare import documents, over_time, terms
 from .compare import prevalence as comparison
 from .errors import ComparisonError, SettingsError
-from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
-from .labels.store import COLUMNS as LABEL_COLUMNS
 from .models.fits import check_pair
 from .options import check, choices, default
 
@@ -110,10 +108,13 @@ class ModelResults:
     def __init__(self, fit, prepared, *, corpus=None, **settings):
         check_pair("ModelResults", fit, prepared)
         self.fit, self.prepared, self.corpus = fit, prepared, corpus
-        doc_sources = np.asarray(prepared.sources).astype(str)
-        self.sources = sorted(set(doc_sources))
-        self._source_rows = {s: np.flatnonzero(doc_sources == s) for s in self.sources}
-        self._grouped = bool(pd.notna(np.asarray(prepared.groups, dtype=object)).any())
+        # Codes of the source column itself: no array of strings is made (sources sorted).
+        codes, names = pd.factorize(
+            prepared.meta["source"].astype(str), sort=True, use_na_sentinel=False
+        )
+        self.sources = [str(name) for name in names]
+        self._source_rows = {s: np.flatnonzero(codes == i) for i, s in enumerate(self.sources)}
+        self._grouped = bool(prepared.meta["group"].notna().any())
         self._cache: dict = {}  # shared with every with_settings() copy
         self.settings = self._resolve({name: default(name) for name in SETTINGS} | settings)
 
@@ -197,21 +198,27 @@ class ModelResults:
 
     # --- comparison between sources -----------------------------------------------------------
 
+    def _replicates(self) -> comparison.Replicates:
+        # prevalence() and differences() draw the same replicates from the same seed: once here.
+        key = ("replicates", *(self.settings[s] for s in _BOOT))
+        return self._cached(
+            key, lambda: comparison.replicates(self.fit, self.prepared, **self._boot())
+        )
+
     def prevalence(self) -> pd.DataFrame:
         """Prevalence of every topic in every source, with bootstrap intervals
         (:func:`tm_compare.compare.prevalence.prevalence`)."""
-        return self._table(
-            "prevalence", lambda: comparison.prevalence(self.fit, self.prepared, **self._boot())
-        )
+        return self._table("prevalence", lambda: comparison.prevalence_table(self._replicates()))
 
     def differences(self) -> pd.DataFrame:
         """Differences in prevalence between sources, with intervals and adjusted p-values
-        (:func:`tm_compare.compare.prevalence.differences`)."""
+        (:func:`tm_compare.compare.prevalence.differences`); the bootstrap replicates are
+        those of :meth:`prevalence`, drawn once."""
         s = self.settings
         return self._table(
             "differences",
-            lambda: comparison.differences(
-                self.fit, self.prepared, against=s["against"], fdr=s["fdr"], **self._boot()
+            lambda: comparison.differences_table(
+                self._replicates(), against=s["against"], fdr=s["fdr"]
             ),
         )
 
@@ -521,6 +528,10 @@ class ModelResults:
     def read_labels(self, store=None) -> dict[str, pd.DataFrame]:
         """Read the labels, consensus and agreement of this model from ``store`` (a LabelStore;
         None: no labels yet, empty tables). Each call reads the store again."""
+        # The store's module imports SQLAlchemy: only here, so a view opens without it.
+        from .labels.store import AGREEMENT_COLUMNS, AGREEMENT_FIELDS, CONSENSUS_COLUMNS
+        from .labels.store import COLUMNS as LABEL_COLUMNS
+
         if store is None:
             read = {
                 "labels": pd.DataFrame(columns=list(LABEL_COLUMNS)),

@@ -299,11 +299,42 @@ def _prevalence_stat(num: np.ndarray, den: np.ndarray) -> np.ndarray:
     return out.reshape(*out.shape[:-2], -1)
 
 
-def _run(owner, fit, prepared, weighting, cluster, sources, settings: dict):
+@dataclass(frozen=True)
+class Replicates:
+    """One bootstrap drawn: its checked settings, design, resampling units and replicates.
+
+    :func:`prevalence` and :func:`differences` given the same settings draw the same
+    replicates (the seed is the same); :func:`replicates` draws them once, and
+    :func:`prevalence_table` and :func:`differences_table` read them, with the same numbers.
+    """
+
+    boot: Bootstrap
+    design: _Design
+    units: bs.Units
+    reps: tuple
+
+
+def _run(owner, fit, prepared, weighting, cluster, sources, settings: dict) -> Replicates:
     """The checked settings, the design and the bootstrap replicates of ``owner``."""
     boot = Bootstrap.of(owner, settings)
     design = _design(fit, prepared, owner, weighting, cluster, sources, boot.cap_group_share)
-    return (boot, design, *_replicates(design, boot, owner))
+    return Replicates(boot, design, *_replicates(design, boot, owner))
+
+
+@_bootstrap_keywords
+def replicates(
+    fit,
+    prepared,
+    *,
+    weighting: str = default("weighting"),
+    cluster: str | None = default("cluster"),
+    sources=None,
+    **bootstrap,
+) -> Replicates:
+    """The bootstrap of :func:`prevalence` and :func:`differences`, drawn once for both (same
+    parameters and errors as :func:`prevalence`); read it with :func:`prevalence_table` and
+    :func:`differences_table`."""
+    return _run("prevalence", fit, prepared, weighting, cluster, sources, bootstrap)
 
 
 def _replicates(design, boot: Bootstrap, owner):
@@ -399,9 +430,14 @@ def prevalence(
     ``cluster``, ``interval``, ``ci_level``, ``n_boot``, ``resampling``,
     ``model_uncertainty``, ``cap_group_share``.
     """
-    boot, design, units, reps = _run(
-        "prevalence", fit, prepared, weighting, cluster, sources, bootstrap
+    return prevalence_table(
+        _run("prevalence", fit, prepared, weighting, cluster, sources, bootstrap)
     )
+
+
+def prevalence_table(run: Replicates) -> pd.DataFrame:
+    """The table of :func:`prevalence` from its drawn bootstrap (see :func:`replicates`)."""
+    boot, design, units, reps = run.boot, run.design, run.units, run.reps
     theta_hat, theta_b, lo, hi = _summary(
         units, reps, _prevalence_stat, boot.ci, boot.interval, bs.stratum_acceleration
     )
@@ -455,10 +491,23 @@ def differences(
     different), ``test``, then the settings as in :func:`prevalence` plus ``fdr``.
     """
     owner = "differences"
+    _check_comparison(owner, against, fdr)
+    run = _run(owner, fit, prepared, weighting, cluster, sources, bootstrap)
+    return differences_table(run, against=against, fdr=fdr)
+
+
+def _check_comparison(owner: str, against, fdr) -> None:
     check(owner, "against", against)
     if not (isinstance(fdr, float) and 0 < fdr < 1):
         raise param_error(owner, "fdr", fdr, "a number strictly between 0 and 1")
-    boot, design, units, reps = _run(owner, fit, prepared, weighting, cluster, sources, bootstrap)
+
+
+def differences_table(
+    run: Replicates, *, against: str = default("against"), fdr: float = default("fdr")
+) -> pd.DataFrame:
+    """The table of :func:`differences` from its drawn bootstrap (see :func:`replicates`)."""
+    _check_comparison("differences", against, fdr)
+    boot, design, units, reps = run.boot, run.design, run.units, run.reps
     names = design.sources
     if len(names) < 2:
         msg = (
@@ -562,18 +611,23 @@ def influence(
         raise param_error(owner, "threshold", threshold, "a number strictly between 0 and 1")
     if not (isinstance(n_groups, int | np.integer) and n_groups >= 1):
         raise param_error(owner, "n_groups", n_groups, "an integer >= 1")
+    values = _cluster_values(prepared, cluster, owner, accepted="'group'")
+    # Only documents without a cluster value need their id as a label.
+    labels = values.to_numpy(dtype=object, copy=True)
+    missing = values.isna().to_numpy()
+    if missing.any():
+        ids = np.asarray(prepared.doc_ids, dtype=object)[missing]
+        labels[missing] = [f"(document {i})" for i in ids]
     frame = pd.DataFrame(
         {
-            "source": np.asarray(prepared.sources).astype(str),
+            "source": prepared.meta["source"].astype(str).to_numpy(),
             "weight": np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else 1.0,
-            "id": np.asarray(prepared.doc_ids).astype(str),
+            "group": pd.Series(labels, dtype=object),
         }
     )
-    values = _cluster_values(prepared, cluster, owner, accepted="'group'")
-    frame["group"] = values.astype(object).where(values.notna(), "(document " + frame["id"] + ")")
     table = (
         frame.groupby(["source", "group"], sort=False)
-        .agg(n_documents=("id", "size"), weight=("weight", "sum"))
+        .agg(n_documents=("weight", "size"), weight=("weight", "sum"))
         .reset_index()
     )
     table["share"] = table["weight"] / table.groupby("source")["weight"].transform("sum")

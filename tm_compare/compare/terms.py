@@ -285,14 +285,19 @@ def topic_term_counts(fit, prepared, *, weighting: str = default("weighting")) -
     check_choice("topic_term_counts", "weighting", weighting, choices("weighting"))
     check_pair("topic_term_counts", fit, prepared)
     theta = np.asarray(fit.doc_topic, dtype=float)
-    if weighting == "exposure":
-        theta = theta * np.asarray(prepared.weights, dtype=float)[:, None]
+    weights = np.asarray(prepared.weights, dtype=float) if weighting == "exposure" else None
     counts = count_matrix(prepared, _topic_term(fit, "topic_term_counts").shape[1])
-    doc_sources = np.asarray(prepared.sources).astype(str)
+    # Source codes from the column itself (no array of strings), sources in sorted order.
+    codes, names = pd.factorize(
+        prepared.meta["source"].astype(str), sort=True, use_na_sentinel=False
+    )
     by_source = {}
-    for s in sorted(set(doc_sources)):
-        rows = np.flatnonzero(doc_sources == s)
-        by_source[s] = np.asarray(counts[rows].T @ theta[rows])
+    for code, name in enumerate(names):
+        rows = np.flatnonzero(codes == code)
+        part = theta[rows]  # a copy: weighted in place, the same products as the whole at once
+        if weights is not None:
+            part *= weights[rows, None]
+        by_source[str(name)] = np.asarray(counts[rows].T @ part)
     return TopicCounts(weighting, by_source)
 
 

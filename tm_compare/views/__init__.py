@@ -7,7 +7,8 @@
 
 Every number shown comes from :mod:`tm_compare.results`; the views only arrange it. The widget
 classes are imported on first use, so that the report can draw charts without ipywidgets, and
-Altair when the first chart is built, so that importing the views stays fast.
+Altair when the first chart is built, so that importing the views stays fast; importing a view
+class starts loading Altair in a background thread (:mod:`._loading`).
 """
 
 import importlib
@@ -18,5 +19,11 @@ __all__ = sorted(_LAZY)
 
 def __getattr__(name: str):
     if name in _LAZY:
-        return getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        view = getattr(importlib.import_module(f".{_LAZY[name]}", __name__), name)
+        from ._loading import warm_up
+
+        # Altair (and for a topic view the compiled bootstrap) load in the background while
+        # the notebook goes on: the first view draws sooner (see ._loading).
+        warm_up("altair", *(["bootstrap"] if name == "TopicView" else []))
+        return view
     raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

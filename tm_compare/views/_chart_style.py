@@ -26,9 +26,9 @@ CAPTION_CHARS = 34
 
 
 def _alt():
-    import altair
+    from ._loading import altair
 
-    return altair
+    return altair()
 
 
 FIT_PICK = "fit_pick"
