@@ -46,11 +46,34 @@ def start_seed(random_state: int, start: int) -> int:
     return int(np.random.SeedSequence([int(random_state), int(start)]).generate_state(1)[0])
 
 
-def best_start(data, k: int, random_state: int, engine: str, settings: dict) -> int:
-    """The engine seed of the best of ``settings["starts"]`` starts (see module notes)."""
+def best_start(data, k: int, random_state: int, engine: str, settings: dict):
+    """(engine seed, probe state or None) of the best of ``settings["starts"]`` starts (see
+    module notes); the state goes to ``_engines.run(..., start=state)``."""
     starts = int(settings.get("starts", 1))
     if starts <= 1:
-        return int(random_state)
+        return int(random_state), None
+    n_train = int((~data.heldout).sum())
+    if _engines.can_probe(engine, settings, n_train, PROBE_UPDATES):
+        return _best_continued(data, k, random_state, engine, settings, starts)
+    return _best_refitted(data, k, random_state, engine, settings, starts), None
+
+
+def _best_continued(data, k, random_state, engine, settings, starts):
+    best = None
+    for start in range(starts):
+        seed = start_seed(random_state, start)
+        state, rows, gamma, lam = _engines.probe(
+            engine, data.matrix, data.heldout, k, seed, settings, data.vocab, PROBE_UPDATES
+        )
+        shares = gamma / gamma.sum(axis=1, keepdims=True)
+        topics = lam / lam.sum(axis=1, keepdims=True)
+        rank = (junk_of_shares(shares), -word_likelihood(data.matrix[rows], shares, topics), start)
+        if best is None or rank < best[0]:
+            best = (rank, seed, state)  # only the best state so far is kept
+    return best[1], best[2]
+
+
+def _best_refitted(data, k, random_state, engine, settings, starts):
     train = np.flatnonzero(~data.heldout)
     size = _engines.resolve_chunksize(settings["chunksize"], len(train))
     rows = train[: size * PROBE_UPDATES]
