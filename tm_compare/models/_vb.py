@@ -17,7 +17,12 @@ pass at a time, step for step:
   bound is gensim's ``bound`` with those gamma.
 
 Consuming the same random numbers in the same order, it gives gensim's results up to
-floating-point rounding (tests/test_vb.py). The kernels read the CSR arrays
+floating-point rounding (tests/test_vb.py). :func:`probe` runs the start of a fit (its first
+updates and the next chunk's E-step) for :mod:`tm_compare.models._starts`; ``fit(...,
+model=state)`` continues from it and equals a fresh fit (tests/test_starts.py). Each
+document's k x n block of ``exp_beta`` columns is C-contiguous, so numba vectorises the loops
+over its words (1.6-1.9 times faster E-steps than a strided block, measured at k = 9 on the
+20k demo). The kernels read the CSR arrays
 (``indptr``, ``indices``, ``data``) directly, so a memory-mapped matrix is never copied
 and no per-document Python objects are made. The digamma function is gensim's own series
 (AS 103 with de Moivre's expansion from 8.5 on) carried two terms further, so it agrees
