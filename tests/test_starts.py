@@ -151,3 +151,40 @@ def test_the_fit_runs_from_the_start_whose_probe_ranks_best(lee):
     # The gensim engine ranks alike (its probe draws the same numbers) and fits the same.
     other = fit_lda(lee, K, random_state=3, holdout=0.2, starts=starts, engine="gensim", **SETTINGS)
     np.testing.assert_allclose(other.topic_term, fit.topic_term, rtol=1e-8)
+
+
+def test_passes_of_three_chunks_or_fewer_keep_the_former_probe(lee):
+    # 96 training documents in chunks of 40: three chunks a pass, none left after a probe's
+    # three updates, so the former probe serves: a one-pass fit on those chunks, ranked on a
+    # fresh inference of their documents, then a fresh fit of the winner.
+    starts = 4
+    settings = {**SETTINGS, "chunksize": 40}
+    fit = fit_lda(lee, K, random_state=3, holdout=0.2, starts=starts, **settings)
+    train = [doc for doc, held in zip(lee.bow, fit.heldout, strict=True) if not held]
+    size = settings["chunksize"]
+    first = train[: size * PROBE_UPDATES]  # the chunks every start's fit begins with
+    counts = np.zeros((len(first), len(fit.vocab)))
+    for d, doc in enumerate(first):
+        for term, n in doc:
+            counts[d, term] = n
+    ranked = []
+    for start in range(starts):
+        seed = start_seed(3, start)
+        probe = _gensim(first, fit.vocab, seed, 1, size)
+        # The engine infers the shares chunk by chunk with the model's own random state.
+        gamma = np.concatenate(
+            [probe.inference(first[i : i + size])[0] for i in range(0, len(first), size)]
+        )
+        shares = gamma / gamma.sum(1, keepdims=True)
+        topics = probe.get_topics()
+        topics = topics / topics.sum(1, keepdims=True)
+        # Per-word log-likelihood by hand: sum of count * log(shares . topics) over words.
+        by_hand = (counts * np.log(shares @ topics)).sum() / counts.sum()
+        assert word_likelihood(sp.csr_matrix(counts), shares, topics) == pytest.approx(by_hand)
+        ranked.append((junk_of_shares(shares), -by_hand, start, seed))
+    winner = min(ranked)[3]
+    reference = _gensim(train, fit.vocab, winner, settings["passes"], size).get_topics()
+    np.testing.assert_allclose(
+        fit.topic_term, reference / reference.sum(1, keepdims=True), rtol=1e-10
+    )
+    assert fit.random_state == 3 and fit.settings["starts"] == starts
