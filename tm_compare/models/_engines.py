@@ -172,15 +172,20 @@ def run(
     random_state: int,
     settings: dict,
     vocab: list[str],
+    start=None,
 ) -> EngineResult:
-    """Fit one LDA model on the rows of ``matrix`` not marked ``heldout``."""
+    """Fit one LDA model on the rows of ``matrix`` not marked ``heldout``; ``start``: a
+    :func:`probe` of this very fit (same data, k, ``random_state`` and settings) to continue
+    from, which gives the same fit as none."""
     fitter = {"compiled": _compiled, "gensim": _gensim, "sklearn": _sklearn}[engine]
     train = np.flatnonzero(~heldout)
     held = np.flatnonzero(heldout)
-    s = {**DEFAULT_SETTINGS, **settings}
-    s["chunksize"] = resolve_chunksize(s["chunksize"], len(train))
+    s = _resolved(settings, len(train))
     stopper = Stopper(s["passes"], s["tol"])
-    topic_term, gamma, word_bound = fitter(matrix, train, held, k, random_state, s, vocab, stopper)
+    extra = {} if start is None else {"model": start}
+    topic_term, gamma, word_bound = fitter(
+        matrix, train, held, k, random_state, s, vocab, stopper, **extra
+    )
     topic_term = np.asarray(topic_term, dtype=np.float64)
     topic_term /= topic_term.sum(axis=1, keepdims=True)
     return EngineResult(
@@ -194,14 +199,52 @@ def run(
     )
 
 
-def _compiled(matrix, train, held, k, random_state, s, vocab, stopper):
+def _resolved(settings: dict, n_train: int) -> dict:
+    s = {**DEFAULT_SETTINGS, **settings}
+    s["chunksize"] = resolve_chunksize(s["chunksize"], n_train)
+    return s
+
+
+def can_probe(engine: str, settings: dict, n_train: int, updates: int) -> bool:
+    """Whether :func:`probe` serves: the compiled or gensim engine, more than ``updates``
+    chunks a pass."""
+    size = resolve_chunksize({**DEFAULT_SETTINGS, **settings}["chunksize"], n_train)
+    return engine in ("compiled", "gensim") and updates * size < n_train
+
+
+def probe(engine, matrix, heldout, k: int, random_state: int, settings: dict, vocab, updates):
+    """The fit from ``random_state`` stopped after ``updates`` online updates and the E-step
+    of its next chunk: (state, that chunk's rows, their gamma from that E-step, lambda).
+    The compiled engine's state continues with ``run(..., start=state)`` (see
+    :func:`tm_compare.models._vb.probe`); gensim's is None (its probe draws the same numbers,
+    so both engines rank starts alike)."""
+    train = np.flatnonzero(~heldout)
+    s = _resolved(settings, len(train))
+    alpha, eta = prior(s["alpha"], k), prior(s["eta"], k)
+    if engine == "compiled":
+        from . import _vb
+
+        state, rows, gamma = _vb.probe(matrix, train, k, random_state, s, alpha, eta, updates)
+        return state, rows, gamma, state.lam
+    model = _gensim_model(k, random_state, s, vocab)
+    size = s["chunksize"]
+    # The fit's first updates: the statistics scaled to all training documents, as in the fit
+    # (update() adds the documents it is given to numdocs).
+    model.state.numdocs = len(train) - updates * size
+    model.update(RowStream(matrix, train[: updates * size]), passes=1, eval_every=None)
+    rows = train[updates * size : (updates + 1) * size]
+    gamma = model.inference(list(RowStream(matrix, rows)))[0]  # the next E-step's draws
+    return None, rows, gamma, model.state.get_lambda()
+
+
+def _compiled(matrix, train, held, k, random_state, s, vocab, stopper, model=None):
     from . import _vb
 
     alpha, eta = prior(s["alpha"], k), prior(s["eta"], k)
-    return _vb.fit(matrix, train, held, k, random_state, s, alpha, eta, stopper)
+    return _vb.fit(matrix, train, held, k, random_state, s, alpha, eta, stopper, model)
 
 
-def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
+def _gensim_model(k, random_state, s, vocab):
     from gensim.models import LdaModel
 
     class OnePassAtATime(LdaModel):
@@ -215,7 +258,7 @@ def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
         def do_mstep(self, rho, other, extra_pass=False):
             return super().do_mstep(rho, other, extra_pass or self.later_pass)
 
-    model = OnePassAtATime(
+    return OnePassAtATime(
         id2word=dict(enumerate(vocab)),
         num_topics=k,
         chunksize=s["chunksize"],
@@ -230,6 +273,10 @@ def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
         random_state=random_state,
         dtype=np.float64,
     )
+
+
+def _gensim(matrix, train, held, k, random_state, s, vocab, stopper):
+    model = _gensim_model(k, random_state, s, vocab)
     stream = RowStream(matrix, train)
     while True:
         # gensim's own pass loop raises the offset by one per pass; so does this one.

@@ -484,10 +484,10 @@ def train(data: TrainingData, k: int, random_state: int, engine: str, settings: 
     start = time.perf_counter()
     # One math-library thread: results then do not depend on where or beside what a fit runs.
     with threadpool_limits(limits=1):
-        seed = _starts.best_start(data, k, random_state, engine, settings)
+        seed, state = _starts.best_start(data, k, random_state, engine, settings)
         engine_settings = {n: v for n, v in settings.items() if n != "starts"}
         result = _engines.run(
-            engine, data.matrix, data.heldout, k, seed, engine_settings, data.vocab
+            engine, data.matrix, data.heldout, k, seed, engine_settings, data.vocab, state
         )
     seconds = time.perf_counter() - start
     perplexity = float(np.exp(-result.word_bound))
