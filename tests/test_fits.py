@@ -361,11 +361,12 @@ def test_convergence_is_saved_and_old_files_without_it_still_load(small_fit, tmp
 
     loaded = Fit.load(small_fit.save(tmp_path / "fit.npz"))
     assert (loaded.passes_used, loaded.converged) == (1, False)
-    # A file of an earlier version: same layout, no convergence fields in its meta.
+    assert loaded.engine_seed == small_fit.engine_seed
+    # A file of an earlier version: same layout, no convergence fields or start in its meta.
     with np.load(tmp_path / "fit.npz") as npz:
         arrays = {name: npz[name] for name in npz.files if name != "checksum"}
     meta = json.loads(arrays["meta"].tobytes())
-    for name in ("passes_used", "converged", "last_change"):
+    for name in ("passes_used", "converged", "last_change", "engine_seed"):
         del meta[name]
     arrays["meta"] = np.frombuffer(json.dumps(meta, sort_keys=True).encode(), dtype=np.uint8)
     checksum = np.frombuffer(_checksum(arrays).encode(), dtype=np.uint8)
@@ -373,4 +374,5 @@ def test_convergence_is_saved_and_old_files_without_it_still_load(small_fit, tmp
         np.savez(fh, checksum=checksum, **arrays)
     old = Fit.load(tmp_path / "old.npz")
     assert old.passes_used is None and old.converged is None and np.isnan(old.last_change)
+    assert old.engine_seed == old.random_state  # unknown start: the fit's own seed
     assert old.fingerprint == small_fit.fingerprint

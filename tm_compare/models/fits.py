@@ -62,6 +62,8 @@ _META = (
 )
 # Recorded since fits stop on convergence; files written before have none of them.
 _CONVERGENCE = ("passes_used", "converged", "last_change")
+# The seed of the start that was fitted (models/_starts.py); files written before have none.
+_START = "engine_seed"
 # Saved files, fingerprints and sweep state keep the names of the first release, so that a
 # fit keeps its fingerprint (labels are stored under it) and older versions read newer files.
 _STORED_NAMES = {"random_state": "seed", "holdout_random_state": "holdout_seed", "n_terms": "topn"}
@@ -113,6 +115,11 @@ class Fit:
     last_change : float
         How much the last pass moved the topics (mean total-variation distance); nan
         when not known.
+    engine_seed : int
+        The engine seed of the start that was fitted (of the ``starts`` probed, see
+        :mod:`tm_compare.models._starts`); ``random_state`` when only one start ran or when
+        not known. Inference of new documents starts from it by default, as the fit's own
+        shares did.
     """
 
     seed = renamed_attribute("seed", "random_state")
@@ -138,6 +145,7 @@ class Fit:
         passes_used=None,
         converged=None,
         last_change=None,
+        engine_seed=None,
     ):
         self.k = int(k)
         self.random_state = int(random_state)
@@ -158,6 +166,7 @@ class Fit:
         self.passes_used = None if passes_used is None else int(passes_used)
         self.converged = None if converged is None else bool(converged)
         self.last_change = np.nan if last_change is None else float(last_change)
+        self.engine_seed = self.random_state if engine_seed is None else int(engine_seed)
         self.fingerprint = _fingerprint(
             "fit",
             engine,
@@ -246,6 +255,7 @@ class Fit:
         meta = stored({name: getattr(self, name) for name in _META})
         meta.update({name: getattr(self, name) for name in _CONVERGENCE})
         meta["last_change"] = None if np.isnan(self.last_change) else self.last_change
+        meta[_START] = self.engine_seed
         meta.update(
             format=FILE_FORMAT,
             version=FILE_VERSION,
@@ -289,7 +299,7 @@ class Fit:
         meta["settings"] = from_stored(meta["settings"])
         return cls(
             **{name: meta[name] for name in _META},
-            **{name: meta.get(name) for name in _CONVERGENCE},
+            **{name: meta.get(name) for name in (*_CONVERGENCE, _START)},
             topic_term=arrays["topic_term"],
             doc_dirichlet=arrays.get("doc_dirichlet"),
             doc_topic=arrays.get("doc_topic"),
@@ -508,6 +518,7 @@ def train(data: TrainingData, k: int, random_state: int, engine: str, settings: 
         passes_used=result.passes_used,
         converged=result.converged,
         last_change=result.last_change,
+        engine_seed=seed,
     )
 
 

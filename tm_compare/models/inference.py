@@ -135,7 +135,8 @@ def infer(
     corpus : Corpus, DataFrame or path
         The new documents (a frame or file goes through ``Corpus.from_frame``/``Corpus.read``).
     random_state : int, optional
-        Seed of gensim's random start of each document's inference (default: the fit's).
+        Seed of gensim's random start of each document's inference (default: the fit's
+        ``engine_seed``, the seed its own shares were inferred from).
         The same seed gives the same shares.
     near_duplicates : bool
         Flag copies of training documents (this tokenizes the training texts again: turn it
@@ -162,7 +163,7 @@ def infer(
         check_int("infer", "random_state", random_state, minimum=0)
         if random_state > 2**32 - 1:
             raise param_error("infer", "random_state", random_state, "an integer below 2**32")
-    seed = fit.random_state if random_state is None else int(random_state)
+    seed = fit.engine_seed if random_state is None else int(random_state)
     frame = corpus.frame.reset_index(drop=True)
     texts, clean, unknown = _prepare_like(prepared, frame)
     index = {w: i for i, w in enumerate(fit.vocab)}
