@@ -64,6 +64,15 @@ class Recorded(LdaModel):
         self.lambdas.append(self.state.get_lambda().copy())
 
 
+def _dense(docs, n_terms):
+    """Bag-of-words documents as a dense (documents x terms) count matrix."""
+    counts = np.zeros((len(docs), n_terms))
+    for d, doc in enumerate(docs):
+        for term, n in doc:
+            counts[d, term] = n
+    return counts
+
+
 def _recorded(corpus, vocab, seed, k, chunksize):
     # gensim 4.x: the training loop of LdaModel(corpus, passes=1) is update(); recording starts
     # empty before it runs.
@@ -126,10 +135,7 @@ def test_the_fit_runs_from_the_start_whose_probe_ranks_best(lee):
     size = SETTINGS["chunksize"]
     # The documents ranked: the chunk after the probe's updates.
     ranked_docs = train[PROBE_UPDATES * size : (PROBE_UPDATES + 1) * size]
-    counts = np.zeros((len(ranked_docs), len(fit.vocab)))
-    for d, doc in enumerate(ranked_docs):
-        for term, n in doc:
-            counts[d, term] = n
+    counts = _dense(ranked_docs, len(fit.vocab))
     ranked = []
     for start in range(starts):
         seed = start_seed(3, start)
@@ -163,10 +169,7 @@ def test_passes_of_three_chunks_or_fewer_keep_the_former_probe(lee):
     train = [doc for doc, held in zip(lee.bow, fit.heldout, strict=True) if not held]
     size = settings["chunksize"]
     first = train[: size * PROBE_UPDATES]  # the chunks every start's fit begins with
-    counts = np.zeros((len(first), len(fit.vocab)))
-    for d, doc in enumerate(first):
-        for term, n in doc:
-            counts[d, term] = n
+    counts = _dense(first, len(fit.vocab))
     ranked = []
     for start in range(starts):
         seed = start_seed(3, start)

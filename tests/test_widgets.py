@@ -117,15 +117,20 @@ def test_one_topic_trait_moves_every_panel(view, planted):
     assert view.terms_panel.map_chart.params.focus == 2
     assert view.sources_panel.topic_list.selected == 2
     assert "Reading topic <b>2 · w20 w21 w22</b>" in view.reading_title.value
-    expected = documents.representative_documents(fit, prepared, 2, n_docs=3)
+    _shows_what_the_plain_functions_give(view, fit, prepared, 2)
+    assert "Current labels of topic 2" in view.labels_panel.labels.value
+
+
+def _shows_what_the_plain_functions_give(view, fit, prepared, topic):
+    """The view's documents and wording of ``topic`` are those of the plain functions."""
+    expected = documents.representative_documents(fit, prepared, topic, n_docs=3)
     for source, box in view.documents_panel.columns.items():
         for title in expected[expected["source"] == source]["title"]:
             assert html.escape(title) in box.value
-    wording = terms.source_wording(fit, prepared, 2, against="each", n_terms=8)
+    wording = terms.source_wording(fit, prepared, topic, against="each", n_terms=8)
     first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
     rows = view.terms_panel.wording_chart.rows  # the rows drawn now (swapped in place)
     assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
-    assert "Current labels of topic 2" in view.labels_panel.labels.value
 
 
 def test_topics_prepared_while_the_kernel_idles_show_the_plain_functions(planted):
@@ -142,14 +147,7 @@ def test_topics_prepared_while_the_kernel_idles_show_the_plain_functions(planted
     assert set(view.documents_panel._cards) == {(view.results, t) for t in range(K)}
     assert set(view.terms_panel._prepared) == set(range(K))
     view.topic = 2  # served from what was prepared
-    expected = documents.representative_documents(fit, prepared, 2, n_docs=3)
-    for source, box in view.documents_panel.columns.items():
-        for title in expected[expected["source"] == source]["title"]:
-            assert html.escape(title) in box.value
-    wording = terms.source_wording(fit, prepared, 2, against="each", n_terms=8)
-    first = wording[(wording["source"] == "shared") & (wording["other"] == "visited")]
-    rows = view.terms_panel.wording_chart.rows
-    assert [r["term"] for r in rows[: len(first)]] == first["term"].tolist()
+    _shows_what_the_plain_functions_give(view, fit, prepared, 2)
     method, n_terms = view.terms_panel.method.value, view.results.settings["n_terms"]
     ranked = terms.term_rankings(fit, prepared, method, n_terms=n_terms)
     for term in ranked[ranked["topic"] == 2]["term"]:
