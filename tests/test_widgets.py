@@ -592,3 +592,61 @@ def test_added_panels_follow_the_one_selected_topic(view):
     assert panel.value == "topic 2" and panel in view.panels and panel in view.children
     view.topic = 3
     assert panel.value == "topic 3"
+
+
+class _RecordingComm:
+    """A comm that keeps what it is asked to send (after ``DummyComm`` of ipywidgets' own tests,
+    ipywidgets/widgets/tests/utils.py), with an id per widget as a kernel's comms have."""
+
+    kernel = "a kernel"
+    count = 0
+
+    def __init__(self, **_kwargs):
+        _RecordingComm.count += 1
+        self.comm_id = f"comm-{_RecordingComm.count}"
+        self.sent = []
+
+    def send(self, data=None, metadata=None, buffers=None):
+        self.sent.append(data)
+
+    def open(self, *args, **kwargs): ...
+    def on_msg(self, *args, **kwargs): ...
+    def close(self, *args, **kwargs): ...
+
+
+def test_a_topic_switch_reaches_the_page_in_one_message_with_the_usual_states(planted, monkeypatch):
+    # ipywidgets sends one "update" message per widget (Widget.send_state, protocol as in
+    # ipywidgets' docs, "Jupyter widgets messaging protocol"); once the page's courier has said
+    # it is ready, the same states travel together as one custom message.
+    from ipywidgets.widgets import widget as widget_module
+
+    from tm_compare.views._burst import widgets_under
+
+    monkeypatch.setattr(widget_module.comm, "create_comm", _RecordingComm)
+    fit, prepared = planted
+
+    def switched(ready: bool) -> tuple[list, list, int]:
+        view = TopicView(fit, prepared, n_boot=50, n_docs=3, poll_seconds=None, topic=0)
+        widgets = list(widgets_under(view))
+        for widget in widgets:
+            widget.comm.sent.clear()
+        if ready:  # the page's hello, as burst.js sends it
+            hello = {"method": "custom", "content": {"kind": "tmc-ready"}}
+            view._courier._handle_msg({"content": {"data": hello}, "buffers": []})
+        view.topic = 2
+        sent = [(widgets.index(w), m) for w in widgets for m in w.comm.sent]
+        ids = [w.model_id for w in widgets]
+        courier = widgets.index(view._courier)
+        view.close()
+        return ids, sent, courier
+
+    _, one_by_one, _ = switched(ready=False)
+    assert len(one_by_one) > 3 and {m["method"] for _, m in one_by_one} == {"update"}
+    usual = {i: m["state"] for i, m in one_by_one}
+
+    ids, together, courier = switched(ready=True)
+    assert len(together) == 1
+    sender, message = together[0]
+    assert sender == courier and message["method"] == "custom"
+    carried = {ids.index(model_id): state for model_id, state in message["content"]["updates"]}
+    assert carried == usual  # the same widgets, the same states, in one message

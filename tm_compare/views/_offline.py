@@ -190,6 +190,10 @@ def chart_class() -> type:
             "__module__": __name__,
             "__doc__": "JupyterChart served offline; hold_param keeps a parameter Python's, "
             "show_rows replaces the data in place.",
+            # A click's selection is not echoed back to the pages (ipywidgets echoes every
+            # change a page makes; altair's front end never redraws from this trait): one
+            # message less per topic switch.
+            "_vl_selections": traitlets.Dict().tag(sync=True, echo_update=False),
             "hold_param": _hold_param,
             "_reassert_held": traitlets.observe("_params")(_reassert),
             "show_rows": _show_rows,

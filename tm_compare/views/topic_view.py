@@ -95,6 +95,7 @@ class TopicView(w.VBox):
     ):
         from ..models.quality import topic_quality
         from ..results import ModelResults
+        from ._burst import Courier
         from ._documents_panel import DocumentsPanel
         from ._find_panel import FindPanel
         from ._sources_panel import SourcesPanel
@@ -113,6 +114,8 @@ class TopicView(w.VBox):
         if topic is not None:
             self._check(topic)
         self.panels: list = []
+        # Carries each change's widget updates to the browser in one message (see _burst.py).
+        self._courier = Courier()
         self._to_prepare: list[int] = []
         self._preparing = False
         folder = downloads.folder("report") if hasattr(downloads, "folder") else downloads
@@ -166,7 +169,7 @@ class TopicView(w.VBox):
             layout=w.Layout(align_items="center"),
         )
         super().__init__(
-            [self.header, self.find_panel, self.downloads_folder],
+            [self._courier, self.header, self.find_panel, self.downloads_folder],
             layout=w.Layout(width="100%"),
         )
         self.add_class("tmc-topic-view")
@@ -234,13 +237,14 @@ class TopicView(w.VBox):
         from ._burst import one_burst
 
         self._shown = topic
-        self.reading_title.value = (
-            f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
-            f"Reading topic <b>{esc(self.results.captions[topic])}</b>{self._badge(topic)}</div>"
-        )
-        for panel in self.panels:
-            # A panel's changes reach the browser together, once it has made them all.
-            with one_burst(panel):
+        # Every panel's changes reach the browser together, once all panels have made them.
+        with one_burst(self, self._courier):
+            self.reading_title.value = (
+                f'<div class="tmc-selected" style="font-size:15px;margin-top:10px">'
+                f"Reading topic <b>{esc(self.results.captions[topic])}</b>"
+                f"{self._badge(topic)}</div>"
+            )
+            for panel in self.panels:
                 panel.show_topic(topic)
         self._prepare_others()
 
@@ -317,9 +321,12 @@ class TopicView(w.VBox):
         # The wording follows the weighting and the pair of sources compared.
         if self.sources_panel.pair is None:
             return
-        self.terms_panel.results = self.sources_panel.results
-        self.terms_panel.pair = self.sources_panel.pair
-        self.terms_panel.show_topic(self.topic)
+        from ._burst import one_burst
+
+        with one_burst(self.terms_panel, self._courier):
+            self.terms_panel.results = self.sources_panel.results
+            self.terms_panel.pair = self.sources_panel.pair
+            self.terms_panel.show_topic(self.topic)
         self._prepare_others()
 
     def close(self):
