@@ -296,6 +296,7 @@ def test_closed_form_acceleration_equals_the_generic_jackknife():
     [
         [([0], [1]), ([0], [2]), ([1], [2])],  # differences(against="each")
         [([0], [1, 2]), ([1], [0, 2]), ([2], [0, 1])],  # differences(against="rest")
+        [([0, 2], []), ([1], [])],  # one side pooled alone (prevalence over time)
     ],
 )
 def test_pooled_acceleration_equals_the_generic_jackknife(pairs):
@@ -311,7 +312,11 @@ def test_pooled_acceleration_equals_the_generic_jackknife(pairs):
 
         def stat(num, den, combine=combine):
             return np.concatenate(
-                [combine(pooled(num, den, a), pooled(num, den, b)) for a, b in pairs], -1
+                [
+                    combine(pooled(num, den, a), pooled(num, den, b)) if b else pooled(num, den, a)
+                    for a, b in pairs
+                ],
+                -1,
             )
 
         for grouped in (None, clusters):

@@ -251,7 +251,8 @@ def pooled_acceleration(
     combine: Callable[[np.ndarray, np.ndarray], np.ndarray],
 ) -> np.ndarray:
     """BCa acceleration of ``combine(P_a, P_b)`` for each pair and topic (pairs * k,),
-    where ``P_x`` is the weighted mean of the strata ``x`` pooled: ``sum num / sum den``.
+    where ``P_x`` is the weighted mean of the strata ``x`` pooled: ``sum num / sum den``
+    (of ``P_a`` alone when the pair's second side is empty).
 
     The value :func:`jackknife_acceleration` gives for that statistic, in closed form:
     leaving out a unit of stratum s moves only the side holding s (the sides of a pair
@@ -267,17 +268,18 @@ def pooled_acceleration(
     squares = np.zeros((len(pairs), k))
     with np.errstate(invalid="ignore", divide="ignore"):
         for p, (a_side, b_side) in enumerate(pairs):
-            pooled = [num[side].sum(axis=0) / den[side].sum() for side in (a_side, b_side)]
-            for moved, side in enumerate((a_side, b_side)):
+            sides = (a_side, b_side) if len(b_side) else (a_side,)
+            pooled = [num[side].sum(axis=0) / den[side].sum() for side in sides]
+            for moved, side in enumerate(sides):
                 total, weight = num[side].sum(axis=0), den[side].sum()
                 for s in side:
                     start, stop = bounds[s]
                     n = stop - start
                     theta = total - units.num[start:stop]
                     theta /= (weight - units.den[start:stop])[:, None]
-                    if moved == 0:
+                    if len(sides) == 2 and moved == 0:
                         combine(theta, pooled[1], out=theta)
-                    else:
+                    elif len(sides) == 2:
                         combine(pooled[0], theta, out=theta)
                     # theta_(i) - mean = -U_i / (n - 1): fold the factor into the sums
                     theta -= theta.mean(axis=0)

@@ -259,32 +259,13 @@ def _period_columns(index: pd.PeriodIndex, codes: np.ndarray) -> dict:
 
 
 def _acceleration(units: bs.Units, pick_a: np.ndarray, pick_b: np.ndarray | None = None):
-    """BCa acceleration of ``pooled(a)`` (minus ``pooled(b)``) for each row of the picks.
-
-    The value :func:`._bootstrap.jackknife_acceleration` gives for the same statistic (summed
-    over strata; Efron & Tibshirani 1993, eq. 14.15), computed only where leaving a unit out
-    moves the row: a unit moves only the rows whose sides hold its cell, so the cost is the
-    units of each row's cells, not every unit for every row.
-    """
-    num, den = units.totals()
-    bounds = units.bounds()
-    sides = [(pick_a, 1.0)] if pick_b is None else [(pick_a, 1.0), (pick_b, -1.0)]
-    k = num.shape[1]
-    cubes = np.zeros((pick_a.shape[0], k))
-    squares = np.zeros((pick_a.shape[0], k))
-    for r in range(pick_a.shape[0]):
-        for pick, sign in sides:
-            cells = np.flatnonzero(pick[r])
-            total, weight = num[cells].sum(axis=0), den[cells].sum()
-            for c in cells:
-                a, b = bounds[c]
-                n = b - a
-                theta = (total - units.num[a:b]) / (weight - units.den[a:b])[:, None]
-                u = sign * (n - 1) * (theta.mean(axis=0) - theta)  # the other side: sign flips
-                cubes[r] += (u**3).sum(axis=0) / n**3
-                squares[r] += (u**2).sum(axis=0) / n**2
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return (cubes / (6 * squares**1.5)).ravel()
+    """BCa acceleration of ``pooled(a)`` (minus ``pooled(b)``) for each row of the picks: the
+    closed form of :func:`._bootstrap.pooled_acceleration`, a row's picked cells as one side."""
+    pairs = [
+        (np.flatnonzero(pick_a[r]), [] if pick_b is None else np.flatnonzero(pick_b[r]))
+        for r in range(pick_a.shape[0])
+    ]
+    return bs.pooled_acceleration(units, pairs, np.subtract)
 
 
 def _summary(cells: _Cells, statistic, pick_a, pick_b=None):
