@@ -115,11 +115,13 @@ def lab(tmp_path_factory):
 
 def open_notebook(lab, name: str, width: int = 1500):
     """A new page on notebook ``name`` of the served folder, its kernel idle; the page records
-    every request URL (``page.requests``) and every dialog (``page.dialogs``)."""
+    every request URL (``page.requests``), every dialog (``page.dialogs``) and every WebSocket
+    message it receives (``page.received``)."""
     base, _, browser = lab
     page = browser.new_page(viewport={"width": width, "height": 1100})
-    page.requests, page.dialogs = [], []
+    page.requests, page.dialogs, page.received = [], [], []
     page.on("request", lambda r: page.requests.append(r.url))
+    page.on("websocket", lambda ws: ws.on("framereceived", lambda m: page.received.append(m)))
     page.on("dialog", lambda d: (page.dialogs.append(d.message), d.dismiss()))
     page.goto(f"{base}/lab/tree/{name}?reset&token={TOKEN}")
     # The notebook's own indicator reads idle before the kernel exists: wait for the
@@ -387,6 +389,7 @@ def test_views_right_on_first_draw_find_download_and_fit(lab):
     found = view.locator(".tmc-find-results tr", has_text="3 · w30 w31 w32")
     found.first.wait_for(timeout=30_000)
     assert "6" in found.first.inner_text().split()
+    before = len(page.received)
     found.first.click()
     _wait_for_topic(page, 0, 3)
     page.wait_for_function(
@@ -399,6 +402,11 @@ def test_views_right_on_first_draw_find_download_and_fit(lab):
     assert _band_topics(view) == [3, 3]
     assert set(_map_terms(view)) <= {f"w3{i}" for i in range(10)}
     assert view.locator(".tmc-term-list .tmc-term").all_inner_texts()[5] == "w35"
+    # The switch reached the page as one message: the heading travelled with every panel's
+    # changes in the courier's burst (views/_burst.py), not in a message of its own.
+    texts = [m if isinstance(m, str) else m.decode("utf-8", "replace") for m in page.received]
+    carrying = [m for m in texts[before:] if "Reading topic" in m]
+    assert len(carrying) == 1 and "tmc-burst" in carrying[0] and "tmc-doc" in carrying[0]
 
     # 5. Another ranking from the list; its weight is a plain number under "more options".
     assert not view.locator(".tmc-weight input").is_visible()
