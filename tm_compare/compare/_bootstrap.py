@@ -277,10 +277,11 @@ def pooled_acceleration(
                     n = stop - start
                     theta = total - units.num[start:stop]
                     theta /= (weight - units.den[start:stop])[:, None]
-                    if len(sides) == 2 and moved == 0:
-                        combine(theta, pooled[1], out=theta)
-                    elif len(sides) == 2:
-                        combine(pooled[0], theta, out=theta)
+                    if len(sides) == 2:  # the other side's pooled mean stays put
+                        if moved == 0:
+                            combine(theta, pooled[1], out=theta)
+                        else:
+                            combine(pooled[0], theta, out=theta)
                     # theta_(i) - mean = -U_i / (n - 1): fold the factor into the sums
                     theta -= theta.mean(axis=0)
                     squared = theta * theta

@@ -11,6 +11,7 @@ import traitlets
 from .._deprecation import renamed_parameters
 from .._validation import param_error
 from ..options import default
+from ._burst import Courier, one_burst
 from ._cards import esc
 from ._downloads import file_stem
 
@@ -95,7 +96,6 @@ class TopicView(w.VBox):
     ):
         from ..models.quality import topic_quality
         from ..results import ModelResults
-        from ._burst import Courier
         from ._documents_panel import DocumentsPanel
         from ._find_panel import FindPanel
         from ._sources_panel import SourcesPanel
@@ -234,8 +234,6 @@ class TopicView(w.VBox):
         self._update_panels(change["new"])
 
     def _update_panels(self, topic: int) -> None:
-        from ._burst import one_burst
-
         self._shown = topic
         # Every panel's changes reach the browser together, once all panels have made them.
         with one_burst(self, self._courier):
@@ -321,8 +319,6 @@ class TopicView(w.VBox):
         # The wording follows the weighting and the pair of sources compared.
         if self.sources_panel.pair is None:
             return
-        from ._burst import one_burst
-
         with one_burst(self.terms_panel, self._courier):
             self.terms_panel.results = self.sources_panel.results
             self.terms_panel.pair = self.sources_panel.pair
